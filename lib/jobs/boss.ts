@@ -1,0 +1,61 @@
+import PgBoss from "pg-boss";
+import { env } from "@/lib/config/env";
+import { DEFAULT_QUEUE_SETTINGS, QUEUE_NAMES, queueSettings } from "@/lib/jobs/queues";
+
+export type BossRole = "sender" | "worker";
+
+type BossState = { boss?: PgBoss; starting?: Promise<PgBoss>; role?: BossRole };
+const globalForBoss = globalThis as unknown as { tesseraBoss?: BossState };
+const state: BossState = (globalForBoss.tesseraBoss ??= {});
+
+/**
+ * The process-wide pg-boss instance on the app database (schema `pgboss`),
+ * started and with every queue of queues.ts created (pg-boss 10 requires
+ * createQueue before send/work; createQueue is idempotent).
+ *
+ * A "sender" (the web app, tests) neither supervises nor schedules; the first
+ * call decides the role. Workers call getBoss("worker").
+ */
+export async function getBoss(role: BossRole = "sender"): Promise<PgBoss> {
+  if (state.boss) return state.boss;
+  if (!state.starting) {
+    state.role = role;
+    state.starting = (async () => {
+      const boss = new PgBoss({
+        connectionString: env().DATABASE_URL,
+        schema: "pgboss",
+        application_name: `tessera-${role}`,
+        max: role === "worker" ? 4 : 2,
+        supervise: role === "worker",
+        schedule: role === "worker",
+        migrate: true,
+      });
+      boss.on("error", (err: Error) => console.error(`[pg-boss] ${err.message}`));
+      await boss.start();
+      for (const name of QUEUE_NAMES) {
+        await boss.createQueue(name, { name, ...DEFAULT_QUEUE_SETTINGS, ...queueSettings[name] });
+      }
+      state.boss = boss;
+      return boss;
+    })().catch((err: unknown) => {
+      state.starting = undefined;
+      const reason = err instanceof Error ? err.message : String(err);
+      throw new Error(`pg-boss could not start on DATABASE_URL (${redact(env().DATABASE_URL)}): ${reason}`);
+    });
+  }
+  return state.starting;
+}
+
+/** Stops the instance if one was started (graceful: waits for active jobs up to timeoutMs). */
+export async function stopBoss(timeoutMs = 20_000): Promise<void> {
+  const pending = state.starting;
+  state.boss = undefined;
+  state.starting = undefined;
+  if (!pending) return;
+  const boss = await pending.catch(() => undefined);
+  await boss?.stop({ graceful: true, wait: true, timeout: timeoutMs, close: true });
+}
+
+function redact(url: string): string {
+  return url.replace(/\/\/([^:/@]+):[^@]*@/, "//$1:***@");
+}

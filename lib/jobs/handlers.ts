@@ -1,0 +1,22 @@
+import { sendMail } from "@/lib/mail/send";
+import { sendInvitationEmail } from "@/lib/auth/invitation-mail";
+import type { JobPayload, QueueName } from "@/lib/jobs/queues";
+
+export type JobContext = { id: string; queue: QueueName; log: (message: string) => void };
+export type JobHandler<Q extends QueueName> = (payload: JobPayload<Q>, context: JobContext) => Promise<void>;
+
+/**
+ * One handler per queue of queues.ts. The worker (scripts/worker.ts) parses
+ * each payload with the queue's schema before calling its handler; a thrown
+ * error fails the job and pg-boss retries it per the queue's settings.
+ */
+export const handlers: { [Q in QueueName]: JobHandler<Q> } = {
+  "mail-test": async (payload, context) => {
+    const messageId = await sendMail({ to: payload.to, subject: payload.subject, text: payload.text, headers: { "X-Tessera-Job": context.id } });
+    context.log(`sent ${messageId} to ${payload.to}`);
+  },
+  "invitation-email": async (payload, context) => {
+    const messageId = await sendInvitationEmail(payload, context.id);
+    context.log(`sent invitation ${payload.invitationId} as ${messageId}`);
+  },
+};

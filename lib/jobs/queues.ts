@@ -1,0 +1,39 @@
+import { z } from "zod";
+import { invitationEmailPayloadSchema } from "@/lib/auth/invitation-mail-schema";
+
+/**
+ * Every queue Tessera uses, with the zod schema its payload must satisfy.
+ * To add a queue: add its schema here and its handler in handlers.ts (the
+ * registry's type makes a missing handler a compile error).
+ */
+export const queueSchemas = {
+  /** Self-check: sends one mail through the worker. Used by tests and by `npm run worker -- --self-check`. */
+  "mail-test": z.object({
+    to: z.string().email(),
+    subject: z.string().min(1).max(300),
+    text: z.string().max(10_000).default("Tessera mail self-check."),
+  }),
+  /** Invitation to a workspace (lib/auth/invitation-mail.ts renders and sends it). */
+  "invitation-email": invitationEmailPayloadSchema,
+} as const;
+
+export type QueueName = keyof typeof queueSchemas;
+/** The payload a handler receives (after defaults are applied). */
+export type JobPayload<Q extends QueueName> = z.output<(typeof queueSchemas)[Q]>;
+/** What a caller passes to enqueue(). */
+export type JobInput<Q extends QueueName> = z.input<(typeof queueSchemas)[Q]>;
+
+export const QUEUE_NAMES = Object.keys(queueSchemas) as QueueName[];
+
+/** Per-queue pg-boss settings (retries, expiry, retention). */
+export type QueueSettings = { retryLimit?: number; retryDelay?: number; retryBackoff?: boolean; expireInSeconds?: number; retentionMinutes?: number };
+
+export const DEFAULT_QUEUE_SETTINGS: QueueSettings = { retryLimit: 2, retryDelay: 5, retryBackoff: true, expireInSeconds: 15 * 60 };
+
+export const queueSettings: Partial<Record<QueueName, QueueSettings>> = {
+  "mail-test": { retryLimit: 1, retryDelay: 2, expireInSeconds: 60 },
+};
+
+export function isQueueName(name: string): name is QueueName {
+  return Object.prototype.hasOwnProperty.call(queueSchemas, name);
+}

@@ -1,0 +1,143 @@
+import { DeleteObjectCommand, GetObjectCommand, HeadObjectCommand, PutObjectCommand, S3Client, S3ServiceException } from "@aws-sdk/client-s3";
+import { getSignedUrl } from "@aws-sdk/s3-request-presigner";
+import type { Readable } from "node:stream";
+import { z } from "zod";
+import { env } from "@/lib/config/env";
+
+const globalForS3 = globalThis as unknown as { tesseraS3?: S3Client };
+
+/**
+ * The S3 client from S3_* settings. Against s3rver path-style addressing is
+ * needed, and checksums only when required: otherwise streamed uploads are
+ * stored with chunk framing inside and presigned URLs sign an empty body.
+ */
+export function s3Client(): S3Client {
+  if (!globalForS3.tesseraS3) {
+    const e = env();
+    globalForS3.tesseraS3 = new S3Client({
+      endpoint: e.S3_ENDPOINT,
+      region: e.S3_REGION,
+      forcePathStyle: e.S3_FORCE_PATH_STYLE,
+      credentials: { accessKeyId: e.S3_ACCESS_KEY_ID, secretAccessKey: e.S3_SECRET_ACCESS_KEY },
+      requestChecksumCalculation: "WHEN_REQUIRED",
+      responseChecksumValidation: "WHEN_REQUIRED",
+    });
+  }
+  return globalForS3.tesseraS3;
+}
+
+export function bucket(): string {
+  return env().S3_BUCKET;
+}
+
+/** Object keys: relative, no "..", no control characters. */
+export const objectKeySchema = z
+  .string()
+  .min(1, "object key is empty")
+  .max(1024, "object key is longer than 1024 bytes")
+  .refine((k) => !k.startsWith("/"), "object key must not start with /")
+  .refine((k) => !k.split("/").includes(".."), "object key must not contain ..")
+  // eslint-disable-next-line no-control-regex
+  .refine((k) => !/[\u0000-\u001f\u007f]/.test(k), "object key contains control characters");
+
+const contentTypeSchema = z.string().min(3).max(255).regex(/^[\w.+-]+\/[\w.+-]+(\s*;.*)?$/, "not a MIME type");
+const expiresSchema = z.number().int().min(1).max(7 * 24 * 3600);
+
+function key(k: string): string {
+  const parsed = objectKeySchema.safeParse(k);
+  if (!parsed.success) throw new Error(`S3 key "${k}": ${parsed.error.issues[0]?.message}`);
+  return parsed.data;
+}
+
+function where(k: string): string {
+  return `s3://${bucket()}/${k} at ${env().S3_ENDPOINT}`;
+}
+
+function wrap(action: string, k: string, err: unknown): Error {
+  const reason = err instanceof Error ? `${err.name}: ${err.message}` : String(err);
+  return new Error(`S3 ${action} ${where(k)} failed: ${reason}`);
+}
+
+/**
+ * A presigned PUT URL. The browser must send exactly `contentType` as its
+ * Content-Type header (it is part of the signature).
+ */
+export async function presignPut(objectKey: string, contentType: string, options: { expiresInSeconds?: number } = {}): Promise<string> {
+  const k = key(objectKey);
+  const type = contentTypeSchema.parse(contentType);
+  const expiresIn = expiresSchema.parse(options.expiresInSeconds ?? 900);
+  return getSignedUrl(s3Client(), new PutObjectCommand({ Bucket: bucket(), Key: k, ContentType: type }), { expiresIn });
+}
+
+/** A presigned GET URL; `downloadName` makes browsers save it under that file name. */
+export async function presignGet(objectKey: string, options: { expiresInSeconds?: number; downloadName?: string } = {}): Promise<string> {
+  const k = key(objectKey);
+  const expiresIn = expiresSchema.parse(options.expiresInSeconds ?? 900);
+  const disposition = options.downloadName ? `attachment; filename="${options.downloadName.replace(/["\\\r\n]/g, "_")}"` : undefined;
+  return getSignedUrl(s3Client(), new GetObjectCommand({ Bucket: bucket(), Key: k, ResponseContentDisposition: disposition }), { expiresIn });
+}
+
+/** Server-side upload of a whole buffer or string. */
+export async function putObject(objectKey: string, body: Buffer | Uint8Array | string, contentType = "application/octet-stream"): Promise<{ etag: string | null }> {
+  const k = key(objectKey);
+  try {
+    const out = await s3Client().send(new PutObjectCommand({ Bucket: bucket(), Key: k, Body: body, ContentType: contentTypeSchema.parse(contentType) }));
+    return { etag: out.ETag ?? null };
+  } catch (err) {
+    throw wrap("PUT", k, err);
+  }
+}
+
+/** A readable stream of the object's bytes (for streamed intake). Throws when missing. */
+export async function getObjectStream(objectKey: string): Promise<Readable> {
+  const k = key(objectKey);
+  try {
+    const out = await s3Client().send(new GetObjectCommand({ Bucket: bucket(), Key: k }));
+    if (!out.Body) throw new Error("empty body");
+    return out.Body as Readable;
+  } catch (err) {
+    throw wrap("GET", k, err);
+  }
+}
+
+/** The whole object in memory (small objects only). */
+export async function getObjectBytes(objectKey: string): Promise<Buffer> {
+  const k = key(objectKey);
+  try {
+    const out = await s3Client().send(new GetObjectCommand({ Bucket: bucket(), Key: k }));
+    if (!out.Body) return Buffer.alloc(0);
+    return Buffer.from(await out.Body.transformToByteArray());
+  } catch (err) {
+    throw wrap("GET", k, err);
+  }
+}
+
+export type ObjectHead = { size: number; contentType: string | null; etag: string | null; lastModified: Date | null };
+
+/** Size, type and ETag of an object, or null when there is no such object. */
+export async function headObject(objectKey: string): Promise<ObjectHead | null> {
+  const k = key(objectKey);
+  try {
+    const out = await s3Client().send(new HeadObjectCommand({ Bucket: bucket(), Key: k }));
+    return { size: out.ContentLength ?? 0, contentType: out.ContentType ?? null, etag: out.ETag ?? null, lastModified: out.LastModified ?? null };
+  } catch (err) {
+    if (err instanceof S3ServiceException && (err.$metadata.httpStatusCode === 404 || err.name === "NotFound" || err.name === "NoSuchKey")) return null;
+    throw wrap("HEAD", k, err);
+  }
+}
+
+/** Deletes an object; deleting a missing object is not an error. */
+export async function deleteObject(objectKey: string): Promise<void> {
+  const k = key(objectKey);
+  try {
+    await s3Client().send(new DeleteObjectCommand({ Bucket: bucket(), Key: k }));
+  } catch (err) {
+    throw wrap("DELETE", k, err);
+  }
+}
+
+/** Closes the client's sockets (tests). */
+export function closeS3(): void {
+  globalForS3.tesseraS3?.destroy();
+  globalForS3.tesseraS3 = undefined;
+}

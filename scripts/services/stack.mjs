@@ -1,0 +1,103 @@
+// The bring-up shared by `npm start` and `npm test`: PostgreSQL, s3rver and the
+// SMTP sink, then migrations and seeders, then (optionally) the worker and
+// `next start`. Every step registers its stop with the supervisor.
+import fs from "node:fs";
+import path from "node:path";
+import { startPostgres } from "./postgres.mjs";
+import { HOST, ROOT, UserFacingError, log, run, waitForHttp, waitForPort } from "./util.mjs";
+
+const BIN = path.join(ROOT, "node_modules", ".bin");
+
+/**
+ * @typedef {{
+ *   env: Record<string,string>,            // environment for every child (ports, URLs, secrets)
+ *   storageDir: string,                    // storage/ or storage/test/
+ *   ports: {APP: {port:number, variable:string}, PG: {port:number, variable:string}, S3: {port:number, variable:string}, SMTP: {port:number, variable:string}},
+ *   supervisor: import('./supervisor.mjs').Supervisor,
+ *   logDir?: string,                       // children log to files here instead of the terminal
+ *   fastPostgres?: boolean,
+ * }} Stack
+ */
+
+function childLog(stack, name) {
+  return stack.logDir ? path.join(stack.logDir, `${name}.log`) : undefined;
+}
+
+/** PostgreSQL + s3rver + SMTP sink. */
+export async function startServices(stack) {
+  const { env, storageDir, ports, supervisor } = stack;
+  await startPostgres({
+    dataRoot: path.join(storageDir, "postgres"),
+    port: ports.PG.port,
+    portVariable: ports.PG.variable,
+    databaseUrl: env.DATABASE_URL,
+    supervisor,
+    fast: Boolean(stack.fastPostgres),
+  });
+
+  const origin = new URL(env.NEXTAUTH_URL).origin;
+  const origins = [...new Set([origin, origin.replace("127.0.0.1", "localhost"), origin.replace("localhost", "127.0.0.1")])];
+  const s3 = supervisor.spawn("s3rver", process.execPath, [path.join(ROOT, "scripts/services/s3-server.mjs")], {
+    env: { ...env, S3_DIR: path.join(storageDir, "s3"), S3_CORS_ORIGINS: origins.join(",") },
+    logFile: childLog(stack, "s3rver"),
+    ipc: true,
+  });
+  const smtp = supervisor.spawn("smtp-sink", process.execPath, [path.join(ROOT, "scripts/services/smtp-sink.mjs")], {
+    env,
+    logFile: childLog(stack, "smtp-sink"),
+    ipc: true,
+  });
+  await waitForPort(ports.S3.port, { what: `s3rver (${ports.S3.variable}=${ports.S3.port})`, alive: () => !s3.exited, timeoutMs: 20_000 });
+  await waitForPort(ports.SMTP.port, { what: `SMTP sink (${ports.SMTP.variable}=${ports.SMTP.port})`, alive: () => !smtp.exited, timeoutMs: 20_000 });
+  log("services", `s3rver on http://${HOST}:${ports.S3.port} (bucket ${env.S3_BUCKET}), SMTP sink on ${HOST}:${ports.SMTP.port}`);
+}
+
+/** sequelize-cli db:migrate, then db:seed:all (seeders are idempotent; applied ones are recorded). */
+export async function migrateAndSeed(stack) {
+  const { env } = stack;
+  const cli = path.join(BIN, "sequelize-cli");
+  const started = Date.now();
+  try {
+    const { stdout } = await run(cli, ["db:migrate"], { env });
+    const applied = stdout.split("\n").filter((l) => /migrated/.test(l)).length;
+    log("db", applied ? `applied ${applied} migration(s)` : "migrations up to date");
+  } catch (err) {
+    throw new UserFacingError(`Migrations failed (npx sequelize-cli db:migrate): ${err.message}`);
+  }
+  try {
+    const { stdout } = await run(cli, ["db:seed:all"], { env });
+    const seeded = stdout.split("\n").filter((l) => /migrated/.test(l)).length;
+    log("db", seeded ? `ran ${seeded} seeder(s)` : "seeders up to date");
+  } catch (err) {
+    throw new UserFacingError(`Seeding failed (npx sequelize-cli db:seed:all): ${err.message}`);
+  }
+  log("db", `migrate + seed took ${((Date.now() - started) / 1000).toFixed(1)} s`);
+}
+
+/** `npm run worker` equivalent. Resolves once it logged that it is ready. */
+export async function startWorker(stack, name = "worker") {
+  const { env, supervisor } = stack;
+  const logFile = childLog(stack, name);
+  const record = supervisor.spawn(name, path.join(BIN, "tsx"), [path.join(ROOT, "scripts/worker.ts")], { env, logFile, stopTimeoutMs: 30_000 });
+  // Ready when it has logged "ready" (file) — or give it a moment when logging to the terminal.
+  const deadline = Date.now() + 60_000;
+  while (Date.now() < deadline) {
+    if (record.exited) throw new UserFacingError(`The worker exited during start-up (exit ${record.code})${logFile ? `; see ${path.relative(ROOT, logFile)}` : ""}.`);
+    if (!logFile) break;
+    if (fs.existsSync(logFile) && /\] ready:/.test(fs.readFileSync(logFile, "utf8"))) break;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  return record;
+}
+
+/** `next start -H 127.0.0.1 -p APP_PORT`; resolves when it answers HTTP. */
+export async function startNext(stack) {
+  const { env, ports, supervisor } = stack;
+  const record = supervisor.spawn("next", path.join(BIN, "next"), ["start", "-H", HOST, "-p", String(ports.APP.port)], {
+    env: { ...env, NODE_ENV: "production" },
+    logFile: childLog(stack, "next"),
+  });
+  const url = `http://${HOST}:${ports.APP.port}`;
+  await waitForHttp(url, { what: "next start", alive: () => !record.exited, timeoutMs: 90_000 });
+  return { record, url };
+}
