@@ -1,8 +1,26 @@
-export default function Home() {
+import { redirect } from "next/navigation";
+import { getSessionUser } from "@/lib/auth/session";
+import { firstWorkspaceSlug } from "@/lib/auth/queries";
+import { Wordmark } from "@/components/ui/logo";
+import { SignOutButton } from "@/components/shell/sign-out-button";
+
+export const dynamic = "force-dynamic";
+
+export default async function Home() {
+  if (!(await getSessionUser())) redirect("/sign-in");
+  const slug = await firstWorkspaceSlug();
+  if (slug) redirect(`/w/${slug}/desk`);
   return (
-    <main className="mx-auto max-w-3xl p-8">
-      <h1 className="text-2xl font-semibold text-ink">Tessera</h1>
-      <p className="mt-2 text-ink-600">A data room for regional economists.</p>
+    <main className="mx-auto mt-24 max-w-lg rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
+      <Wordmark className="text-ink" />
+      <h1 className="mt-6 text-xl font-semibold text-ink">You are not in a workspace yet</h1>
+      <p className="mt-2 text-sm text-ink-500">
+        Workspaces are joined by invitation. Ask a manager of your team to invite this e-mail address, then open the link in
+        the e-mail.
+      </p>
+      <div className="mt-6 bg-ink p-2 inline-block rounded-md">
+        <SignOutButton />
+      </div>
     </main>
   );
 }

@@ -1,0 +1,5 @@
+import { Providers } from "@/components/providers";
+
+export default function AppGroupLayout({ children }: { children: React.ReactNode }) {
+  return <Providers>{children}</Providers>;
+}

@@ -1,0 +1,31 @@
+import type { Metadata } from "next";
+import { AuditTrail } from "@/components/team/audit-trail";
+import { InvitationsPanel } from "@/components/team/invitations-panel";
+import { MembersTable } from "@/components/team/members-table";
+import { Forbidden } from "@/components/ui/forbidden";
+import { PageHeader } from "@/components/ui/page-header";
+import { guardPage } from "@/lib/auth/page";
+import { getTeam } from "@/lib/auth/queries";
+
+export const metadata: Metadata = { title: "Team" };
+
+export default async function TeamPage({ params }: { params: Promise<{ slug: string }> }) {
+  const { slug } = await params;
+  const team = await guardPage(`/w/${slug}/team`, () => getTeam(slug));
+  if (!team.ok) return <Forbidden message={team.message} backHref={`/w/${slug}/desk`} />;
+  const { workspace, me, members, invitations, auditTrail } = team.value;
+  return (
+    <div>
+      <PageHeader title="Team" eyebrow={workspace.name}>
+        Who belongs to this workspace and what each person may do. A workspace always keeps at least one manager.
+      </PageHeader>
+      <div className="grid gap-6 lg:grid-cols-[minmax(0,3fr)_minmax(0,2fr)]">
+        <MembersTable slug={workspace.slug} meId={me.id} initial={members} />
+        <InvitationsPanel slug={workspace.slug} initial={invitations} />
+      </div>
+      <div className="mt-6">
+        <AuditTrail slug={workspace.slug} initial={auditTrail} />
+      </div>
+    </div>
+  );
+}

@@ -1,0 +1,25 @@
+import { errorResponse, invalidBody, jsonError } from "@/lib/auth/route";
+import { acceptInvitationSchema } from "@/lib/auth/schemas";
+import { getSessionUser } from "@/lib/auth/session";
+import { acceptInvitation, InvitationError } from "@/lib/auth/team";
+
+// Belongs to no workspace yet: the invitation token is the credential, checked
+// inside acceptInvitation together with the session (for existing accounts).
+export async function POST(request: Request): Promise<Response> {
+  let raw: unknown;
+  try {
+    raw = await request.json();
+  } catch {
+    return jsonError(400, "The request body is not valid JSON.", { field: null });
+  }
+  const parsed = acceptInvitationSchema.safeParse(raw);
+  if (!parsed.success) return invalidBody(parsed.error);
+  try {
+    const session = await getSessionUser();
+    const result = await acceptInvitation({ ...parsed.data, sessionUserId: session?.id ?? null });
+    return Response.json(result);
+  } catch (error) {
+    if (error instanceof InvitationError) return jsonError(error.status, error.message, { field: error.field });
+    return errorResponse(error);
+  }
+}

@@ -1,0 +1,6 @@
+import { memberRoute } from "@/lib/auth/route";
+import { listAudit } from "@/lib/auth/team";
+
+export const GET = memberRoute({ capability: "team.manage" }, async ({ member }) =>
+  Response.json({ events: await listAudit(member.workspace.id) }),
+);

@@ -1,0 +1,6 @@
+import { memberRoute } from "@/lib/auth/route";
+import { listMembers } from "@/lib/auth/team";
+
+export const GET = memberRoute({ capability: "team.manage" }, async ({ member }) =>
+  Response.json({ members: await listMembers(member.workspace.id) }),
+);

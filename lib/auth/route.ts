@@ -1,0 +1,80 @@
+import type { z } from "zod";
+import { AccessError, ConflictError, NotFoundError } from "./errors";
+import { requireMember, type MemberContext } from "./guard";
+import type { Capability } from "./roles";
+
+// Route-handler wrapper: the guard runs first, then the body is parsed with
+// its zod schema, so neither can be forgotten in a handler.
+
+type Params = Record<string, string | string[] | undefined>;
+type RouteContext = { params: Promise<Params> };
+
+export type MemberHandler<Body> = (args: {
+  request: Request;
+  member: MemberContext;
+  body: Body;
+  params: Params;
+}) => Promise<Response>;
+
+export function jsonError(status: number, message: string, extra: Record<string, unknown> = {}): Response {
+  return Response.json({ error: message, ...extra }, { status });
+}
+
+/** Turns a zod failure into a 400 naming the first bad field. */
+export function invalidBody(error: z.ZodError): Response {
+  const first = error.issues[0];
+  const field = first?.path.map(String).join(".") || null;
+  const message = first ? (field ? `${field}: ${first.message}` : first.message) : "The request body is not valid.";
+  return jsonError(400, message, {
+    field,
+    issues: error.issues.map((i) => ({ field: i.path.map(String).join("."), message: i.message })),
+  });
+}
+
+/** Maps the errors our domain code throws to responses; anything else is logged and becomes a 500. */
+export function errorResponse(error: unknown): Response {
+  if (error instanceof AccessError) return jsonError(error.status, error.message);
+  if (error instanceof ConflictError || error instanceof NotFoundError) return jsonError(error.status, error.message);
+  console.error("[tessera] route handler failed", error);
+  return jsonError(500, "Something went wrong on our side. Try again; if it keeps happening, tell your manager.");
+}
+
+async function readJson(request: Request): Promise<{ ok: true; value: unknown } | { ok: false }> {
+  const text = await request.text();
+  if (text.trim() === "") return { ok: true, value: {} };
+  try {
+    return { ok: true, value: JSON.parse(text) };
+  } catch {
+    return { ok: false };
+  }
+}
+
+export function memberRoute<Schema extends z.ZodType | undefined = undefined>(
+  options: { capability: Capability; body?: Schema; workspaceParam?: string },
+  handler: MemberHandler<Schema extends z.ZodType ? z.infer<Schema> : undefined>,
+) {
+  return async (request: Request, context: RouteContext): Promise<Response> => {
+    try {
+      const params = await context.params;
+      const ref = params[options.workspaceParam ?? "slug"];
+      if (typeof ref !== "string") return jsonError(404, "There is no such workspace, or you are not a member of it.");
+      const member = await requireMember(ref, options.capability);
+      let body: unknown = undefined;
+      if (options.body) {
+        const raw = await readJson(request);
+        if (!raw.ok) return jsonError(400, "The request body is not valid JSON.", { field: null });
+        const parsed = options.body.safeParse(raw.value);
+        if (!parsed.success) return invalidBody(parsed.error);
+        body = parsed.data;
+      }
+      return await handler({
+        request,
+        member,
+        body: body as Schema extends z.ZodType ? z.infer<Schema> : undefined,
+        params,
+      });
+    } catch (error) {
+      return errorResponse(error);
+    }
+  };
+}

@@ -1,0 +1,409 @@
+import { QueryTypes, type Transaction } from "sequelize";
+import { db } from "@/lib/db";
+import { env } from "@/lib/config/env";
+import { models } from "@/models";
+import { normaliseEmail } from "@/models/user";
+import { audit } from "./audit";
+import { ConflictError, NotFoundError } from "./errors";
+import type { MemberContext } from "./guard";
+import { enqueue } from "@/lib/jobs/enqueue";
+import { hashPassword } from "./passwords";
+import { ROLE_LABELS, isRole, type Role } from "./roles";
+import { createToken, hashToken, invitationExpiry, looksLikeToken } from "./tokens";
+
+// Team operations. Every exported mutation takes a MemberContext, which only
+// the guard produces, so none can run for a caller who was not authorised.
+// Reads return plain objects (never model instances) for the client.
+
+export type MemberRow = { userId: number; name: string; email: string; role: Role; joinedAt: string };
+export type InvitationRow = {
+  id: number;
+  email: string;
+  role: Role;
+  expiresAt: string;
+  createdAt: string;
+  invitedBy: string | null;
+};
+export type AuditRow = {
+  id: string;
+  at: string;
+  action: string;
+  actor: string | null;
+  target: string | null;
+  detail: Record<string, unknown>;
+};
+
+export async function listMembers(workspaceId: number): Promise<MemberRow[]> {
+  const rows = await db().query<{ user_id: number; name: string; email: string; role: string; created_at: Date }>(
+    `SELECT m.user_id, u.name, u.email, m.role, m.created_at
+       FROM memberships m JOIN users u ON u.id = m.user_id
+      WHERE m.workspace_id = $1
+      ORDER BY CASE m.role WHEN 'manager' THEN 0 WHEN 'steward' THEN 1 WHEN 'economist' THEN 2 ELSE 3 END, u.name`,
+    { bind: [workspaceId], type: QueryTypes.SELECT },
+  );
+  return rows.flatMap((r) =>
+    isRole(r.role)
+      ? [{ userId: r.user_id, name: r.name, email: r.email, role: r.role, joinedAt: new Date(r.created_at).toISOString() }]
+      : [],
+  );
+}
+
+export async function countMembers(workspaceId: number): Promise<number> {
+  const { Membership } = models();
+  return Membership.count({ where: { workspaceId } });
+}
+
+export async function listPendingInvitations(workspaceId: number): Promise<InvitationRow[]> {
+  const rows = await db().query<{
+    id: number;
+    email: string;
+    role: string;
+    expires_at: Date;
+    created_at: Date;
+    inviter: string | null;
+  }>(
+    `SELECT i.id, i.email, i.role, i.expires_at, i.created_at, u.name AS inviter
+       FROM invitations i LEFT JOIN users u ON u.id = i.invited_by
+      WHERE i.workspace_id = $1 AND i.accepted_at IS NULL AND i.revoked_at IS NULL AND i.expires_at > now()
+      ORDER BY i.created_at DESC`,
+    { bind: [workspaceId], type: QueryTypes.SELECT },
+  );
+  return rows.flatMap((r) =>
+    isRole(r.role)
+      ? [
+          {
+            id: r.id,
+            email: r.email,
+            role: r.role,
+            expiresAt: new Date(r.expires_at).toISOString(),
+            createdAt: new Date(r.created_at).toISOString(),
+            invitedBy: r.inviter,
+          },
+        ]
+      : [],
+  );
+}
+
+/**
+ * The workspace's own events plus the sign-ins (which belong to no workspace)
+ * of people who are members now. Sign-in failures for addresses that are not
+ * members stay out: they are none of this workspace's business.
+ */
+export async function listAudit(workspaceId: number, limit = 100): Promise<AuditRow[]> {
+  const rows = await db().query<{
+    id: string;
+    at: Date;
+    action: string;
+    actor_name: string | null;
+    actor_email: string | null;
+    target: string | null;
+    detail: Record<string, unknown>;
+  }>(
+    `SELECT e.id, e.at, e.action, u.name AS actor_name, e.actor_email, e.target, e.detail
+       FROM audit_events e LEFT JOIN users u ON u.id = e.actor_id
+      WHERE e.workspace_id = $1
+         OR (e.workspace_id IS NULL AND e.action LIKE 'sign-in.%' AND e.actor_email IN (
+               SELECT mu.email FROM memberships mm JOIN users mu ON mu.id = mm.user_id WHERE mm.workspace_id = $1))
+      ORDER BY e.at DESC, e.id DESC
+      LIMIT $2`,
+    { bind: [workspaceId, limit], type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => ({
+    id: String(r.id),
+    at: new Date(r.at).toISOString(),
+    action: r.action,
+    actor: r.actor_name ? `${r.actor_name} (${r.actor_email ?? ""})` : r.actor_email,
+    target: r.target,
+    detail: r.detail ?? {},
+  }));
+}
+
+/** Locks the workspace row so membership changes in one workspace happen one at a time. */
+async function lockWorkspace(workspaceId: number, transaction: Transaction): Promise<void> {
+  await db().query("SELECT id FROM workspaces WHERE id = $1 FOR UPDATE", { bind: [workspaceId], transaction });
+}
+
+async function managerCount(workspaceId: number, transaction: Transaction): Promise<number> {
+  const { Membership } = models();
+  return Membership.count({ where: { workspaceId, role: "manager" }, transaction });
+}
+
+async function findMembership(workspaceId: number, userId: number, transaction: Transaction) {
+  const { Membership, User } = models();
+  const membership = await Membership.findOne({ where: { workspaceId, userId }, transaction });
+  if (!membership) throw new NotFoundError("That person is not a member of this workspace.");
+  const user = await User.findByPk(userId, { attributes: ["email", "name"], transaction });
+  return { membership, email: user?.email ?? null };
+}
+
+export async function changeRole(actor: MemberContext, userId: number, role: Role): Promise<MemberRow[]> {
+  const workspaceId = actor.workspace.id;
+  await db().transaction(async (transaction) => {
+    await lockWorkspace(workspaceId, transaction);
+    const { membership, email } = await findMembership(workspaceId, userId, transaction);
+    const from = membership.role;
+    if (from === role) return;
+    if (from === "manager" && (await managerCount(workspaceId, transaction)) <= 1) {
+      throw new ConflictError("This is the workspace's last manager. Make someone else a manager first.");
+    }
+    membership.role = role;
+    await membership.save({ transaction });
+    await audit(
+      {
+        workspaceId,
+        actorId: actor.user.id,
+        actorEmail: actor.user.email,
+        action: "member.role-changed",
+        target: email,
+        detail: { from, to: role },
+      },
+      transaction,
+    );
+  });
+  return listMembers(workspaceId);
+}
+
+export async function removeMember(actor: MemberContext, userId: number): Promise<MemberRow[]> {
+  const workspaceId = actor.workspace.id;
+  await db().transaction(async (transaction) => {
+    await lockWorkspace(workspaceId, transaction);
+    const { membership, email } = await findMembership(workspaceId, userId, transaction);
+    if (membership.role === "manager" && (await managerCount(workspaceId, transaction)) <= 1) {
+      throw new ConflictError("This is the workspace's last manager and cannot be removed. Make someone else a manager first.");
+    }
+    const role = membership.role;
+    await membership.destroy({ transaction });
+    await audit(
+      {
+        workspaceId,
+        actorId: actor.user.id,
+        actorEmail: actor.user.email,
+        action: "member.removed",
+        target: email,
+        detail: { role },
+      },
+      transaction,
+    );
+  });
+  return listMembers(workspaceId);
+}
+
+export function invitationUrl(token: string): string {
+  return new URL(`/invite/${token}`, env().NEXTAUTH_URL).toString();
+}
+
+/**
+ * Creates an invitation and queues its e-mail. Older pending invitations to the
+ * same address in this workspace are revoked so only the newest link works.
+ * Returns the token only so tests can follow the link; callers must not show it.
+ */
+export async function createInvitation(
+  actor: MemberContext,
+  rawEmail: string,
+  role: Role,
+): Promise<{ invitation: InvitationRow; token: string }> {
+  const workspaceId = actor.workspace.id;
+  const email = normaliseEmail(rawEmail);
+  const { token, hash } = createToken();
+  const expiresAt = invitationExpiry();
+  const { Invitation } = models();
+
+  const created = await db().transaction(async (transaction) => {
+    await lockWorkspace(workspaceId, transaction);
+    const [existing] = await db().query<{ id: number }>(
+      `SELECT m.id FROM memberships m JOIN users u ON u.id = m.user_id WHERE m.workspace_id = $1 AND u.email = $2`,
+      { bind: [workspaceId, email], type: QueryTypes.SELECT, transaction },
+    );
+    if (existing) throw new ConflictError(`${email} is already a member of this workspace.`);
+    await Invitation.update(
+      { revokedAt: new Date() },
+      { where: { workspaceId, email, acceptedAt: null, revokedAt: null }, transaction },
+    );
+    const invitation = await Invitation.create(
+      { workspaceId, email, role, tokenHash: hash, expiresAt, invitedBy: actor.user.id },
+      { transaction },
+    );
+    await audit(
+      {
+        workspaceId,
+        actorId: actor.user.id,
+        actorEmail: actor.user.email,
+        action: "invitation.sent",
+        target: email,
+        detail: { role, invitationId: invitation.id },
+      },
+      transaction,
+    );
+    return invitation;
+  });
+
+  // Queued after the commit: the worker must find the invitation it mails about.
+  await enqueue("invitation-email", {
+    invitationId: created.id,
+    to: email,
+    workspaceName: actor.workspace.name,
+    roleLabel: ROLE_LABELS[role],
+    inviterName: actor.user.name,
+    acceptUrl: invitationUrl(token),
+    expiresAt: expiresAt.toISOString(),
+  });
+
+  return {
+    token,
+    invitation: {
+      id: created.id,
+      email,
+      role,
+      expiresAt: expiresAt.toISOString(),
+      createdAt: created.createdAt.toISOString(),
+      invitedBy: actor.user.name,
+    },
+  };
+}
+
+export async function revokeInvitation(actor: MemberContext, invitationId: number): Promise<void> {
+  const { Invitation } = models();
+  const [count] = await Invitation.update(
+    { revokedAt: new Date() },
+    { where: { id: invitationId, workspaceId: actor.workspace.id, acceptedAt: null, revokedAt: null } },
+  );
+  if (count === 0) throw new NotFoundError("That invitation is not pending in this workspace.");
+}
+
+export type InvitationState = "pending" | "expired" | "used" | "revoked" | "unknown";
+export type InvitationView = {
+  state: InvitationState;
+  workspaceName?: string;
+  workspaceSlug?: string;
+  email?: string;
+  role?: Role;
+  expiresAt?: string;
+  accountExists?: boolean;
+};
+
+function stateOf(inv: { acceptedAt: Date | null; revokedAt: Date | null; expiresAt: Date }, now: Date): InvitationState {
+  if (inv.acceptedAt) return "used";
+  if (inv.revokedAt) return "revoked";
+  if (inv.expiresAt.getTime() <= now.getTime()) return "expired";
+  return "pending";
+}
+
+/** What the accept page shows for a token. The token is the only credential here. */
+export async function viewInvitation(token: string, now: Date = new Date()): Promise<InvitationView> {
+  if (!looksLikeToken(token)) return { state: "unknown" };
+  const { Invitation, Workspace, User } = models();
+  const inv = await Invitation.findOne({ where: { tokenHash: hashToken(token) } });
+  if (!inv || !isRole(inv.role)) return { state: "unknown" };
+  const state = stateOf(inv, now);
+  if (state !== "pending") return { state };
+  const workspace = await Workspace.findByPk(inv.workspaceId, { attributes: ["name", "slug"] });
+  const account = await User.findOne({ where: { email: inv.email }, attributes: ["id"] });
+  return {
+    state,
+    workspaceName: workspace?.name,
+    workspaceSlug: workspace?.slug,
+    email: inv.email,
+    role: inv.role,
+    expiresAt: inv.expiresAt.toISOString(),
+    accountExists: Boolean(account),
+  };
+}
+
+export const INVITATION_MESSAGES: Record<Exclude<InvitationState, "pending">, string> = {
+  expired: "This invitation has expired. Ask the manager who invited you to send a new one.",
+  used: "This invitation has already been used. If that was you, sign in; otherwise ask for a new invitation.",
+  revoked: "This invitation was withdrawn, usually because a newer one was sent. Use the latest e-mail, or ask for a new invitation.",
+  unknown: "This invitation link is not valid. Check that you copied the whole link from the e-mail.",
+};
+
+export class InvitationError extends Error {
+  constructor(
+    readonly status: 400 | 401 | 403 | 409 | 410,
+    message: string,
+    readonly field: string | null = null,
+  ) {
+    super(message);
+    this.name = "InvitationError";
+  }
+}
+
+/**
+ * Accepts an invitation. Someone without an account gives a name and password
+ * and the account is created; someone with an account must be signed in as the
+ * invited address. Single use: the row is locked and marked accepted in the
+ * same transaction that creates the membership.
+ */
+export async function acceptInvitation(input: {
+  token: string;
+  sessionUserId: number | null;
+  name?: string;
+  password?: string;
+}): Promise<{ workspaceSlug: string; email: string; createdAccount: boolean }> {
+  if (!looksLikeToken(input.token)) throw new InvitationError(410, INVITATION_MESSAGES.unknown);
+  const { Invitation, Membership, User, Workspace } = models();
+  return db().transaction(async (transaction) => {
+    const inv = await Invitation.findOne({
+      where: { tokenHash: hashToken(input.token) },
+      lock: transaction.LOCK.UPDATE,
+      transaction,
+    });
+    if (!inv || !isRole(inv.role)) throw new InvitationError(410, INVITATION_MESSAGES.unknown);
+    const state = stateOf(inv, new Date());
+    if (state !== "pending") throw new InvitationError(410, INVITATION_MESSAGES[state]);
+
+    let user = await User.findOne({ where: { email: inv.email }, transaction });
+    let createdAccount = false;
+    if (user) {
+      if (input.sessionUserId === null) {
+        throw new InvitationError(401, `An account for ${inv.email} already exists. Sign in with it to accept.`);
+      }
+      if (input.sessionUserId !== user.id) {
+        throw new InvitationError(
+          403,
+          `This invitation is for ${inv.email}, but you are signed in with another account. Sign out, then open the link again.`,
+        );
+      }
+    } else {
+      if (!input.name) throw new InvitationError(400, "name: Enter your name.", "name");
+      if (!input.password) throw new InvitationError(400, "password: Choose a password.", "password");
+      user = await User.create(
+        { email: inv.email, name: input.name, passwordHash: await hashPassword(input.password) },
+        { transaction },
+      );
+      createdAccount = true;
+    }
+
+    await db().query("SELECT id FROM workspaces WHERE id = $1 FOR UPDATE", { bind: [inv.workspaceId], transaction });
+    const existing = await Membership.findOne({ where: { workspaceId: inv.workspaceId, userId: user.id }, transaction });
+    if (existing) {
+      throw new InvitationError(409, "You are already a member of this workspace. Sign in to open it.");
+    }
+    await Membership.create({ workspaceId: inv.workspaceId, userId: user.id, role: inv.role }, { transaction });
+    inv.acceptedAt = new Date();
+    inv.acceptedBy = user.id;
+    await inv.save({ transaction });
+    await audit(
+      {
+        workspaceId: inv.workspaceId,
+        actorId: user.id,
+        actorEmail: user.email,
+        action: "invitation.accepted",
+        target: user.email,
+        detail: { role: inv.role, invitationId: inv.id, createdAccount },
+      },
+      transaction,
+    );
+    const workspace = await Workspace.findByPk(inv.workspaceId, { attributes: ["slug"], transaction });
+    return { workspaceSlug: workspace?.slug ?? "", email: user.email, createdAccount };
+  });
+}
+
+/** Workspaces the user belongs to, for the switcher and the "/" redirect. */
+export async function workspacesOf(userId: number): Promise<{ slug: string; name: string; role: Role }[]> {
+  const rows = await db().query<{ slug: string; name: string; role: string }>(
+    `SELECT w.slug, w.name, m.role FROM memberships m JOIN workspaces w ON w.id = m.workspace_id
+      WHERE m.user_id = $1 ORDER BY m.created_at, w.name`,
+    { bind: [userId], type: QueryTypes.SELECT },
+  );
+  return rows.flatMap((r) => (isRole(r.role) ? [{ slug: r.slug, name: r.name, role: r.role }] : []));
+}

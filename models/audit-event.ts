@@ -1,0 +1,22 @@
+import { Model, type CreationOptional, type InferAttributes, type InferCreationAttributes } from "sequelize";
+
+export type AuditAction =
+  | "sign-in.succeeded"
+  | "sign-in.failed"
+  | "sign-in.throttled"
+  | "invitation.sent"
+  | "invitation.accepted"
+  | "member.role-changed"
+  | "member.removed";
+
+export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreationAttributes<AuditEvent>> {
+  declare id: CreationOptional<string>;
+  /** Null for events that belong to no single workspace (sign-ins). */
+  declare workspaceId: number | null;
+  declare actorId: number | null;
+  declare actorEmail: string | null;
+  declare action: AuditAction;
+  declare target: string | null;
+  declare detail: CreationOptional<Record<string, unknown>>;
+  declare at: CreationOptional<Date>;
+}

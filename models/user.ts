@@ -1,0 +1,15 @@
+import { Model, type CreationOptional, type InferAttributes, type InferCreationAttributes } from "sequelize";
+
+export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
+  declare id: CreationOptional<number>;
+  declare email: string;
+  declare name: string;
+  declare passwordHash: string;
+  declare createdAt: CreationOptional<Date>;
+  declare updatedAt: CreationOptional<Date>;
+}
+
+/** Lowercased and trimmed: the one spelling of an address used for lookups and uniqueness. */
+export function normaliseEmail(email: string): string {
+  return email.trim().toLowerCase();
+}
