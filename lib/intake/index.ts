@@ -1,0 +1,23 @@
+/**
+ * Intake: pure, database-free checks of uploaded boundaries and panels.
+ * The ingest (lib/intake queries/actions, worker) calls these and stores what they return.
+ */
+export { Utf8StreamDecoder, type EncodingProblem, type EncodingSummary } from "./encoding";
+export { sniffDelimiter, sniffNewline, delimiterName, DELIMITERS, type Delimiter, type DelimiterGuess } from "./sniff";
+export { parsePeriod, sortPeriods, yearPeriod, quarterPeriod, monthPeriod, type Period, type PeriodParse, type Granularity } from "./periods";
+export { parseNumber, isMissingToken, type DecimalSeparator, type NumberParse } from "./numbers";
+export { suggestMapping, requiredColumns, normaliseHeader, type MappingSuggestion } from "./mapping";
+export { validatePanel, validatePanelStream, type ValidatePanelInput } from "./validate";
+export { readPanelHeader, type PanelPreview } from "./preview";
+export {
+  loadBoundaries,
+  inspectBoundaries,
+  boundaryIds,
+  BoundaryError,
+  type LoadedBoundaries,
+  type BoundarySummary,
+  type BoundaryObjectSummary,
+  type PropertySummary,
+} from "./boundaries";
+export { ROW_NUMBERING, type PanelReport, type IntakeProblem, type Observation, type DuplicateExample } from "./report";
+export * from "./schemas";

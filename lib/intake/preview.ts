@@ -1,0 +1,64 @@
+/**
+ * A cheap look at the start of a panel (first 64 KiB only) for the mapping
+ * form: delimiter guess, header, a few sample rows and a suggested mapping.
+ */
+import Papa from "papaparse";
+import { Utf8StreamDecoder } from "./encoding";
+import { suggestMapping, type MappingSuggestion } from "./mapping";
+import type { PanelLayout } from "./schemas";
+import { sniffDelimiter, sniffNewline, type DelimiterGuess } from "./sniff";
+
+export interface PanelPreview {
+  bom: boolean;
+  /** Set when the sampled bytes are not valid UTF-8 (the full check happens in validation). */
+  encodingProblem: string | null;
+  delimiter: DelimiterGuess;
+  header: string[];
+  sampleRows: string[][];
+  suggestion: MappingSuggestion;
+}
+
+const PREVIEW_BYTES = 64 * 1024;
+
+/**
+ * Reads the first 64 KiB of `source` (then stops reading it) and suggests how
+ * to read the panel.
+ */
+export async function readPanelHeader(source: AsyncIterable<Uint8Array>, layout?: PanelLayout, sampleSize = 5): Promise<PanelPreview> {
+  const decoder = new Utf8StreamDecoder(1);
+  let text = "";
+  let bytes = 0;
+  let complete = true;
+  for await (const chunk of source) {
+    text += decoder.write(chunk);
+    bytes += chunk.length;
+    if (bytes >= PREVIEW_BYTES) {
+      // Leaving the loop early ends (destroys) a Node stream source.
+      complete = false;
+      break;
+    }
+  }
+  if (complete) text += decoder.end();
+  const encoding = decoder.result();
+  const problem = encoding.problems[0];
+  const encodingProblem =
+    encoding.fatal ?? (problem ? `invalid UTF-8: byte 0x${problem.byte} at byte offset ${problem.byteOffset} (file line ${problem.line})` : null);
+  const delimiter = sniffDelimiter(text, complete);
+  const parsed = Papa.parse<string[]>(text, {
+    delimiter: delimiter.delimiter,
+    newline: sniffNewline(text),
+    preview: sampleSize + 1,
+    skipEmptyLines: true,
+  });
+  const [headerRow = [], ...rows] = parsed.data;
+  const header = headerRow.map((field) => field.trim());
+  return {
+    bom: encoding.bom,
+    encodingProblem,
+    delimiter,
+    header,
+    // The last sampled row may be cut by the 64 KiB window only when it is the very end; preview stops well before.
+    sampleRows: rows.slice(0, sampleSize),
+    suggestion: suggestMapping(header, layout),
+  };
+}
