@@ -1,0 +1,196 @@
+/**
+ * Intake CLI: checks boundaries and a panel without storing anything.
+ *
+ *   npm run -s intake -- check --boundaries FILE --object NAME --id PROP --panel FILE.csv
+ *       [--layout long|wide] [--decimal .|,] [--delimiter ,|;|tab]
+ *       [--region COL --period COL --indicator COL --value COL | --indicators A,B,C]
+ *       [--unknown-regions error|drop] [--max-errors N]
+ *   npm run -s intake -- inspect --boundaries FILE
+ *   npm run -s intake -- preview --panel FILE.csv [--layout long|wide]
+ *
+ * Prints one JSON object on stdout. Exit 0 when the panel is usable, 1 when it
+ * is not (the report says why), 2 for bad arguments or unreadable files (one
+ * line on stderr).
+ */
+import { createReadStream } from "node:fs";
+import { access, readFile } from "node:fs/promises";
+import { constants } from "node:fs";
+import { parseArgs } from "node:util";
+import {
+  boundaryIds,
+  BoundaryError,
+  checkArgsSchema,
+  columnMappingSchema,
+  inspectBoundaries,
+  layoutSchema,
+  loadBoundaries,
+  readPanelHeader,
+  validatePanel,
+  type CheckArgs,
+  type ColumnMapping,
+  type PanelReport,
+} from "../lib/intake";
+
+class UsageError extends Error {}
+
+const USAGE =
+  "usage: intake check --boundaries FILE --object NAME --id PROP --panel FILE.csv [--layout long|wide] [--decimal .|,] | intake inspect --boundaries FILE | intake preview --panel FILE.csv";
+
+const OPTIONS = {
+  boundaries: { type: "string" },
+  object: { type: "string" },
+  id: { type: "string" },
+  panel: { type: "string" },
+  layout: { type: "string" },
+  decimal: { type: "string" },
+  delimiter: { type: "string" },
+  region: { type: "string" },
+  period: { type: "string" },
+  indicator: { type: "string" },
+  value: { type: "string" },
+  indicators: { type: "string" },
+  "unknown-regions": { type: "string" },
+  "max-errors": { type: "string" },
+} as const;
+
+async function readable(path: string, flag: string): Promise<void> {
+  try {
+    await access(path, constants.R_OK);
+  } catch {
+    throw new UsageError(`cannot read ${flag} ${path}: no such file or not readable`);
+  }
+}
+
+function firstIssue(error: { issues: readonly { path: readonly PropertyKey[]; message: string }[] }): string {
+  const issue = error.issues[0];
+  // Messages that already name their flag are left alone.
+  const where = issue.path.length > 0 && !issue.message.startsWith("--") ? `--${String(issue.path[0]).replace(/[A-Z]/g, (c) => `-${c.toLowerCase()}`)}: ` : "";
+  return `${where}${issue.message}`;
+}
+
+/** Builds an explicit mapping when the user named columns; otherwise the validator suggests one from the header. */
+function mappingFrom(args: CheckArgs): ColumnMapping | undefined {
+  const named = args.region ?? args.period ?? args.indicator ?? args.value ?? args.indicators;
+  if (named === undefined) return undefined;
+  const layout = args.layout ?? (args.indicators !== undefined ? "wide" : "long");
+  const candidate =
+    layout === "wide"
+      ? { layout, region: args.region ?? "region", period: args.period ?? "period", indicators: (args.indicators ?? "").split(",").map((s) => s.trim()).filter(Boolean) }
+      : { layout, region: args.region ?? "region", period: args.period ?? "period", indicator: args.indicator ?? "indicator", value: args.value ?? "value" };
+  const parsed = columnMappingSchema.safeParse(candidate);
+  if (!parsed.success) throw new UsageError(`column mapping: ${firstIssue(parsed.error)}`);
+  return parsed.data;
+}
+
+async function check(values: Record<string, string | undefined>): Promise<number> {
+  const parsed = checkArgsSchema.safeParse({
+    boundaries: values.boundaries ?? "",
+    object: values.object ?? "",
+    id: values.id ?? "",
+    panel: values.panel ?? "",
+    layout: values.layout,
+    decimal: values.decimal,
+    delimiter: values.delimiter,
+    region: values.region,
+    period: values.period,
+    indicator: values.indicator,
+    value: values.value,
+    indicators: values.indicators,
+    unknownRegions: values["unknown-regions"],
+    maxErrors: values["max-errors"],
+  });
+  if (!parsed.success) throw new UsageError(firstIssue(parsed.error));
+  const args = parsed.data;
+  await readable(args.boundaries, "--boundaries");
+  await readable(args.panel, "--panel");
+  const mapping = mappingFrom(args);
+
+  let ids: string[] | undefined;
+  let boundaryProblem: string | null = null;
+  try {
+    ids = boundaryIds(loadBoundaries(await readFile(args.boundaries, "utf8")), args.object, args.id);
+  } catch (error) {
+    if (!(error instanceof BoundaryError)) throw error;
+    boundaryProblem = `boundaries: ${error.message}`;
+  }
+
+  const report: PanelReport = await validatePanel({
+    source: createReadStream(args.panel, { highWaterMark: 64 * 1024 }),
+    boundaryIds: ids,
+    options: {
+      decimal: args.decimal,
+      delimiter: args.delimiter === "tab" ? "\t" : args.delimiter,
+      layout: args.layout,
+      mapping,
+      unknownRegions: args.unknownRegions,
+      maxErrors: args.maxErrors,
+    },
+  });
+  // A boundary problem makes the check unusable even if the panel itself is clean; the panel is still checked so both are fixed in one round.
+  const output = {
+    ...report,
+    ok: report.ok && boundaryProblem === null,
+    boundaries: { file: args.boundaries, object: args.object, idProperty: args.id, regions: ids?.length ?? null },
+    errors: boundaryProblem === null ? report.errors : [{ row: null, column: null, message: boundaryProblem }, ...report.errors].slice(0, args.maxErrors),
+    errorCount: report.errorCount + (boundaryProblem === null ? 0 : 1),
+  };
+  process.stdout.write(`${JSON.stringify(output, null, 2)}\n`);
+  return output.ok ? 0 : 1;
+}
+
+async function inspect(values: Record<string, string | undefined>): Promise<number> {
+  if (!values.boundaries) throw new UsageError("--boundaries FILE is required");
+  await readable(values.boundaries, "--boundaries");
+  try {
+    const summary = inspectBoundaries(loadBoundaries(await readFile(values.boundaries, "utf8")));
+    process.stdout.write(`${JSON.stringify({ ok: true, ...summary }, null, 2)}\n`);
+    return 0;
+  } catch (error) {
+    if (!(error instanceof BoundaryError)) throw error;
+    process.stdout.write(`${JSON.stringify({ ok: false, errors: [{ row: null, column: null, message: error.message }] }, null, 2)}\n`);
+    return 1;
+  }
+}
+
+async function preview(values: Record<string, string | undefined>): Promise<number> {
+  if (!values.panel) throw new UsageError("--panel FILE.csv is required");
+  const layout = values.layout === undefined ? undefined : layoutSchema.safeParse(values.layout);
+  if (layout !== undefined && !layout.success) throw new UsageError(`--layout: ${firstIssue(layout.error)}`);
+  await readable(values.panel, "--panel");
+  const result = await readPanelHeader(createReadStream(values.panel), layout?.data);
+  const ok = result.encodingProblem === null && result.suggestion.mapping !== null;
+  process.stdout.write(`${JSON.stringify({ ok, ...result }, null, 2)}\n`);
+  return ok ? 0 : 1;
+}
+
+async function main(argv: string[]): Promise<number> {
+  let parsed: ReturnType<typeof parseArgs<{ options: typeof OPTIONS; allowPositionals: true; strict: true }>>;
+  try {
+    parsed = parseArgs({ args: argv, options: OPTIONS, allowPositionals: true, strict: true });
+  } catch (error) {
+    throw new UsageError(error instanceof Error ? error.message.split("\n")[0] : String(error));
+  }
+  const [command, ...rest] = parsed.positionals;
+  if (rest.length > 0) throw new UsageError(`unexpected argument '${rest[0]}'`);
+  const values: Record<string, string | undefined> = parsed.values;
+  if (command === "check") return check(values);
+  if (command === "inspect") return inspect(values);
+  if (command === "preview") return preview(values);
+  throw new UsageError(command === undefined ? USAGE : `unknown command '${command}'; ${USAGE}`);
+}
+
+main(process.argv.slice(2)).then(
+  (code) => {
+    process.exitCode = code;
+  },
+  (error: unknown) => {
+    if (error instanceof UsageError) {
+      process.stderr.write(`intake: ${error.message}\n`);
+      process.exitCode = 2;
+    } else {
+      // An I/O failure while streaming: not the user's arguments, not a verdict on the data.
+      process.stderr.write(`intake: ${error instanceof Error ? error.message : String(error)}\n`);
+      process.exitCode = 2;
+    }
+  },
+);
