@@ -17,7 +17,7 @@ import fs from "node:fs";
 import path from "node:path";
 import { stopStalePostgres } from "./services/postgres.mjs";
 import { startNext, startServices, startWorker, migrateAndSeed } from "./services/stack.mjs";
-import { Supervisor, installSignalHandlers } from "./services/supervisor.mjs";
+import { Supervisor, installSignalHandlers, killStaleChildren } from "./services/supervisor.mjs";
 import { ROOT, UserFacingError, assertPortsFree, bold, buildIfNeeded, ensureNodeModules, green, log, readDotEnv, red } from "./services/util.mjs";
 
 const args = process.argv.slice(2);
@@ -96,7 +96,7 @@ async function main() {
         { ...ports.S3, service: "S3 (s3rver)" },
         { ...ports.SMTP, service: "SMTP sink" },
       ],
-      ".env or the environment",
+      "in .env (or in the environment, which wins over .env)",
     );
     log("check", "configuration read; all ports are free");
     return 0;
@@ -107,6 +107,8 @@ async function main() {
   const { env, ports } = loadEnv();
   fs.mkdirSync(STORAGE, { recursive: true });
 
+  const pidFile = path.join(STORAGE, ".start-pids");
+  await killStaleChildren(pidFile);
   await stopStalePostgres(path.join(STORAGE, "postgres"));
   await assertPortsFree(
     [
@@ -115,10 +117,10 @@ async function main() {
       { ...ports.S3, service: "S3 (s3rver)" },
       { ...ports.SMTP, service: "SMTP sink" },
     ],
-    ".env",
+    "in .env",
   );
 
-  const supervisor = new Supervisor();
+  const supervisor = new Supervisor({ pidFile });
   let exiting = false;
   const stopAndExit = async (code) => {
     if (exiting) return;

@@ -66,7 +66,11 @@ export async function presignPut(objectKey: string, contentType: string, options
   const k = key(objectKey);
   const type = contentTypeSchema.parse(contentType);
   const expiresIn = expiresSchema.parse(options.expiresInSeconds ?? 900);
-  return getSignedUrl(s3Client(), new PutObjectCommand({ Bucket: bucket(), Key: k, ContentType: type }), { expiresIn });
+  // Sign the Content-Type header too, so an upload with any other type is refused.
+  return getSignedUrl(s3Client(), new PutObjectCommand({ Bucket: bucket(), Key: k, ContentType: type }), {
+    expiresIn,
+    signableHeaders: new Set(["content-type"]),
+  });
 }
 
 /** A presigned GET URL; `downloadName` makes browsers save it under that file name. */

@@ -8,7 +8,9 @@ import readline from "node:readline";
 import { ROOT, dim, log, sleep } from "./util.mjs";
 
 export class Supervisor {
-  constructor() {
+  /** @param {{pidFile?: string}} options pidFile records child pids so a later run can clean up after a killed one */
+  constructor({ pidFile } = {}) {
+    this.pidFile = pidFile;
     /** @type {{name:string, stop:() => Promise<void>}[]} */
     this.stack = [];
     this.children = [];
@@ -26,10 +28,12 @@ export class Supervisor {
    * Starts a long-running child. Output is prefixed with [name] on this terminal,
    * or appended to logFile when given.
    */
-  spawn(name, cmd, args, { env = process.env, cwd = ROOT, logFile, ipc = false, quiet = false, stopTimeoutMs = 10_000 } = {}) {
+  spawn(name, cmd, args, { env = process.env, cwd = ROOT, logFile, ipc = false, quiet = false, inherit = false, stopTimeoutMs = 10_000 } = {}) {
     let out = "pipe";
     let fd = null;
-    if (logFile) {
+    if (inherit) {
+      out = "inherit";
+    } else if (logFile) {
       fd = fs.openSync(logFile, "a");
       out = fd;
     } else if (quiet) {
@@ -62,8 +66,19 @@ export class Supervisor {
       rl.on("line", (line) => process.stdout.write(`${dim(`[${name}]`)} ${line}\n`));
     }
     this.children.push(record);
+    this.writePidFile();
     this.stack.push({ name, stop: () => this.stopChild(record, stopTimeoutMs) });
     return record;
+  }
+
+  writePidFile() {
+    if (!this.pidFile) return;
+    const live = this.children.filter((c) => !c.exited && c.pid).map((c) => `${c.pid} ${c.name}`);
+    try {
+      fs.writeFileSync(this.pidFile, live.join("\n") + "\n");
+    } catch {
+      // storage folder gone (wiped): nothing to record
+    }
   }
 
   /** SIGTERM to the child's process group, SIGKILL after the timeout. */
@@ -107,6 +122,7 @@ export class Supervisor {
           log(step.name, `stop failed: ${err.message}`);
         }
       }
+      if (this.pidFile) fs.rmSync(this.pidFile, { force: true });
     })();
     return this.stopPromise;
   }
@@ -144,4 +160,52 @@ export function installSignalHandlers(supervisor, onStop) {
     }
   };
   for (const sig of ["SIGINT", "SIGTERM", "SIGHUP"]) process.on(sig, handler);
+}
+
+/**
+ * Stops process groups recorded in a pid file by an earlier run that was killed
+ * before it could clean up. Only processes whose command line mentions this
+ * project folder are touched.
+ */
+export async function killStaleChildren(pidFile) {
+  if (!fs.existsSync(pidFile)) return 0;
+  let killed = 0;
+  for (const line of fs.readFileSync(pidFile, "utf8").split("\n")) {
+    const [pidText, name] = line.trim().split(/\s+/);
+    const pid = Number(pidText);
+    if (!Number.isInteger(pid) || pid <= 1) continue;
+    let cmdline = "";
+    try {
+      cmdline = fs.readFileSync(`/proc/${pid}/cmdline`, "utf8").replace(/\0/g, " ");
+    } catch {
+      continue; // gone
+    }
+    if (!cmdline.includes(ROOT)) continue;
+    log("tessera", `stopping ${name ?? "a process"} (pid ${pid}) left over from an earlier run`);
+    try {
+      process.kill(-pid, "SIGTERM");
+    } catch {
+      try {
+        process.kill(pid, "SIGTERM");
+      } catch {
+        // gone meanwhile
+      }
+    }
+    killed += 1;
+  }
+  if (killed) {
+    await sleep(2_000);
+    for (const line of fs.readFileSync(pidFile, "utf8").split("\n")) {
+      const pid = Number(line.trim().split(/\s+/)[0]);
+      if (Number.isInteger(pid) && pid > 1 && fs.existsSync(`/proc/${pid}`)) {
+        try {
+          process.kill(-pid, "SIGKILL");
+        } catch {
+          // gone
+        }
+      }
+    }
+  }
+  fs.rmSync(pidFile, { force: true });
+  return killed;
 }

@@ -74,19 +74,19 @@ export function isPortFree(port, host = HOST) {
 /**
  * Throws a UserFacingError naming every busy port and the variable that moves it.
  * @param {{port:number, variable:string, service:string}[]} wanted
- * @param {string} where where the variable is set (".env" or "the environment")
+ * @param {string} where where to set the variable, e.g. "in .env"; "{var}" is replaced by its name
  */
 export async function assertPortsFree(wanted, where) {
   const busy = [];
   for (const w of wanted) {
     if (!Number.isInteger(w.port) || w.port <= 0 || w.port > 65535) {
-      throw new UserFacingError(`${w.variable}=${w.port} is not a valid port number (set ${w.variable} in ${where}).`);
+      throw new UserFacingError(`${w.variable}=${w.port} is not a valid port number (set ${w.variable} ${where.replace(/\{var\}/g, w.variable)}).`);
     }
     if (!(await isPortFree(w.port))) busy.push(w);
   }
   if (busy.length) {
     const lines = busy.map(
-      (w) => `  port ${w.port} on ${HOST} (${w.service}) is already in use — stop whatever listens there, or set ${w.variable} to a free port in ${where}.`,
+      (w) => `  port ${w.port} on ${HOST} (${w.service}) is already in use — stop whatever listens there, or set ${w.variable} to a free port ${where.replace(/\{var\}/g, w.variable)}.`,
     );
     throw new UserFacingError(`Cannot start: ${busy.length === 1 ? "a port is" : "ports are"} busy.\n${lines.join("\n")}`);
   }
