@@ -48,6 +48,8 @@ function loadEnv() {
   const env = { ...fromFile };
   for (const [k, v] of Object.entries(process.env)) if (v !== undefined) env[k] = v;
   env.NEXT_TELEMETRY_DISABLED = "1";
+  // The AWS SDK is locked to a release that supports Node 20 (see STACK.md); its notice is noise here.
+  env.AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED ??= "true";
   const port = (name) => {
     const raw = env[name];
     const n = Number(raw);

@@ -74,6 +74,7 @@ function testEnvironment() {
     TESSERA_OUTBOX: "1",
     TESSERA_TEST: "1",
     NEXT_TELEMETRY_DISABLED: "1",
+    AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: "true",
   };
   const env = { ...process.env, ...vars };
   delete env.NODE_ENV; // jest sets "test", next start "production"

@@ -1,7 +1,6 @@
 // The bring-up shared by `npm start` and `npm test`: PostgreSQL, s3rver and the
 // SMTP sink, then migrations and seeders, then (optionally) the worker and
 // `next start`. Every step registers its stop with the supervisor.
-import fs from "node:fs";
 import path from "node:path";
 import { startPostgres } from "./postgres.mjs";
 import { HOST, ROOT, UserFacingError, log, run, waitForHttp, waitForPort } from "./util.mjs";
@@ -79,13 +78,10 @@ export async function startWorker(stack, name = "worker") {
   const { env, supervisor } = stack;
   const logFile = childLog(stack, name);
   const record = supervisor.spawn(name, path.join(BIN, "tsx"), [path.join(ROOT, "scripts/worker.ts")], { env, logFile, stopTimeoutMs: 30_000 });
-  // Ready when it has logged "ready" (file) — or give it a moment when logging to the terminal.
-  const deadline = Date.now() + 60_000;
-  while (Date.now() < deadline) {
-    if (record.exited) throw new UserFacingError(`The worker exited during start-up (exit ${record.code})${logFile ? `; see ${path.relative(ROOT, logFile)}` : ""}.`);
-    if (!logFile) break;
-    if (fs.existsSync(logFile) && /\] ready:/.test(fs.readFileSync(logFile, "utf8"))) break;
-    await new Promise((r) => setTimeout(r, 200));
+  try {
+    await record.waitForLine(/\] ready:/, 60_000);
+  } catch (err) {
+    throw new UserFacingError(`The worker did not start: ${err.message}${logFile ? ` (see ${path.relative(ROOT, logFile)})` : ""}.`);
   }
   return record;
 }

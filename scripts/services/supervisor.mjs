@@ -60,11 +60,28 @@ export class Supervisor {
         if (!this.stopping && this.onUnexpectedExit) this.onUnexpectedExit(record);
       });
     });
+    record.lines = [];
+    record.logFile = logFile;
     for (const stream of [child.stdout, child.stderr]) {
       if (!stream) continue;
       const rl = readline.createInterface({ input: stream });
-      rl.on("line", (line) => process.stdout.write(`${dim(`[${name}]`)} ${line}\n`));
+      rl.on("line", (line) => {
+        record.lines.push(line);
+        if (record.lines.length > 500) record.lines.shift();
+        process.stdout.write(`${dim(`[${name}]`)} ${line}\n`);
+      });
     }
+    /** Resolves when the child printed a line matching `pattern`; rejects if it exits first or after timeoutMs. */
+    record.waitForLine = async (pattern, timeoutMs = 60_000) => {
+      const deadline = Date.now() + timeoutMs;
+      for (;;) {
+        const text = record.logFile ? (fs.existsSync(record.logFile) ? fs.readFileSync(record.logFile, "utf8") : "") : record.lines.join("\n");
+        if (pattern.test(text)) return;
+        if (record.exited) throw new Error(`${name} exited (${record.signal ?? `exit ${record.code}`}) before printing ${pattern}`);
+        if (Date.now() > deadline) throw new Error(`${name} did not print ${pattern} within ${Math.round(timeoutMs / 1000)} s`);
+        await sleep(150);
+      }
+    };
     this.children.push(record);
     this.writePidFile();
     this.stack.push({ name, stop: () => this.stopChild(record, stopTimeoutMs) });

@@ -1,3 +1,5 @@
+import { spawn } from "node:child_process";
+import path from "node:path";
 import { getBoss } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { requireTestServices, uniqueAddress } from "@/tests/helpers/env";
@@ -47,4 +49,29 @@ describe("pg-boss jobs processed by the worker process", () => {
   test("enqueue validates the payload and names the field", async () => {
     await expect(enqueue("mail-test", { to: "nobody", subject: "x" })).rejects.toThrow(/enqueue\(mail-test\): invalid payload field "to"/);
   });
+
+  test("a second worker process runs alongside, takes jobs, and stops gracefully on SIGTERM", async () => {
+    const root = path.resolve(__dirname, "..", "..", "..");
+    const child = spawn(path.join(root, "node_modules", ".bin", "tsx"), [path.join(root, "scripts", "worker.ts")], {
+      cwd: root,
+      env: { ...process.env, NODE_ENV: "production", WORKER_CONCURRENCY: "1" },
+      stdio: ["ignore", "pipe", "pipe"],
+    });
+    let output = "";
+    child.stdout.on("data", (d) => (output += d));
+    child.stderr.on("data", (d) => (output += d));
+    const exited = new Promise<number | null>((resolve) => child.on("close", (code) => resolve(code)));
+    try {
+      await waitFor("the second worker to be ready", async () => /\] ready:/.test(output), { timeoutMs: 60_000 });
+      const since = new Date(Date.now() - 1000);
+      const addresses = Array.from({ length: 6 }, (_, i) => uniqueAddress(`pair${i}`));
+      await Promise.all(addresses.map((to, i) => enqueue("mail-test", { to, subject: `Pair ${i}` })));
+      await Promise.all(addresses.map((to) => waitForMailTo(to, { since, timeoutMs: 30_000 })));
+    } finally {
+      child.kill("SIGTERM");
+    }
+    expect(await exited).toBe(0);
+    expect(output).toMatch(/SIGTERM: finishing active jobs/);
+    expect(output).toMatch(/\] stopped/);
+  }, 90_000);
 });
