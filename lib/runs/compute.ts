@@ -1,0 +1,456 @@
+/**
+ * The computation of a run, pure: no database, no queue. The worker, the demo
+ * script and the benchmarks all call these functions, so a number on the
+ * screen is the number this file produced.
+ *
+ * Randomness: every statistic of every period restarts its own generator from
+ * the run's seed (Moran from `seed`, Geary, General G and local Moran from
+ * seeds derived from it). The permutation draws are therefore the same for
+ * every period (common random numbers, DESIGN.md §Statistics → Panels), and
+ * an indicator's numbers do not depend on which other indicators the run
+ * includes.
+ */
+import type { Topology } from "topojson-specification";
+import {
+  createRandomSource,
+  gearyC,
+  generalG,
+  globalMoran,
+  localMoran,
+  parseWeightsSpecification,
+  prepareAnalysis,
+  regionCentroids,
+  weightsFromTopology,
+  type ClusterClass,
+  type GlobalMoranResult,
+  type PreparedAnalysis,
+  type RegionPoints,
+  type RegionValues,
+  type SpatialWeights,
+} from "@/lib/spatial";
+import type { ResolvedRunParams } from "./schemas";
+import type {
+  ExclusionSummary,
+  GearyFields,
+  GeneralGFields,
+  LocalFields,
+  MoranFields,
+  NotComputedReason,
+  PeriodResult,
+  PermutationFields,
+  WeightsUsed,
+} from "./types";
+
+/** The boundaries a run needs: base (untransformed) weights and, for the "attach" policy, centroids. */
+export interface RunGeometry {
+  readonly baseWeights: SpatialWeights;
+  readonly points?: RegionPoints;
+}
+
+/** Where the regions are inside a boundary topology. */
+export interface TopologyLayout {
+  readonly object: string;
+  readonly idProperty: string;
+}
+
+/**
+ * Builds the base weights of a run from a boundary topology.
+ *
+ * @throws Error naming the rule and the boundary object when the weights cannot be built.
+ */
+export function buildRunGeometry(
+  topology: Topology,
+  layout: TopologyLayout,
+  params: Pick<ResolvedRunParams, "weights" | "islandPolicy">,
+): RunGeometry {
+  try {
+    const baseWeights = weightsFromTopology(topology, params.weights, { object: layout.object, idProperty: layout.idProperty });
+    const points = params.islandPolicy === "attach" ? regionCentroids(topology, { object: layout.object, idProperty: layout.idProperty }) : undefined;
+    return { baseWeights, points };
+  } catch (error) {
+    throw new Error(
+      `Could not build "${params.weights}" weights from boundary object "${layout.object}" (id property "${layout.idProperty}"): ${messageOf(error)}`,
+    );
+  }
+}
+
+/** Seed of each statistic's generator, derived from the run's seed. */
+export function statisticSeed(seed: number, statistic: "moran" | "geary" | "general-g" | "local"): number {
+  const salt = { moran: 0, geary: 1, "general-g": 2, local: 3 }[statistic];
+  // Keep the run's seed for Moran (so the CLI with --seed S reproduces it);
+  // spread the others with a large odd constant, staying a 31-bit integer.
+  return salt === 0 ? seed : (seed + salt * 0x3c6ef35f) % 2_147_483_647;
+}
+
+/** Minimum number of regions with a value for the global statistics (their variances divide by n − 3). */
+export const MINIMUM_REGIONS = 4;
+
+export type PeriodParams = Pick<
+  ResolvedRunParams,
+  "weights" | "transform" | "islandPolicy" | "permutations" | "seed" | "alpha" | "correction" | "local"
+>;
+
+/**
+ * All statistics of one indicator-period. Never throws for bad data: a
+ * constant indicator, too few regions, no links or an engine error give a
+ * row with status "not-computed" and a note saying why.
+ */
+export function computePeriod(
+  geometry: RunGeometry,
+  params: PeriodParams,
+  indicator: string,
+  period: string,
+  values: RegionValues,
+): Omit<PeriodResult, "deltaI"> {
+  const notes: string[] = [];
+  const base = { indicator, period };
+  let prepared: PreparedAnalysis;
+  try {
+    prepared = prepareAnalysis(geometry.baseWeights, values, {
+      islandPolicy: params.islandPolicy,
+      transform: params.transform,
+      points: geometry.points,
+    });
+  } catch (error) {
+    return notComputed(base, "error", `The data could not be aligned with the weights: ${messageOf(error)}`, 0, emptyExclusions(geometry), null);
+  }
+  const { report } = prepared;
+  const exclusions: ExclusionSummary = {
+    regionsInBoundaries: report.regionsInWeights,
+    missing: report.droppedCounts.missing,
+    notANumber: report.droppedCounts["not-a-number"],
+    islandExcluded: report.droppedCounts["island-excluded"],
+    regions: report.dropped.map((d) => ({ id: d.id, reason: d.reason })),
+  };
+  const n = report.regionsUsed;
+  const missing = exclusions.missing + exclusions.notANumber;
+  if (missing > 0) {
+    notes.push(
+      `${plural(missing, "region")} without a usable value ${missing === 1 ? "is" : "are"} left out; the weights are restricted to the ${report.regionsInWeights - missing} regions with a value` +
+        (params.transform === "row-standardised" ? " and re-standardised." : "."),
+    );
+  }
+  if (report.islands.length > 0) notes.push(islandSentence(report.islands, params.weights, params.islandPolicy, report.attached.length));
+  const weights = weightsUsed(prepared, params);
+
+  if (n < MINIMUM_REGIONS) {
+    notes.unshift(
+      `Too few regions: ${n} of ${report.regionsInWeights} regions can be used in ${period}, and Moran's I with its variances needs at least ${MINIMUM_REGIONS}.`,
+    );
+    return notComputed(base, "too-few-regions", notes.join(" "), n, exclusions, weights);
+  }
+  const constant = constantValue(prepared.values);
+  if (constant !== null) {
+    notes.unshift(
+      `The indicator is constant in ${period}: all ${n} regions have the value ${formatValue(constant)}, so spatial autocorrelation is undefined.`,
+    );
+    return notComputed(base, "constant", notes.join(" "), n, exclusions, weights);
+  }
+  if (weights.links === 0) {
+    notes.unshift(`No two of the ${n} regions with a value are neighbours under "${params.weights}" weights, so no statistic can be computed.`);
+    return notComputed(base, "no-links", notes.join(" "), n, exclusions, weights);
+  }
+
+  let global: GlobalMoranResult;
+  try {
+    global = globalMoran(prepared.values, prepared.weights, {
+      permutations: params.permutations,
+      random: createRandomSource(statisticSeed(params.seed, "moran")),
+    });
+  } catch (error) {
+    notes.unshift(`Moran's I could not be computed: ${messageOf(error)}`);
+    return notComputed(base, "error", notes.join(" "), n, exclusions, weights);
+  }
+  const moran: MoranFields = {
+    I: global.I,
+    expectedI: global.expectedI,
+    kurtosis: global.kurtosis,
+    varianceNormality: global.normality.variance,
+    varianceRandomisation: global.randomisation.variance,
+    zNormality: global.normality.z,
+    zRandomisation: global.randomisation.z,
+    pNormality: global.normality.pTwoSided,
+    pRandomisation: global.randomisation.pTwoSided,
+    pRandomisationGreater: global.randomisation.pGreater,
+  };
+  const permutation: PermutationFields | null = global.permutation
+    ? {
+        permutations: global.permutation.permutations,
+        mean: global.permutation.mean,
+        sd: global.permutation.sd,
+        z: Number.isFinite(global.permutation.z) ? global.permutation.z : null,
+        pGreater: global.permutation.pGreater,
+        pLess: global.permutation.pLess,
+        pTwoSided: global.permutation.pTwoSided,
+        bandLow: global.permutation.band[0],
+        bandHigh: global.permutation.band[1],
+      }
+    : null;
+
+  let geary: GearyFields | null = null;
+  try {
+    const result = gearyC(prepared.values, prepared.weights, {
+      permutations: params.permutations,
+      random: createRandomSource(statisticSeed(params.seed, "geary")),
+    });
+    geary = {
+      C: result.C,
+      zRandomisation: result.randomisation.z,
+      pRandomisation: result.randomisation.pTwoSided,
+      pseudoP: result.permutation?.pTwoSided ?? null,
+    };
+  } catch (error) {
+    notes.push(`Geary's C was not computed: ${messageOf(error)}`);
+  }
+
+  let generalGFields: GeneralGFields | null = null;
+  try {
+    const result = generalG(prepared.values, prepared.weights, {
+      permutations: params.permutations,
+      random: createRandomSource(statisticSeed(params.seed, "general-g")),
+    });
+    generalGFields = {
+      G: result.G,
+      expectedG: result.expectedG,
+      z: result.randomisation.z,
+      p: result.randomisation.pTwoSided,
+      pseudoP: result.permutation?.pTwoSided ?? null,
+    };
+  } catch (error) {
+    notes.push(`General G was not computed: ${messageOf(error)}`);
+  }
+
+  let local: LocalFields | null = null;
+  if (params.local) {
+    try {
+      local = computeLocal(prepared, params);
+    } catch (error) {
+      notes.push(`Local Moran was not computed: ${messageOf(error)}`);
+    }
+  }
+
+  return {
+    ...base,
+    status: "computed",
+    reason: null,
+    note: notes.length ? notes.join(" ") : null,
+    n,
+    exclusions,
+    weights,
+    moran,
+    permutation,
+    geary,
+    generalG: generalGFields,
+    local,
+  };
+}
+
+/** Local Moran with conditional permutation, plus the Moran scatter plot coordinates. */
+export function computeLocal(prepared: PreparedAnalysis, params: Pick<PeriodParams, "permutations" | "seed" | "alpha" | "correction">): LocalFields {
+  const result = localMoran(prepared.values, prepared.weights, {
+    permutations: params.permutations,
+    random: createRandomSource(statisticSeed(params.seed, "local")),
+    alpha: params.alpha,
+    correction: params.correction,
+    moments: "conditional",
+    pValueSource: "permutation",
+  });
+  const x = prepared.values;
+  const n = x.length;
+  let mean = 0;
+  for (let i = 0; i < n; i++) mean += x[i];
+  mean /= n;
+  const sd = Math.sqrt(result.m2);
+  const standardised: number[] = [];
+  const lag: number[] = [];
+  let cross = 0;
+  let squares = 0;
+  const counts: Record<ClusterClass, number> = { HH: 0, LL: 0, HL: 0, LH: 0, "not-significant": 0, "no-neighbours": 0 };
+  for (let i = 0; i < n; i++) {
+    const s = (x[i] - mean) / sd;
+    const l = result.regions[i].lag / sd;
+    standardised.push(s);
+    lag.push(l);
+    cross += s * l;
+    squares += s * s;
+    counts[result.regions[i].cluster]++;
+  }
+  return {
+    ids: result.regions.map((r) => r.id),
+    Ii: result.regions.map((r) => r.Ii),
+    z: result.regions.map((r) => r.z),
+    pseudoP: result.regions.map((r) => r.pseudoP),
+    adjustedP: result.regions.map((r) => r.adjustedP),
+    quadrant: result.regions.map((r) => r.quadrant),
+    cluster: result.regions.map((r) => r.cluster),
+    standardised,
+    lag,
+    alpha: result.alpha,
+    correction: result.correction,
+    moments: "conditional",
+    slope: cross / squares,
+    counts,
+  };
+}
+
+/** One period's values of an indicator, keyed by region code (null = missing). */
+export interface IndicatorPeriodValues {
+  readonly period: string;
+  readonly values: RegionValues;
+}
+
+/**
+ * Every period of one indicator (one piece of a run), in the order given,
+ * with ΔI from the previous period. `onPeriod` is called after each period
+ * (progress); when it returns false the computation stops early and the
+ * periods done so far are returned.
+ */
+export function computeIndicator(
+  geometry: RunGeometry,
+  params: PeriodParams,
+  indicator: string,
+  periods: readonly IndicatorPeriodValues[],
+  onPeriod?: (done: number, total: number) => boolean | void,
+): PeriodResult[] {
+  const out: PeriodResult[] = [];
+  let previousI: number | null = null;
+  for (let index = 0; index < periods.length; index++) {
+    const { period, values } = periods[index];
+    const row = computePeriod(geometry, params, indicator, period, values);
+    const I = row.moran?.I ?? null;
+    out.push({ ...row, deltaI: I !== null && previousI !== null ? I - previousI : null });
+    previousI = I;
+    if (onPeriod && onPeriod(index + 1, periods.length) === false) break;
+  }
+  return out;
+}
+
+// ——— helpers ———
+
+function weightsUsed(prepared: PreparedAnalysis, params: PeriodParams): WeightsUsed {
+  const w = prepared.weights;
+  const n = w.ids.length;
+  let S0 = 0;
+  let min = n > 0 ? Infinity : 0;
+  let max = 0;
+  const rowSums = new Float64Array(n);
+  const columnSums = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const k = w.offsets[i + 1] - w.offsets[i];
+    if (k < min) min = k;
+    if (k > max) max = k;
+    for (let p = w.offsets[i]; p < w.offsets[i + 1]; p++) {
+      S0 += w.weights[p];
+      rowSums[i] += w.weights[p];
+      columnSums[w.neighbours[p]] += w.weights[p];
+    }
+  }
+  // S1 via a lookup of the reverse link (rows are sorted, so binary search).
+  let S1 = 0;
+  for (let i = 0; i < n; i++) {
+    for (let p = w.offsets[i]; p < w.offsets[i + 1]; p++) {
+      const j = w.neighbours[p];
+      const back = reverseWeight(w, j, i);
+      const sum = w.weights[p] + back;
+      S1 += back > 0 ? 0.5 * sum * sum : sum * sum;
+    }
+  }
+  let S2 = 0;
+  for (let i = 0; i < n; i++) S2 += (rowSums[i] + columnSums[i]) ** 2;
+  const links = w.neighbours.length;
+  return {
+    rule: params.weights,
+    transform: params.transform,
+    islandPolicy: params.islandPolicy,
+    restricted: prepared.report.restricted,
+    S0,
+    S1,
+    S2,
+    links,
+    meanNeighbours: n > 0 ? links / n : 0,
+    minNeighbours: min,
+    maxNeighbours: max,
+    islands: [...prepared.report.islands],
+    attached: prepared.report.attached.map((a) => ({ id: a.id, neighbour: a.neighbour })),
+  };
+}
+
+function reverseWeight(w: SpatialWeights, row: number, column: number): number {
+  let lo = w.offsets[row];
+  let hi = w.offsets[row + 1] - 1;
+  while (lo <= hi) {
+    const mid = (lo + hi) >> 1;
+    const c = w.neighbours[mid];
+    if (c === column) return w.weights[mid];
+    if (c < column) lo = mid + 1;
+    else hi = mid - 1;
+  }
+  return 0;
+}
+
+/** The common value when every value is (numerically) the same, else null. */
+function constantValue(values: Float64Array): number | null {
+  if (values.length === 0) return null;
+  let min = Infinity;
+  let max = -Infinity;
+  for (const v of values) {
+    if (v < min) min = v;
+    if (v > max) max = v;
+  }
+  const scale = Math.max(Math.abs(min), Math.abs(max), 1e-300);
+  return max - min <= 1e-12 * scale ? values[0] : null;
+}
+
+function islandSentence(islands: readonly string[], rule: string, policy: PeriodParams["islandPolicy"], attached: number): string {
+  const listed = islands.slice(0, 8).join(", ") + (islands.length > 8 ? ` and ${islands.length - 8} more` : "");
+  const subject = `${plural(islands.length, "region")} ${islands.length === 1 ? "has" : "have"} no neighbour with a value under "${rule}" weights (${listed})`;
+  if (policy === "exclude") return `${subject}; island policy "exclude": left out, so n is reduced.`;
+  if (policy === "keep") return `${subject}; island policy "keep": kept with a spatial lag of zero.`;
+  return `${subject}; island policy "attach": ${attached === 1 ? "linked" : "each linked"} to the nearest region by centroid distance.`;
+}
+
+function notComputed(
+  base: { indicator: string; period: string },
+  reason: NotComputedReason,
+  note: string,
+  n: number,
+  exclusions: ExclusionSummary,
+  weights: WeightsUsed | null,
+): Omit<PeriodResult, "deltaI"> {
+  return {
+    ...base,
+    status: "not-computed",
+    reason,
+    note,
+    n,
+    exclusions,
+    weights,
+    moran: null,
+    permutation: null,
+    geary: null,
+    generalG: null,
+    local: null,
+  };
+}
+
+function emptyExclusions(geometry: RunGeometry): ExclusionSummary {
+  return { regionsInBoundaries: geometry.baseWeights.ids.length, missing: 0, notANumber: 0, islandExcluded: 0, regions: [] };
+}
+
+function plural(count: number, noun: string): string {
+  return `${count} ${noun}${count === 1 ? "" : "s"}`;
+}
+
+function formatValue(v: number): string {
+  return Number.isInteger(v) ? String(v) : String(Number(v.toPrecision(6)));
+}
+
+export function messageOf(error: unknown): string {
+  return error instanceof Error ? error.message : String(error);
+}
+
+/** True when the weights rule is a distance rule (needs centroids, slower to build). */
+export function isDistanceRule(rule: string): boolean {
+  const kind = parseWeightsSpecification(rule).kind;
+  return kind !== "queen" && kind !== "rook";
+}

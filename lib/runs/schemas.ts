@@ -1,0 +1,105 @@
+import { z } from "zod";
+import { parseWeightsSpecification } from "@/lib/spatial";
+
+// Parameters of a run, shared by the start form, the route handler, the job
+// payloads and the stored `runs.params`. A run's stored parameters are the
+// resolved form: seed chosen, indicators and periods listed explicitly, so a
+// rerun with the same stored parameters reproduces every number.
+
+/** Weights rules offered in the start form; any rule the engine parses is accepted. */
+export const WEIGHTS_CHOICES = [
+  { value: "queen", label: "Queen contiguity (shared corner or edge)" },
+  { value: "rook", label: "Rook contiguity (shared edge)" },
+  { value: "knn:4", label: "4 nearest neighbours" },
+  { value: "knn:6", label: "6 nearest neighbours" },
+  { value: "knn:8", label: "8 nearest neighbours" },
+  { value: "band", label: "Distance band (smallest that connects every region)" },
+] as const;
+
+export const TRANSFORMS = ["row-standardised", "binary"] as const;
+export const ISLAND_POLICIES = ["exclude", "keep", "attach"] as const;
+export const CORRECTIONS = ["none", "bonferroni", "fdr"] as const;
+
+export const CORRECTION_LABELS: Record<(typeof CORRECTIONS)[number], string> = {
+  none: "no correction",
+  bonferroni: "Bonferroni",
+  fdr: "false discovery rate (Benjamini–Hochberg)",
+};
+
+export const ISLAND_POLICY_LABELS: Record<(typeof ISLAND_POLICIES)[number], string> = {
+  exclude: "exclude regions without neighbours",
+  keep: "keep them with a zero lag",
+  attach: "attach each to its nearest region",
+};
+
+const weightsRule = z
+  .string()
+  .trim()
+  .min(1, "Choose a weights rule.")
+  .max(40)
+  .superRefine((value, ctx) => {
+    try {
+      const spec = parseWeightsSpecification(value);
+      if (spec.kind === "idw") ctx.addIssue({ code: "custom", message: "Inverse-distance weights are not offered for runs yet; use queen, rook, knn:K or band." });
+    } catch (error) {
+      ctx.addIssue({ code: "custom", message: error instanceof Error ? error.message : String(error) });
+    }
+  });
+
+const code = z.string().trim().min(1).max(120);
+
+/** What a user chooses (start form, API body). */
+export const runParamsInputSchema = z.object({
+  weights: weightsRule.default("queen"),
+  transform: z.enum(TRANSFORMS).default("row-standardised"),
+  islandPolicy: z.enum(ISLAND_POLICIES).default("exclude"),
+  permutations: z.coerce
+    .number()
+    .int("Permutations must be a whole number.")
+    .min(99, "Use at least 99 permutations.")
+    .max(99_999, "Use at most 99,999 permutations.")
+    .default(999),
+  seed: z.coerce.number().int("The seed must be a whole number.").min(0, "The seed must be 0 or more.").max(2_147_483_647).optional(),
+  alpha: z.coerce.number().gt(0, "Alpha must be above 0.").max(0.2, "Alpha above 0.2 is not offered.").default(0.05),
+  correction: z.enum(CORRECTIONS).default("fdr"),
+  /** Empty or absent = every indicator of the panel version. */
+  indicators: z.array(code).max(500).optional(),
+  /** Empty or absent = every period of the panel version. */
+  periods: z.array(code).max(500).optional(),
+  /** Local Moran per region (cluster maps). Off makes very large runs faster. */
+  local: z.boolean().default(true),
+});
+export type RunParamsInput = z.input<typeof runParamsInputSchema>;
+export type RunParamsChoice = z.output<typeof runParamsInputSchema>;
+
+/** The body of POST /api/w/[slug]/runs. */
+export const startRunSchema = runParamsInputSchema.extend({
+  panelVersionId: z.coerce.number().int().positive("Choose a published panel version."),
+});
+export type StartRunInput = z.input<typeof startRunSchema>;
+
+/** The stored, fully resolved parameters of a run. */
+export const resolvedRunParamsSchema = z.object({
+  weights: weightsRule,
+  transform: z.enum(TRANSFORMS),
+  islandPolicy: z.enum(ISLAND_POLICIES),
+  permutations: z.number().int().min(99).max(99_999),
+  seed: z.number().int().min(0).max(2_147_483_647),
+  alpha: z.number().gt(0).max(0.2),
+  correction: z.enum(CORRECTIONS),
+  indicators: z.array(code).min(1),
+  periods: z.array(code).min(1),
+  local: z.boolean(),
+  panelVersionId: z.number().int().positive(),
+  boundaryVersionId: z.number().int().positive(),
+  /** Bumped when a change to the computation would change stored numbers. */
+  method: z.literal("tessera-runs/1"),
+});
+export type ResolvedRunParams = z.output<typeof resolvedRunParamsSchema>;
+
+export const RUN_METHOD = "tessera-runs/1" as const;
+
+/** A fresh seed for a run whose user left the seed empty (stored, so reruns repeat it). */
+export function freshSeed(): number {
+  return Math.floor(Math.random() * 2_147_483_647);
+}
