@@ -114,5 +114,5 @@ export type { Correction } from "./multiple-testing";
 // Rates and transitions.
 export { empiricalBayesStandardise } from "./empirical-bayes";
 export type { EmpiricalBayesResult } from "./empirical-bayes";
-export { transitionTable, spatialMarkov } from "./spatial-markov";
+export { transitionTable, spatialMarkov, clusterTransitions, CLUSTER_CLASSES } from "./spatial-markov";
 export type { TransitionTable, SpatialMarkovResult } from "./spatial-markov";

@@ -62,7 +62,8 @@ export type RegionValues =
   | Readonly<Record<string, number | null | undefined>>
   | ArrayLike<number | null | undefined>;
 
-function valueOf(values: RegionValues, id: string, index: number): unknown {
+/** The raw value of region `id` (position `index` for aligned arrays); internal helper. */
+export function valueOf(values: RegionValues, id: string, index: number): unknown {
   if (values instanceof Map) return values.get(id);
   if (isArrayLike(values)) return values[index];
   return Object.prototype.hasOwnProperty.call(values, id) ? (values as Record<string, unknown>)[id] : undefined;
