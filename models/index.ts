@@ -2,6 +2,15 @@ import { DataTypes } from "sequelize";
 import { db } from "@/lib/db";
 import { ROLES } from "@/lib/auth/roles";
 import { AuditEvent } from "./audit-event";
+import { BoundarySet } from "./boundary-set";
+import { BoundaryVersion } from "./boundary-version";
+import { ColumnMappingMemory } from "./column-mapping";
+import { Indicator } from "./indicator";
+import { Panel } from "./panel";
+import { PanelVersion } from "./panel-version";
+import { Region } from "./region";
+import { Upload } from "./upload";
+import { UPLOAD_KINDS, UPLOAD_STATES, VERSION_STATES } from "./intake-types";
 import { Invitation } from "./invitation";
 import { LoginAttempt } from "./login-attempt";
 import { Membership } from "./membership";
@@ -110,6 +119,156 @@ function initModels(): void {
     { ...common, tableName: "login_attempts", modelName: "LoginAttempt", timestamps: false },
   );
 
+  // Intake (migrations/20261201000400-*).
+  Indicator.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      workspaceId: { type: DataTypes.INTEGER, allowNull: false },
+      code: { type: DataTypes.STRING(120), allowNull: false },
+      label: { type: DataTypes.STRING(200), allowNull: false },
+      unit: { type: DataTypes.STRING(80), allowNull: true },
+      description: { type: DataTypes.TEXT, allowNull: true },
+      source: { type: DataTypes.STRING(400), allowNull: true },
+      higherIsBetter: { type: DataTypes.BOOLEAN, allowNull: true },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE,
+    },
+    { ...common, tableName: "indicators", modelName: "Indicator" },
+  );
+
+  BoundarySet.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      workspaceId: { type: DataTypes.INTEGER, allowNull: false },
+      name: { type: DataTypes.STRING(200), allowNull: false },
+      createdBy: { type: DataTypes.INTEGER, allowNull: true },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE,
+    },
+    { ...common, tableName: "boundary_sets", modelName: "BoundarySet" },
+  );
+
+  const versionState = {
+    type: DataTypes.STRING(20),
+    allowNull: false,
+    defaultValue: "uploaded",
+    validate: { isIn: [VERSION_STATES as unknown as string[]] },
+  };
+  const versionLifecycle = {
+    report: { type: DataTypes.JSONB, allowNull: true },
+    diff: { type: DataTypes.JSONB, allowNull: true },
+    createdBy: { type: DataTypes.INTEGER, allowNull: true },
+    validatedAt: { type: DataTypes.DATE, allowNull: true },
+    publishedAt: { type: DataTypes.DATE, allowNull: true },
+    archivedAt: { type: DataTypes.DATE, allowNull: true },
+    createdAt: DataTypes.DATE,
+    updatedAt: DataTypes.DATE,
+  };
+
+  BoundaryVersion.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      boundarySetId: { type: DataTypes.INTEGER, allowNull: false },
+      version: { type: DataTypes.INTEGER, allowNull: false },
+      state: versionState,
+      uploadId: { type: DataTypes.UUID, allowNull: true },
+      s3Key: { type: DataTypes.STRING(512), allowNull: false },
+      fileName: { type: DataTypes.STRING(255), allowNull: false },
+      byteSize: { type: DataTypes.BIGINT, allowNull: false },
+      sha256: { type: DataTypes.STRING(64), allowNull: false },
+      format: { type: DataTypes.STRING(20), allowNull: false, validate: { isIn: [["topojson", "geojson"]] } },
+      objectName: { type: DataTypes.STRING(200), allowNull: false },
+      idProperty: { type: DataTypes.STRING(200), allowNull: false },
+      nameProperty: { type: DataTypes.STRING(200), allowNull: true },
+      regionCount: { type: DataTypes.INTEGER, allowNull: true },
+      ...versionLifecycle,
+    },
+    { ...common, tableName: "boundary_versions", modelName: "BoundaryVersion" },
+  );
+
+  Region.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      boundaryVersionId: { type: DataTypes.INTEGER, allowNull: false },
+      code: { type: DataTypes.STRING(120), allowNull: false },
+      name: { type: DataTypes.STRING(300), allowNull: true },
+      attributes: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
+    },
+    { ...common, tableName: "regions", modelName: "Region", timestamps: false },
+  );
+
+  Panel.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      workspaceId: { type: DataTypes.INTEGER, allowNull: false },
+      name: { type: DataTypes.STRING(200), allowNull: false },
+      boundarySetId: { type: DataTypes.INTEGER, allowNull: false },
+      createdBy: { type: DataTypes.INTEGER, allowNull: true },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE,
+    },
+    { ...common, tableName: "panels", modelName: "Panel" },
+  );
+
+  PanelVersion.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      panelId: { type: DataTypes.INTEGER, allowNull: false },
+      version: { type: DataTypes.INTEGER, allowNull: false },
+      state: versionState,
+      uploadId: { type: DataTypes.UUID, allowNull: true },
+      s3Key: { type: DataTypes.STRING(512), allowNull: false },
+      fileName: { type: DataTypes.STRING(255), allowNull: false },
+      byteSize: { type: DataTypes.BIGINT, allowNull: false },
+      sha256: { type: DataTypes.STRING(64), allowNull: false },
+      layout: { type: DataTypes.STRING(10), allowNull: false, validate: { isIn: [["long", "wide"]] } },
+      decimalSeparator: { type: DataTypes.STRING(1), allowNull: false, defaultValue: "." },
+      mapping: { type: DataTypes.JSONB, allowNull: false },
+      boundaryVersionId: { type: DataTypes.INTEGER, allowNull: false },
+      rowCount: { type: DataTypes.INTEGER, allowNull: true },
+      ...versionLifecycle,
+    },
+    { ...common, tableName: "panel_versions", modelName: "PanelVersion" },
+  );
+
+  ColumnMappingMemory.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      workspaceId: { type: DataTypes.INTEGER, allowNull: false },
+      headerSignature: { type: DataTypes.STRING(64), allowNull: false },
+      layout: { type: DataTypes.STRING(10), allowNull: false },
+      mapping: { type: DataTypes.JSONB, allowNull: false },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE,
+    },
+    { ...common, tableName: "column_mappings", modelName: "ColumnMappingMemory" },
+  );
+
+  Upload.init(
+    {
+      id: { type: DataTypes.UUID, defaultValue: DataTypes.UUIDV4, primaryKey: true },
+      workspaceId: { type: DataTypes.INTEGER, allowNull: false },
+      kind: { type: DataTypes.STRING(20), allowNull: false, validate: { isIn: [UPLOAD_KINDS as unknown as string[]] } },
+      s3Key: { type: DataTypes.STRING(512), allowNull: false },
+      fileName: { type: DataTypes.STRING(255), allowNull: false },
+      declaredSize: { type: DataTypes.BIGINT, allowNull: false },
+      contentType: { type: DataTypes.STRING(120), allowNull: false },
+      sha256: { type: DataTypes.STRING(64), allowNull: false },
+      state: {
+        type: DataTypes.STRING(20),
+        allowNull: false,
+        defaultValue: "pending",
+        validate: { isIn: [UPLOAD_STATES as unknown as string[]] },
+      },
+      error: { type: DataTypes.TEXT, allowNull: true },
+      createdBy: { type: DataTypes.INTEGER, allowNull: true },
+      expiresAt: { type: DataTypes.DATE, allowNull: false },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE,
+    },
+    { ...common, tableName: "uploads", modelName: "Upload" },
+  );
+
   // Associations, all in one place.
   User.hasMany(Membership, { foreignKey: "userId", as: "memberships" });
   Membership.belongsTo(User, { foreignKey: "userId", as: "user" });
@@ -121,6 +280,16 @@ function initModels(): void {
   Invitation.belongsTo(User, { foreignKey: "invitedBy", as: "inviter" });
   Workspace.hasMany(AuditEvent, { foreignKey: "workspaceId", as: "auditEvents" });
   AuditEvent.belongsTo(User, { foreignKey: "actorId", as: "actor" });
+  Workspace.hasMany(Indicator, { foreignKey: "workspaceId", as: "indicators" });
+  Workspace.hasMany(BoundarySet, { foreignKey: "workspaceId", as: "boundarySets" });
+  BoundarySet.hasMany(BoundaryVersion, { foreignKey: "boundarySetId", as: "versions" });
+  BoundaryVersion.belongsTo(BoundarySet, { foreignKey: "boundarySetId", as: "boundarySet" });
+  BoundaryVersion.hasMany(Region, { foreignKey: "boundaryVersionId", as: "regions" });
+  Workspace.hasMany(Panel, { foreignKey: "workspaceId", as: "panels" });
+  Panel.belongsTo(BoundarySet, { foreignKey: "boundarySetId", as: "boundarySet" });
+  Panel.hasMany(PanelVersion, { foreignKey: "panelId", as: "versions" });
+  PanelVersion.belongsTo(Panel, { foreignKey: "panelId", as: "panel" });
+  PanelVersion.belongsTo(BoundaryVersion, { foreignKey: "boundaryVersionId", as: "boundaryVersion" });
 
   ready = true;
 }
@@ -128,7 +297,24 @@ function initModels(): void {
 /** Initialises the models on first use and returns them. */
 export function models() {
   initModels();
-  return { User, Workspace, Membership, Invitation, AuditEvent, LoginAttempt };
+  return {
+    User,
+    Workspace,
+    Membership,
+    Invitation,
+    AuditEvent,
+    LoginAttempt,
+    Indicator,
+    BoundarySet,
+    BoundaryVersion,
+    Region,
+    Panel,
+    PanelVersion,
+    ColumnMappingMemory,
+    Upload,
+  };
 }
 
 export { AuditEvent, Invitation, LoginAttempt, Membership, User, Workspace };
+export { BoundarySet, BoundaryVersion, ColumnMappingMemory, Indicator, Panel, PanelVersion, Region, Upload };
+export * from "./intake-types";

@@ -1,0 +1,416 @@
+/**
+ * Reads of intake data for the rest of Tessera (analyses, maps, the intake
+ * screens). Server-only. These functions do not authorise: a route handler or
+ * server action calls requireMember first and passes ids that belong to that
+ * workspace (use `panelVersionInWorkspace` / `boundaryVersionInWorkspace`).
+ *
+ * Analyses must only read published versions; `latestPublishedPanelVersion`
+ * and `publishedPanelVersions` return only those.
+ */
+import { to as copyTo } from "pg-copy-streams";
+import { QueryTypes } from "sequelize";
+import type { Topology } from "topojson-specification";
+import { db } from "@/lib/db";
+import { getObjectBytes } from "@/lib/storage/s3";
+import { parsePeriod, sortPeriods, type Period } from "./periods";
+import { intakePool } from "./ingest-db";
+import type { VersionState } from "@/models/intake-types";
+
+export interface PeriodRef {
+  key: string;
+  label: string;
+}
+
+/**
+ * A panel version as indicator × period × region values.
+ *
+ * - `regionCodes`: every region of the boundary version the panel was matched
+ *   against, in the boundary file's geometry order (the order of
+ *   `loadBoundaryTopology(...).regionCodes`).
+ * - `periods`: in time order. `indicators`: sorted by code.
+ * - `values.get(indicator).get(periodKey).get(regionCode)` is the value, or
+ *   null when the cell was given as missing or the panel has no row for it.
+ *   Every (indicator, period, region) of the three lists is present in the maps.
+ */
+export interface PanelMatrix {
+  panelVersionId: number;
+  boundaryVersionId: number;
+  state: VersionState;
+  indicators: string[];
+  periods: PeriodRef[];
+  regionCodes: string[];
+  values: Map<string, Map<string, Map<string, number | null>>>;
+}
+
+/**
+ * The same data in typed arrays, for large panels (3,000 regions × 30 periods
+ * × 50 indicators is 4.5 million values: about 36 MB here, several hundred MB as Maps).
+ * `columns.get(indicator)[periodIndex][regionIndex]` is the value, NaN when
+ * missing or absent. Indices follow `periods` and `regionCodes`.
+ */
+export interface PanelColumns {
+  panelVersionId: number;
+  boundaryVersionId: number;
+  state: VersionState;
+  indicators: string[];
+  periods: PeriodRef[];
+  regionCodes: string[];
+  columns: Map<string, Float64Array[]>;
+}
+
+export interface PanelSelection {
+  /** Indicator codes to read; all when absent. Unknown codes are an error. */
+  indicators?: readonly string[];
+  /** Period keys (e.g. `2019`, `2019-Q3`) to read; all when absent. Unknown keys are an error. */
+  periods?: readonly string[];
+}
+
+export interface BoundaryTopology {
+  boundaryVersionId: number;
+  state: VersionState;
+  /** The stored TopoJSON (GeoJSON uploads were converted at intake). */
+  topology: Topology;
+  objectName: string;
+  idProperty: string;
+  nameProperty: string | null;
+  /** Region codes in geometry order. */
+  regionCodes: string[];
+  /** Region names by code (null when no name property was chosen). */
+  regionNames: Map<string, string | null>;
+  coordinates: "planar" | "lonlat";
+}
+
+interface PanelVersionHead {
+  id: number;
+  state: VersionState;
+  boundary_version_id: number;
+}
+
+async function panelVersionHead(panelVersionId: number): Promise<PanelVersionHead> {
+  const rows = await db().query<PanelVersionHead>("SELECT id, state, boundary_version_id FROM panel_versions WHERE id = :id", {
+    replacements: { id: panelVersionId },
+    type: QueryTypes.SELECT,
+  });
+  const head = rows[0];
+  if (!head) throw new Error(`panel version ${panelVersionId} does not exist`);
+  return head;
+}
+
+/** Region codes of a boundary version in geometry order. */
+export async function regionCodesOf(boundaryVersionId: number): Promise<string[]> {
+  const rows = await db().query<{ code: string }>("SELECT code FROM regions WHERE boundary_version_id = :id ORDER BY id", {
+    replacements: { id: boundaryVersionId },
+    type: QueryTypes.SELECT,
+  });
+  return rows.map((r) => r.code);
+}
+
+/** Indicator codes and period keys stored for a panel version (periods in time order). */
+export async function panelDimensions(panelVersionId: number): Promise<{ indicators: string[]; periods: PeriodRef[] }> {
+  const indicatorRows = await db().query<{ code: string }>(
+    "SELECT DISTINCT indicator_code AS code FROM observations WHERE panel_version_id = :id ORDER BY 1",
+    { replacements: { id: panelVersionId }, type: QueryTypes.SELECT },
+  );
+  const periodRows = await db().query<{ key: string }>("SELECT DISTINCT period_key AS key FROM observations WHERE panel_version_id = :id", {
+    replacements: { id: panelVersionId },
+    type: QueryTypes.SELECT,
+  });
+  return { indicators: indicatorRows.map((r) => r.code), periods: orderPeriods(periodRows.map((r) => r.key)) };
+}
+
+function orderPeriods(keys: readonly string[]): PeriodRef[] {
+  const parsed: Period[] = [];
+  const unparsed: string[] = [];
+  for (const key of keys) {
+    const result = parsePeriod(key);
+    if (result.ok) parsed.push(result.period);
+    else unparsed.push(key);
+  }
+  return [...sortPeriods(parsed).map((p) => ({ key: p.key, label: p.label })), ...unparsed.sort().map((k) => ({ key: k, label: k }))];
+}
+
+// COPY text format: tab-separated, \N for NULL, backslash escapes.
+function unescapeCopyText(field: string): string {
+  if (!field.includes("\\")) return field;
+  return field.replace(/\\(.)/g, (_, c: string) => {
+    switch (c) {
+      case "t":
+        return "\t";
+      case "n":
+        return "\n";
+      case "r":
+        return "\r";
+      case "b":
+        return "\b";
+      case "f":
+        return "\f";
+      case "v":
+        return "\v";
+      default:
+        return c;
+    }
+  });
+}
+
+/**
+ * Streams (indicator, period, region, value) rows of one panel version with
+ * COPY TO, so a million rows never sit in memory as row objects.
+ */
+async function streamObservations(
+  panelVersionId: number,
+  selection: { indicators: readonly string[] | null; periods: readonly string[] | null },
+  onRow: (indicator: string, periodKey: string, region: string, value: number | null) => void,
+): Promise<void> {
+  const client = await intakePool().connect();
+  try {
+    // COPY takes no parameters: literals are quoted with pg's escapeLiteral.
+    const list = (values: readonly string[]) => (values.length ? values.map((v) => client.escapeLiteral(v)).join(",") : "NULL");
+    const filters: string[] = [`panel_version_id = ${Math.trunc(panelVersionId)}`];
+    if (selection.indicators) filters.push(`indicator_code IN (${list(selection.indicators)})`);
+    if (selection.periods) filters.push(`period_key IN (${list(selection.periods)})`);
+    const stream = client.query(
+      copyTo(`COPY (SELECT indicator_code, period_key, region_code, value FROM observations WHERE ${filters.join(" AND ")}) TO STDOUT`),
+    );
+    let rest = "";
+    const handleLine = (line: string) => {
+      if (line === "") return;
+      const parts = line.split("\t");
+      if (parts.length !== 4) throw new Error(`unexpected COPY line for panel version ${panelVersionId}: ${JSON.stringify(line.slice(0, 200))}`);
+      const raw = parts[3];
+      const value = raw === "\\N" ? null : Number(raw);
+      onRow(unescapeCopyText(parts[0]), unescapeCopyText(parts[1]), unescapeCopyText(parts[2]), value);
+    };
+    for await (const chunk of stream as AsyncIterable<Buffer>) {
+      const text = rest + chunk.toString("utf8");
+      const lines = text.split("\n");
+      rest = lines.pop() ?? "";
+      for (const line of lines) handleLine(line);
+    }
+    handleLine(rest);
+  } finally {
+    client.release();
+  }
+}
+
+async function resolveSelection(panelVersionId: number, selection: PanelSelection) {
+  const head = await panelVersionHead(panelVersionId);
+  const dims = await panelDimensions(panelVersionId);
+  const regionCodes = await regionCodesOf(head.boundary_version_id);
+  let indicators = dims.indicators;
+  if (selection.indicators) {
+    const known = new Set(dims.indicators);
+    const unknown = selection.indicators.filter((c) => !known.has(c));
+    if (unknown.length) throw new Error(`panel version ${panelVersionId} has no indicator ${unknown.map((c) => `'${c}'`).join(", ")}; it has ${dims.indicators.join(", ") || "none"}`);
+    const wanted = new Set(selection.indicators);
+    indicators = dims.indicators.filter((c) => wanted.has(c));
+  }
+  let periods = dims.periods;
+  if (selection.periods) {
+    const known = new Set(dims.periods.map((p) => p.key));
+    const unknown = selection.periods.filter((k) => !known.has(k));
+    if (unknown.length) throw new Error(`panel version ${panelVersionId} has no period ${unknown.map((k) => `'${k}'`).join(", ")}`);
+    const wanted = new Set(selection.periods);
+    periods = dims.periods.filter((p) => wanted.has(p.key));
+  }
+  return { head, indicators, periods, regionCodes };
+}
+
+/**
+ * Loads a panel version's values as nested Maps (see PanelMatrix).
+ * @throws naming the panel version when it does not exist, or an indicator or period it lacks.
+ */
+export async function loadPanelMatrix(panelVersionId: number, selection: PanelSelection = {}): Promise<PanelMatrix> {
+  const { head, indicators, periods, regionCodes } = await resolveSelection(panelVersionId, selection);
+  const values = new Map<string, Map<string, Map<string, number | null>>>();
+  for (const indicator of indicators) {
+    const byPeriod = new Map<string, Map<string, number | null>>();
+    for (const period of periods) byPeriod.set(period.key, new Map(regionCodes.map((code) => [code, null])));
+    values.set(indicator, byPeriod);
+  }
+  await streamObservations(
+    panelVersionId,
+    { indicators: selection.indicators ? indicators : null, periods: selection.periods ? periods.map((p) => p.key) : null },
+    (indicator, periodKey, region, value) => {
+      const byRegion = values.get(indicator)?.get(periodKey);
+      if (byRegion?.has(region)) byRegion.set(region, value);
+    },
+  );
+  return { panelVersionId, boundaryVersionId: head.boundary_version_id, state: head.state, indicators, periods, regionCodes, values };
+}
+
+/** Loads a panel version's values as Float64Arrays (see PanelColumns); NaN marks missing. */
+export async function loadPanelColumns(panelVersionId: number, selection: PanelSelection = {}): Promise<PanelColumns> {
+  const { head, indicators, periods, regionCodes } = await resolveSelection(panelVersionId, selection);
+  const regionIndex = new Map(regionCodes.map((code, i) => [code, i]));
+  const periodIndex = new Map(periods.map((p, i) => [p.key, i]));
+  const columns = new Map<string, Float64Array[]>();
+  for (const indicator of indicators) columns.set(indicator, periods.map(() => new Float64Array(regionCodes.length).fill(Number.NaN)));
+  await streamObservations(
+    panelVersionId,
+    { indicators: selection.indicators ? indicators : null, periods: selection.periods ? periods.map((p) => p.key) : null },
+    (indicator, periodKey, region, value) => {
+      const p = periodIndex.get(periodKey);
+      const r = regionIndex.get(region);
+      const series = columns.get(indicator);
+      if (p === undefined || r === undefined || !series) return;
+      series[p][r] = value === null ? Number.NaN : value;
+    },
+  );
+  return { panelVersionId, boundaryVersionId: head.boundary_version_id, state: head.state, indicators, periods, regionCodes, columns };
+}
+
+// Versions never change content, so a parsed topology can be kept; a few at most.
+const topologyCache = new Map<number, { topology: Topology; coordinates: "planar" | "lonlat" }>();
+const TOPOLOGY_CACHE_SIZE = 4;
+
+function coordinatesOf(topology: Topology): "planar" | "lonlat" {
+  let bbox = topology.bbox as number[] | undefined;
+  if (!bbox || bbox.length < 4) {
+    let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+    for (const arc of topology.arcs) {
+      let x = 0, y = 0;
+      for (const [px, py] of arc) {
+        if (topology.transform) {
+          x += px;
+          y += py;
+        } else {
+          x = px;
+          y = py;
+        }
+        const gx = topology.transform ? x * topology.transform.scale[0] + topology.transform.translate[0] : x;
+        const gy = topology.transform ? y * topology.transform.scale[1] + topology.transform.translate[1] : y;
+        x0 = Math.min(x0, gx); x1 = Math.max(x1, gx); y0 = Math.min(y0, gy); y1 = Math.max(y1, gy);
+      }
+    }
+    bbox = [x0, y0, x1, y1];
+  }
+  return bbox[0] >= -180 && bbox[2] <= 180 && bbox[1] >= -90 && bbox[3] <= 90 ? "lonlat" : "planar";
+}
+
+/**
+ * The stored TopoJSON of a boundary version with the object and properties
+ * that hold the regions, and the region codes in geometry order.
+ * @throws naming the boundary version when it does not exist or its file cannot be read.
+ */
+export async function loadBoundaryTopology(boundaryVersionId: number): Promise<BoundaryTopology> {
+  const rows = await db().query<{ id: number; state: VersionState; s3_key: string; object_name: string; id_property: string; name_property: string | null }>(
+    "SELECT id, state, s3_key, object_name, id_property, name_property FROM boundary_versions WHERE id = :id",
+    { replacements: { id: boundaryVersionId }, type: QueryTypes.SELECT },
+  );
+  const version = rows[0];
+  if (!version) throw new Error(`boundary version ${boundaryVersionId} does not exist`);
+  let cached = topologyCache.get(boundaryVersionId);
+  if (!cached) {
+    const bytes = await getObjectBytes(version.s3_key);
+    let topology: Topology;
+    try {
+      topology = JSON.parse(bytes.toString("utf8")) as Topology;
+    } catch (err) {
+      throw new Error(`boundary version ${boundaryVersionId}: stored TopoJSON ${version.s3_key} is not JSON (${err instanceof Error ? err.message : String(err)})`);
+    }
+    cached = { topology, coordinates: coordinatesOf(topology) };
+    topologyCache.set(boundaryVersionId, cached);
+    if (topologyCache.size > TOPOLOGY_CACHE_SIZE) {
+      const oldest = topologyCache.keys().next().value;
+      if (oldest !== undefined) topologyCache.delete(oldest);
+    }
+  }
+  const regionRows = await db().query<{ code: string; name: string | null }>("SELECT code, name FROM regions WHERE boundary_version_id = :id ORDER BY id", {
+    replacements: { id: boundaryVersionId },
+    type: QueryTypes.SELECT,
+  });
+  return {
+    boundaryVersionId,
+    state: version.state,
+    topology: cached.topology,
+    objectName: version.object_name,
+    idProperty: version.id_property,
+    nameProperty: version.name_property,
+    regionCodes: regionRows.map((r) => r.code),
+    regionNames: new Map(regionRows.map((r) => [r.code, r.name])),
+    coordinates: cached.coordinates,
+  };
+}
+
+export interface PublishedPanelVersion {
+  panelVersionId: number;
+  panelId: number;
+  panelName: string;
+  version: number;
+  boundaryVersionId: number;
+  boundarySetId: number;
+  publishedAt: Date;
+}
+
+/** Published panel versions of a workspace, newest version of each panel first. */
+export async function publishedPanelVersions(workspaceId: number): Promise<PublishedPanelVersion[]> {
+  const rows = await db().query<{
+    panel_version_id: number;
+    panel_id: number;
+    panel_name: string;
+    version: number;
+    boundary_version_id: number;
+    boundary_set_id: number;
+    published_at: Date;
+  }>(
+    `SELECT pv.id AS panel_version_id, p.id AS panel_id, p.name AS panel_name, pv.version, pv.boundary_version_id,
+            p.boundary_set_id, pv.published_at
+       FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
+      WHERE p.workspace_id = :workspaceId AND pv.state = 'published'
+      ORDER BY p.name, pv.version DESC`,
+    { replacements: { workspaceId }, type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => ({
+    panelVersionId: r.panel_version_id,
+    panelId: r.panel_id,
+    panelName: r.panel_name,
+    version: r.version,
+    boundaryVersionId: r.boundary_version_id,
+    boundarySetId: r.boundary_set_id,
+    publishedAt: r.published_at,
+  }));
+}
+
+/** The newest published version of a panel, or null. */
+export async function latestPublishedPanelVersion(workspaceId: number, panelId: number): Promise<PublishedPanelVersion | null> {
+  const all = await publishedPanelVersions(workspaceId);
+  return all.find((v) => v.panelId === panelId) ?? null;
+}
+
+/** Whether a panel version belongs to the workspace (and, when `publishedOnly`, is published). */
+export async function panelVersionInWorkspace(workspaceId: number, panelVersionId: number, publishedOnly = true): Promise<boolean> {
+  const rows = await db().query<{ state: VersionState }>(
+    "SELECT pv.state FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id WHERE pv.id = :id AND p.workspace_id = :workspaceId",
+    { replacements: { id: panelVersionId, workspaceId }, type: QueryTypes.SELECT },
+  );
+  const row = rows[0];
+  return Boolean(row) && (!publishedOnly || row.state === "published");
+}
+
+/** Whether a boundary version belongs to the workspace (and, when `publishedOnly`, is published). */
+export async function boundaryVersionInWorkspace(workspaceId: number, boundaryVersionId: number, publishedOnly = true): Promise<boolean> {
+  const rows = await db().query<{ state: VersionState }>(
+    "SELECT bv.state FROM boundary_versions bv JOIN boundary_sets s ON s.id = bv.boundary_set_id WHERE bv.id = :id AND s.workspace_id = :workspaceId",
+    { replacements: { id: boundaryVersionId, workspaceId }, type: QueryTypes.SELECT },
+  );
+  const row = rows[0];
+  return Boolean(row) && (!publishedOnly || row.state === "published");
+}
+
+export interface IndicatorMeta {
+  code: string;
+  label: string;
+  unit: string | null;
+  description: string | null;
+  source: string | null;
+  higherIsBetter: boolean | null;
+}
+
+/** Indicator metadata of a workspace by code. */
+export async function indicatorMetadata(workspaceId: number): Promise<IndicatorMeta[]> {
+  const rows = await db().query<{ code: string; label: string; unit: string | null; description: string | null; source: string | null; higher_is_better: boolean | null }>(
+    "SELECT code, label, unit, description, source, higher_is_better FROM indicators WHERE workspace_id = :workspaceId ORDER BY code",
+    { replacements: { workspaceId }, type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => ({ code: r.code, label: r.label, unit: r.unit, description: r.description, source: r.source, higherIsBetter: r.higher_is_better }));
+}
