@@ -1,5 +1,6 @@
 import { sendMail } from "@/lib/mail/send";
 import { sendInvitationEmail } from "@/lib/auth/invitation-mail";
+import { runPiece } from "@/lib/runs/worker";
 import type { JobPayload, QueueName } from "@/lib/jobs/queues";
 
 export type JobContext = { id: string; queue: QueueName; log: (message: string) => void };
@@ -18,5 +19,9 @@ export const handlers: { [Q in QueueName]: JobHandler<Q> } = {
   "invitation-email": async (payload, context) => {
     const messageId = await sendInvitationEmail(payload, context.id);
     context.log(`sent invitation ${payload.invitationId} as ${messageId}`);
+  },
+  "run-piece": async (payload, context) => {
+    const outcome = await runPiece(payload.runId, payload.indicator, context.log);
+    context.log(`run ${payload.runId} "${payload.indicator}": ${outcome}`);
   },
 };

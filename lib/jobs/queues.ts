@@ -15,6 +15,8 @@ export const queueSchemas = {
   }),
   /** Invitation to a workspace (lib/auth/invitation-mail.ts renders and sends it). */
   "invitation-email": invitationEmailPayloadSchema,
+  /** One indicator of an analysis run (lib/runs/worker.ts); several workers share a run's pieces. */
+  "run-piece": z.object({ runId: z.number().int().positive(), indicator: z.string().min(1).max(120) }),
 } as const;
 
 export type QueueName = keyof typeof queueSchemas;
@@ -32,6 +34,8 @@ export const DEFAULT_QUEUE_SETTINGS: QueueSettings = { retryLimit: 2, retryDelay
 
 export const queueSettings: Partial<Record<QueueName, QueueSettings>> = {
   "mail-test": { retryLimit: 1, retryDelay: 2, expireInSeconds: 60 },
+  // lib/runs/worker.ts PIECE_ATTEMPTS assumes retryLimit 2 (three attempts).
+  "run-piece": { retryLimit: 2, retryDelay: 2, retryBackoff: false, expireInSeconds: 30 * 60 },
 };
 
 export function isQueueName(name: string): name is QueueName {

@@ -301,28 +301,29 @@ export interface IndicatorPeriodValues {
 
 /**
  * Every period of one indicator (one piece of a run), in the order given,
- * with ΔI from the previous period. `onPeriod` is called after each period
- * (progress); when it returns false the computation stops early and the
- * periods done so far are returned.
+ * with ΔI from the previous period of the list.
  */
 export function computeIndicator(
   geometry: RunGeometry,
   params: PeriodParams,
   indicator: string,
   periods: readonly IndicatorPeriodValues[],
-  onPeriod?: (done: number, total: number) => boolean | void,
 ): PeriodResult[] {
-  const out: PeriodResult[] = [];
+  return withChanges(periods.map(({ period, values }) => computePeriod(geometry, params, indicator, period, values)));
+}
+
+/**
+ * Adds ΔI = I(this period) − I(previous period) to rows given in period
+ * order; null when either I is missing (not computed).
+ */
+export function withChanges(rows: readonly Omit<PeriodResult, "deltaI">[]): PeriodResult[] {
   let previousI: number | null = null;
-  for (let index = 0; index < periods.length; index++) {
-    const { period, values } = periods[index];
-    const row = computePeriod(geometry, params, indicator, period, values);
+  return rows.map((row) => {
     const I = row.moran?.I ?? null;
-    out.push({ ...row, deltaI: I !== null && previousI !== null ? I - previousI : null });
+    const deltaI = I !== null && previousI !== null ? I - previousI : null;
     previousI = I;
-    if (onPeriod && onPeriod(index + 1, periods.length) === false) break;
-  }
-  return out;
+    return { ...row, deltaI };
+  });
 }
 
 // ——— helpers ———

@@ -1,0 +1,176 @@
+/**
+ * Starting, cancelling and rerunning runs. Server-only; the caller has
+ * already authorised the member for "runs.manage" (route handlers) or is a
+ * trusted script (the demo seed, benchmarks).
+ */
+import { ConflictError, NotFoundError } from "@/lib/auth/errors";
+import { getBoss } from "@/lib/jobs/boss";
+import { enqueue } from "@/lib/jobs/enqueue";
+import { panelDimensions } from "@/lib/intake/queries";
+import { db } from "@/lib/db";
+import { QueryTypes } from "sequelize";
+import { freshSeed, RUN_METHOD, resolvedRunParamsSchema, type ResolvedRunParams, type RunParamsChoice } from "./schemas";
+import { cancelRun as cancelRunRow, insertRun, setPieceJobIds } from "./store";
+
+/** A request that is well-formed but names something the panel version does not have (HTTP 422). */
+export class RunInputError extends Error {
+  readonly status = 422;
+  constructor(
+    message: string,
+    readonly field: string,
+  ) {
+    super(message);
+    this.name = "RunInputError";
+  }
+}
+
+interface PanelVersionRow {
+  id: number;
+  state: string;
+  version: number;
+  boundary_version_id: number;
+  panel_name: string;
+  boundary_state: string;
+}
+
+async function panelVersionOf(workspaceId: number, panelVersionId: number): Promise<PanelVersionRow> {
+  const rows = await db().query<PanelVersionRow>(
+    `SELECT pv.id, pv.state, pv.version, pv.boundary_version_id, p.name AS panel_name, bv.state AS boundary_state
+       FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id JOIN boundary_versions bv ON bv.id = pv.boundary_version_id
+      WHERE pv.id = $1 AND p.workspace_id = $2`,
+    { bind: [panelVersionId, workspaceId], type: QueryTypes.SELECT },
+  );
+  const row = rows[0];
+  if (!row) throw new NotFoundError(`There is no panel version ${panelVersionId} in this workspace.`);
+  return row;
+}
+
+/**
+ * Checks that a panel version may be analysed and resolves the parameters:
+ * seed chosen when absent, indicators and periods listed explicitly.
+ * @throws ConflictError (409) when the version is not published; RunInputError (422) for unknown indicators or periods.
+ */
+export async function resolveRunParams(workspaceId: number, panelVersionId: number, choice: RunParamsChoice): Promise<ResolvedRunParams> {
+  const version = await panelVersionOf(workspaceId, panelVersionId);
+  if (version.state !== "published") {
+    throw new ConflictError(
+      `Panel "${version.panel_name}" version ${version.version} is ${version.state}; only published panel versions can be analysed. ` +
+        (version.state === "archived" ? "Run the panel's current published version instead." : "Ask a steward to validate and publish it first."),
+    );
+  }
+  if (version.boundary_state !== "published") {
+    throw new ConflictError(
+      `The boundaries of panel "${version.panel_name}" version ${version.version} are ${version.boundary_state}; analyses need published boundaries.`,
+    );
+  }
+  const dims = await panelDimensions(panelVersionId);
+  const periodKeys = dims.periods.map((p) => p.key);
+  const indicators = choice.indicators?.length ? dedupe(choice.indicators) : dims.indicators;
+  const unknownIndicators = indicators.filter((c) => !dims.indicators.includes(c));
+  if (unknownIndicators.length) {
+    throw new RunInputError(
+      `Panel "${version.panel_name}" version ${version.version} has no indicator ${unknownIndicators.map((c) => `"${c}"`).join(", ")}.`,
+      "indicators",
+    );
+  }
+  const wantedPeriods = choice.periods?.length ? new Set(choice.periods) : null;
+  const unknownPeriods = wantedPeriods ? [...wantedPeriods].filter((k) => !periodKeys.includes(k)) : [];
+  if (unknownPeriods.length) {
+    throw new RunInputError(
+      `Panel "${version.panel_name}" version ${version.version} has no period ${unknownPeriods.map((k) => `"${k}"`).join(", ")}.`,
+      "periods",
+    );
+  }
+  // Periods always in time order, whatever order they were chosen in.
+  const periods = wantedPeriods ? periodKeys.filter((k) => wantedPeriods.has(k)) : periodKeys;
+  if (indicators.length === 0 || periods.length === 0) {
+    throw new RunInputError(`Panel "${version.panel_name}" version ${version.version} has no observations to analyse.`, "panelVersionId");
+  }
+  return resolvedRunParamsSchema.parse({
+    weights: choice.weights,
+    transform: choice.transform,
+    islandPolicy: choice.islandPolicy,
+    permutations: choice.permutations,
+    seed: choice.seed ?? freshSeed(),
+    alpha: choice.alpha,
+    correction: choice.correction,
+    indicators: [...indicators].sort(),
+    periods,
+    local: choice.local,
+    panelVersionId,
+    boundaryVersionId: version.boundary_version_id,
+    method: RUN_METHOD,
+  });
+}
+
+function dedupe(values: readonly string[]): string[] {
+  return [...new Set(values)];
+}
+
+/** Queues one job per indicator of a stored run. */
+export async function enqueuePieces(runId: number, indicators: readonly string[]): Promise<void> {
+  const jobs: { indicator: string; jobId: string | null }[] = [];
+  for (const indicator of indicators) {
+    const jobId = await enqueue("run-piece", { runId, indicator });
+    jobs.push({ indicator, jobId });
+  }
+  await setPieceJobIds(runId, jobs);
+}
+
+export interface StartedRun {
+  runId: number;
+  params: ResolvedRunParams;
+}
+
+/** Creates a run and queues its pieces. */
+export async function startRun(args: {
+  workspaceId: number;
+  userId: number | null;
+  panelVersionId: number;
+  choice: RunParamsChoice;
+  origin?: "user" | "demo" | "benchmark";
+}): Promise<StartedRun> {
+  const params = await resolveRunParams(args.workspaceId, args.panelVersionId, args.choice);
+  const runId = await insertRun({ workspaceId: args.workspaceId, params, createdBy: args.userId, origin: args.origin ?? "user" });
+  await enqueuePieces(runId, params.indicators);
+  return { runId, params };
+}
+
+/**
+ * Starts a new run with exactly the stored parameters of an earlier one
+ * (same seed, same data version), so every number is reproduced.
+ */
+export async function rerun(args: { workspaceId: number; userId: number | null; runId: number }): Promise<StartedRun> {
+  const rows = await db().query<{ params: ResolvedRunParams }>("SELECT params FROM runs WHERE id = $1 AND workspace_id = $2", {
+    bind: [args.runId, args.workspaceId],
+    type: QueryTypes.SELECT,
+  });
+  const stored = rows[0];
+  if (!stored) throw new NotFoundError(`There is no run ${args.runId} in this workspace.`);
+  const previous = resolvedRunParamsSchema.parse(stored.params);
+  const version = await panelVersionOf(args.workspaceId, previous.panelVersionId);
+  if (version.state !== "published") {
+    throw new ConflictError(
+      `Run ${args.runId} analysed panel "${version.panel_name}" version ${version.version}, which is now ${version.state}; only published versions can be analysed. Start a new run on the current version instead.`,
+    );
+  }
+  const runId = await insertRun({ workspaceId: args.workspaceId, params: previous, createdBy: args.userId, origin: "rerun", rerunOf: args.runId });
+  await enqueuePieces(runId, previous.indicators);
+  return { runId, params: previous };
+}
+
+/** Cancels a queued or running run; queued pieces are withdrawn from the queue, running ones stop at their next period. */
+export async function cancelRun(args: { workspaceId: number; userId: number | null; runId: number }): Promise<void> {
+  const rows = await db().query<{ state: string }>("SELECT state FROM runs WHERE id = $1 AND workspace_id = $2", {
+    bind: [args.runId, args.workspaceId],
+    type: QueryTypes.SELECT,
+  });
+  const run = rows[0];
+  if (!run) throw new NotFoundError(`There is no run ${args.runId} in this workspace.`);
+  const result = await cancelRunRow(args.runId, args.userId);
+  if (!result.cancelled) throw new ConflictError(`Run ${args.runId} is already ${run.state}; only queued or running runs can be cancelled.`);
+  if (result.jobIds.length) {
+    const boss = await getBoss();
+    await boss.cancel("run-piece", result.jobIds).catch(() => undefined);
+  }
+}

@@ -1,0 +1,86 @@
+/**
+ * The pg-boss handler of one run piece (one indicator of a run). Several
+ * workers take pieces of the same run at once. Safe to repeat: a piece that
+ * is already completed, or whose run was cancelled or failed, is skipped; a
+ * retried piece replaces the rows of its earlier attempt (store.ts).
+ */
+import { loadBoundaryTopology, loadPanelMatrix } from "@/lib/intake/queries";
+import { buildRunGeometry, computePeriod, messageOf, withChanges, type RunGeometry } from "./compute";
+import type { ResolvedRunParams } from "./schemas";
+import { completePiece, failPiece, recordPieceProgress, startPiece } from "./store";
+import type { PeriodResult } from "./types";
+
+/** pg-boss retries a failed piece twice (queues.ts: retryLimit 2), so three attempts in all. */
+export const PIECE_ATTEMPTS = 3;
+
+// Versions never change, so weights built for one (rule, policy) can be reused by later pieces in this process.
+const geometryCache = new Map<string, RunGeometry>();
+const GEOMETRY_CACHE_SIZE = 8;
+
+export async function geometryFor(params: Pick<ResolvedRunParams, "boundaryVersionId" | "weights" | "islandPolicy">): Promise<RunGeometry> {
+  const key = `${params.boundaryVersionId}|${params.weights}|${params.islandPolicy}`;
+  const cached = geometryCache.get(key);
+  if (cached) return cached;
+  const boundary = await loadBoundaryTopology(params.boundaryVersionId);
+  const geometry = buildRunGeometry(boundary.topology, { object: boundary.objectName, idProperty: boundary.idProperty }, params);
+  geometryCache.set(key, geometry);
+  if (geometryCache.size > GEOMETRY_CACHE_SIZE) {
+    const oldest = geometryCache.keys().next().value;
+    if (oldest !== undefined) geometryCache.delete(oldest);
+  }
+  return geometry;
+}
+
+export type PieceOutcome = "completed-run" | "completed-piece" | "skipped" | "cancelled";
+
+/**
+ * Computes and stores one piece. Throws (so pg-boss retries) when something
+ * unexpected fails; after the last attempt the run is marked failed with the
+ * message.
+ */
+export async function runPiece(runId: number, indicator: string, log: (message: string) => void = () => undefined): Promise<PieceOutcome> {
+  const start = await startPiece(runId, indicator);
+  if (!start) {
+    log(`run ${runId} or its piece "${indicator}" no longer exists; nothing to do`);
+    return "skipped";
+  }
+  if (start.pieceState !== "running") {
+    log(`run ${runId} piece "${indicator}" skipped (run ${start.runState}, piece ${start.pieceState})`);
+    return "skipped";
+  }
+  const { params } = start;
+  try {
+    const geometry = await geometryFor(params);
+    const matrix = await loadPanelMatrix(params.panelVersionId, { indicators: [indicator], periods: params.periods });
+    const byPeriod = matrix.values.get(indicator);
+    if (!byPeriod) throw new Error(`panel version ${params.panelVersionId} returned no values for indicator "${indicator}"`);
+    const rows: Omit<PeriodResult, "deltaI">[] = [];
+    let lastReport = 0;
+    for (let index = 0; index < params.periods.length; index++) {
+      const period = params.periods[index];
+      const values = byPeriod.get(period);
+      if (!values) throw new Error(`panel version ${params.panelVersionId} returned no values for indicator "${indicator}" in period "${period}"`);
+      rows.push(computePeriod(geometry, params, indicator, period, values));
+      // Progress (and a look for cancellation) at most every 250 ms, and after the last period.
+      const now = Date.now();
+      if (now - lastReport > 250 || index === params.periods.length - 1) {
+        lastReport = now;
+        const state = await recordPieceProgress(runId, indicator, index + 1);
+        if (state === "cancelled" || state === "failed") {
+          log(`run ${runId} is ${state}; piece "${indicator}" stops after ${index + 1} period(s) without storing`);
+          return "cancelled";
+        }
+      }
+    }
+    const periodIndexOf = new Map(params.periods.map((p, i) => [p, i]));
+    const outcome = await completePiece(runId, indicator, periodIndexOf, withChanges(rows));
+    if (outcome.skipped) return "cancelled";
+    log(`run ${runId} piece "${indicator}": ${rows.length} period(s) stored${outcome.completedRun ? "; run completed" : ""}`);
+    return outcome.completedRun ? "completed-run" : "completed-piece";
+  } catch (error) {
+    const message = messageOf(error);
+    const finalAttempt = start.attempts >= PIECE_ATTEMPTS;
+    await failPiece(runId, indicator, message, finalAttempt).catch((e: unknown) => log(`could not record the failure: ${messageOf(e)}`));
+    throw new Error(`run ${runId} piece "${indicator}" attempt ${start.attempts} of ${PIECE_ATTEMPTS} failed: ${message}`);
+  }
+}
