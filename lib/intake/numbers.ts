@@ -45,8 +45,7 @@ export function parseNumber(raw: string, decimal: DecimalSeparator): NumberParse
   // A typographic minus (U+2212) is a minus sign; normalise before matching.
   const text = trimmed.replace(/^\u2212/, "-").replace(SPACES, " ");
   const pattern = decimal === "." ? POINT_DECIMAL : COMMA_DECIMAL;
-  // The mantissa (before any exponent) must hold a digit, so 'e5' is refused.
-  if (/\d/.test(text.split(/[eE]/)[0]) && pattern.test(text)) {
+  if (hasMantissaDigit(text) && pattern.test(text)) {
     const other = decimal === "." ? "," : ".";
     const groupedWithOtherMark = text.includes(other);
     const plain = decimal === "." ? text.replace(/[, ']/g, "") : text.replace(/[. ']/g, "").replace(",", ".");
@@ -57,15 +56,21 @@ export function parseNumber(raw: string, decimal: DecimalSeparator): NumberParse
   return { kind: "invalid", message: invalidMessage(trimmed, decimal) };
 }
 
+/** The mantissa (before any exponent) must hold a digit, so 'e5' is refused. */
+function hasMantissaDigit(text: string): boolean {
+  return /\d/.test(text.split(/[eE]/)[0]);
+}
+
 function invalidMessage(text: string, decimal: DecimalSeparator): string {
   const base = `'${text}' is not a number`;
   if (/%\s*$/.test(text)) return `${base}: remove the % sign (give 12.5 for 12.5 %)`;
-  if (/^[+-]?[\d.,\s']*\d[\d.,\s']*\s*[A-Za-z€$£¥]+$|^[A-Za-z€$£¥]+\s*[+-]?[\d.,\s']*\d/.test(text)) {
+  // A unit is two or more letters or a currency sign before or after the digits ('e5' is not a unit).
+  if (/^[+-]?[\d.,\s']*\d[\d.,\s']*\s*(?:[A-Za-z]{2,}|[€$£¥])$|^(?:[A-Za-z]{2,}|[€$£¥])\s*[+-]?[\d.,\s']*\d/.test(text)) {
     return `${base}: remove the unit or currency from the value`;
   }
   const otherDecimal = decimal === "." ? "," : ".";
   const otherPattern = decimal === "." ? COMMA_DECIMAL : POINT_DECIMAL;
-  if (/\d/.test(text) && otherPattern.test(text)) {
+  if (hasMantissaDigit(text) && otherPattern.test(text)) {
     return `${base} with '${decimal}' as the decimal separator; it looks like '${otherDecimal}' is the decimal separator (choose decimal '${otherDecimal}')`;
   }
   return `${base} (decimal separator '${decimal}'; missing values may be empty, NA, '..' or '-')`;
