@@ -1,6 +1,7 @@
 import { sendMail } from "@/lib/mail/send";
 import { sendInvitationEmail } from "@/lib/auth/invitation-mail";
 import { runPiece } from "@/lib/runs/worker";
+import { runIntakeValidation } from "@/lib/intake/jobs";
 import type { JobPayload, QueueName } from "@/lib/jobs/queues";
 
 export type JobContext = { id: string; queue: QueueName; log: (message: string) => void };
@@ -23,5 +24,8 @@ export const handlers: { [Q in QueueName]: JobHandler<Q> } = {
   "run-piece": async (payload, context) => {
     const outcome = await runPiece(payload.runId, payload.indicator, context.log);
     context.log(`run ${payload.runId} "${payload.indicator}": ${outcome}`);
+  },
+  "intake-validate": async (payload, context) => {
+    await runIntakeValidation(payload, context.log);
   },
 };

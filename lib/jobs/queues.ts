@@ -17,6 +17,8 @@ export const queueSchemas = {
   "invitation-email": invitationEmailPayloadSchema,
   /** One indicator of an analysis run (lib/runs/worker.ts); several workers share a run's pieces. */
   "run-piece": z.object({ runId: z.number().int().positive(), indicator: z.string().min(1).max(120) }),
+  /** Validate and store one uploaded boundary or panel version (lib/intake/jobs.ts). */
+  "intake-validate": z.object({ kind: z.enum(["boundaries", "panel"]), versionId: z.number().int().positive() }),
 } as const;
 
 export type QueueName = keyof typeof queueSchemas;
@@ -36,6 +38,8 @@ export const queueSettings: Partial<Record<QueueName, QueueSettings>> = {
   "mail-test": { retryLimit: 1, retryDelay: 2, expireInSeconds: 60 },
   // lib/runs/worker.ts PIECE_ATTEMPTS assumes retryLimit 2 (three attempts).
   "run-piece": { retryLimit: 2, retryDelay: 2, retryBackoff: false, expireInSeconds: 30 * 60 },
+  // A million-row panel takes well under a minute; retries only matter if a worker dies mid-ingest.
+  "intake-validate": { retryLimit: 2, retryDelay: 5, expireInSeconds: 30 * 60 },
 };
 
 export function isQueueName(name: string): name is QueueName {
