@@ -16,7 +16,7 @@ import { randomBytes } from "node:crypto";
 import fs from "node:fs";
 import path from "node:path";
 import { stopStalePostgres } from "./services/postgres.mjs";
-import { startNext, startServices, startWorker, migrateAndSeed } from "./services/stack.mjs";
+import { localServices, migrateAndSeed, startNext, startServices, startWorker } from "./services/stack.mjs";
 import { Supervisor, installSignalHandlers, killStaleChildren } from "./services/supervisor.mjs";
 import { ROOT, UserFacingError, assertPortsFree, bold, buildIfNeeded, ensureNodeModules, green, log, readDotEnv, red } from "./services/util.mjs";
 
@@ -61,10 +61,21 @@ function loadEnv() {
     if (!env[name]) throw new UserFacingError(`${name} is empty in .env (see .env.example for its default).`);
   }
   const s3Url = new URL(env.S3_ENDPOINT);
-  if (Number(s3Url.port || 80) !== ports.S3.port) throw new UserFacingError(`S3_ENDPOINT (${env.S3_ENDPOINT}) and S3_PORT (${ports.S3.port}) disagree in .env.`);
+  if (localServices(env).s3 && Number(s3Url.port || 80) !== ports.S3.port) throw new UserFacingError(`S3_ENDPOINT (${env.S3_ENDPOINT}) and S3_PORT (${ports.S3.port}) disagree in .env.`);
   const appUrl = new URL(env.NEXTAUTH_URL);
   if (Number(appUrl.port || 80) !== ports.APP.port) throw new UserFacingError(`NEXTAUTH_URL (${env.NEXTAUTH_URL}) and APP_PORT (${ports.APP.port}) disagree in .env.`);
   return { env, ports };
+}
+
+/** The ports this start will listen on (external services are not started, so not checked). */
+function portsToCheck(env, ports) {
+  const local = localServices(env);
+  return [
+    { ...ports.APP, service: "web app" },
+    local.pg && { ...ports.PG, service: "PostgreSQL" },
+    local.s3 && { ...ports.S3, service: "S3 (s3rver)" },
+    local.smtp && { ...ports.SMTP, service: "SMTP sink" },
+  ].filter(Boolean);
 }
 
 function printBanner(url, seconds) {
@@ -90,16 +101,8 @@ function printBanner(url, seconds) {
 async function main() {
   const started = Date.now();
   if (checkOnly) {
-    const { ports } = loadEnv();
-    await assertPortsFree(
-      [
-        { ...ports.APP, service: "web app" },
-        { ...ports.PG, service: "PostgreSQL" },
-        { ...ports.S3, service: "S3 (s3rver)" },
-        { ...ports.SMTP, service: "SMTP sink" },
-      ],
-      "in .env (or in the environment, which wins over .env)",
-    );
+    const { env, ports } = loadEnv();
+    await assertPortsFree(portsToCheck(env, ports), "in .env (or in the environment, which wins over .env)");
     log("check", "configuration read; all ports are free");
     return 0;
   }
@@ -112,15 +115,7 @@ async function main() {
   const pidFile = path.join(STORAGE, ".start-pids");
   await killStaleChildren(pidFile);
   await stopStalePostgres(path.join(STORAGE, "postgres"));
-  await assertPortsFree(
-    [
-      { ...ports.APP, service: "web app" },
-      { ...ports.PG, service: "PostgreSQL" },
-      { ...ports.S3, service: "S3 (s3rver)" },
-      { ...ports.SMTP, service: "SMTP sink" },
-    ],
-    "in .env",
-  );
+  await assertPortsFree(portsToCheck(env, ports), "in .env");
 
   const supervisor = new Supervisor({ pidFile });
   let exiting = false;

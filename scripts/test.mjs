@@ -39,6 +39,8 @@ const BIN = path.join(ROOT, "node_modules", ".bin");
 /** Totals over every stage; a stage that crashes counts as one failure. */
 const totals = { passed: 0, failed: 0 };
 const stages = [];
+const timings = [];
+let interrupted = false;
 
 function port(variable, fallback) {
   const raw = process.env[variable] ?? String(fallback);
@@ -86,12 +88,14 @@ async function runJest(supervisor, name, env, extraArgs) {
   const outputFile = path.join(RESULTS_DIR, `${name}.json`);
   fs.rmSync(outputFile, { force: true });
   log("test", `${bold(name)}: jest ${extraArgs.join(" ")}`);
+  const stageStarted = Date.now();
   const record = supervisor.spawn(`jest:${name}`, path.join(BIN, "jest"), ["--runInBand", "--passWithNoTests", "--json", `--outputFile=${outputFile}`, ...extraArgs], {
     env: { ...env, NODE_ENV: "test" },
     inherit: true,
     stopTimeoutMs: 5_000,
   });
   await record.exitPromise;
+  if (interrupted) return; // the signal handler reports and tears down
   let passed = 0;
   let failed = 0;
   let note = "";
@@ -113,11 +117,13 @@ async function runJest(supervisor, name, env, extraArgs) {
   }
   totals.passed += passed;
   totals.failed += failed;
-  stages.push({ name, passed, failed, note });
-  log("test", `${name}: ${passed} passed, ${failed} failed${note}`);
+  const seconds = Math.round((Date.now() - stageStarted) / 1000);
+  stages.push({ name, passed, failed, note, seconds });
+  log("test", `${name}: ${passed} passed, ${failed} failed${note} (${seconds} s)`);
 }
 
 function stageCrashed(name, err) {
+  if (interrupted) return; // counted once as "interrupted"
   totals.failed += 1;
   const message = err instanceof UserFacingError ? err.message : err?.stack ?? String(err);
   stages.push({ name, passed: 0, failed: 1, note: ` (${message.split("\n")[0]})` });
@@ -158,7 +164,11 @@ async function ensureChromium() {
 function printSummary() {
   if (stages.length) {
     process.stdout.write(`\n${bold("Summary")}\n`);
-    for (const s of stages) process.stdout.write(`  ${s.failed ? red("✗") : green("✓")} ${s.name.padEnd(20)} ${s.passed} passed, ${s.failed} failed${s.note}\n`);
+    for (const s of stages) {
+      const time = s.seconds !== undefined ? ` in ${s.seconds} s` : "";
+      process.stdout.write(`  ${s.failed ? red("✗") : green("✓")} ${s.name.padEnd(18)} ${s.passed} passed, ${s.failed} failed${time}${s.note}\n`);
+    }
+    if (timings.length) process.stdout.write(`  timings: ${timings.join(", ")}\n`);
   }
   process.stdout.write(`${totals.passed} passed, ${totals.failed} failed\n`);
 }
@@ -189,15 +199,21 @@ async function main() {
   const supervisor = new Supervisor({ pidFile: PID_FILE });
   const stack = { env, storageDir: TEST_DIR, ports, supervisor, logDir: LOG_DIR, fastPostgres: true };
   let finishing = false;
-  const finish = async (interrupted) => {
+  const finish = async () => {
     if (finishing) return;
     finishing = true;
-    if (interrupted) stageCrashed("interrupted", new UserFacingError("stopped by a signal before the tests finished"));
+    if (interrupted) {
+      totals.failed += 1;
+      stages.push({ name: "interrupted", passed: 0, failed: 1, note: " (stopped by a signal before the tests finished)" });
+    }
     await supervisor.stopAll();
     if (!servicesOnly || totals.failed > 0) printSummary();
     process.exit(totals.failed > 0 ? 1 : 0);
   };
-  installSignalHandlers(supervisor, () => (servicesOnly ? finish(false) : finish(true)));
+  installSignalHandlers(supervisor, () => {
+    interrupted = !servicesOnly;
+    return finish();
+  });
   supervisor.onUnexpectedExit = (record) => {
     if (record.name.startsWith("jest:")) return;
     log("test", red(`${record.name} exited unexpectedly (${record.signal ?? `exit ${record.code}`}); see ${path.relative(ROOT, LOG_DIR)}/${record.name}.log`));
@@ -208,10 +224,12 @@ async function main() {
     await startServices(stack);
     await migrateAndSeed(stack);
     await startWorker(stack);
-    log("test", `test services up in ${((Date.now() - started) / 1000).toFixed(1)} s (logs in ${path.relative(ROOT, LOG_DIR)}/)`);
+    const upSeconds = ((Date.now() - started) / 1000).toFixed(1);
+    timings.push(`bring-up ${upSeconds} s`);
+    log("test", `test services up in ${upSeconds} s (logs in ${path.relative(ROOT, LOG_DIR)}/)`);
   } catch (err) {
     stageCrashed("bring-up", err);
-    return finish(false);
+    return finish();
   }
 
   if (servicesOnly) {
@@ -233,6 +251,7 @@ async function main() {
   }
 
   // Stage 2: browser.
+  if (interrupted || finishing) return new Promise(() => {}); // teardown in progress
   if (skipBrowser) {
     log("test", "browser tests skipped (--skip-browser)");
   } else if (!selectedBrowserTests().length) {
@@ -240,8 +259,12 @@ async function main() {
   } else {
     try {
       await ensureChromium();
-      await buildIfNeeded({ env, tag: "build", logFile: path.join(LOG_DIR, "next-build.log") });
+      const buildStarted = Date.now();
+      const built = await buildIfNeeded({ env, tag: "build", logFile: path.join(LOG_DIR, "next-build.log") });
+      timings.push(built ? `next build ${Math.round((Date.now() - buildStarted) / 1000)} s` : "next build skipped (unchanged)");
+      const appStarted = Date.now();
       await startNext(stack);
+      timings.push(`next start ${((Date.now() - appStarted) / 1000).toFixed(1)} s`);
       log("test", `app up at ${appUrl}`);
       await runJest(supervisor, "browser", env, ["-c", "jest.browser.config.mjs", ...filters]);
     } catch (err) {
@@ -249,8 +272,9 @@ async function main() {
     }
   }
 
+  timings.push(`total ${Math.round((Date.now() - started) / 1000)} s`);
   log("test", `done in ${Math.round((Date.now() - started) / 1000)} s; stopping services`);
-  await finish(false);
+  await finish();
 }
 
 main().catch((err) => {

@@ -22,33 +22,76 @@ function childLog(stack, name) {
   return stack.logDir ? path.join(stack.logDir, `${name}.log`) : undefined;
 }
 
-/** PostgreSQL + s3rver + SMTP sink. */
+const LOOPBACK = new Set(["127.0.0.1", "localhost", "::1", "[::1]"]);
+
+/**
+ * Which services run locally. A DATABASE_URL, S3_ENDPOINT or SMTP_HOST that
+ * points elsewhere means "use that one": nothing is started for it.
+ */
+export function localServices(env) {
+  const host = (url) => {
+    try {
+      return new URL(url).hostname;
+    } catch {
+      return "";
+    }
+  };
+  return {
+    pg: LOOPBACK.has(host(env.DATABASE_URL)),
+    s3: LOOPBACK.has(host(env.S3_ENDPOINT)),
+    smtp: LOOPBACK.has(env.SMTP_HOST ?? ""),
+  };
+}
+
+/** PostgreSQL + s3rver + SMTP sink (those that are local). */
 export async function startServices(stack) {
   const { env, storageDir, ports, supervisor } = stack;
-  await startPostgres({
-    dataRoot: path.join(storageDir, "postgres"),
-    port: ports.PG.port,
-    portVariable: ports.PG.variable,
-    databaseUrl: env.DATABASE_URL,
-    supervisor,
-    fast: Boolean(stack.fastPostgres),
-  });
+  const local = localServices(env);
+  if (local.pg) {
+    await startPostgres({
+      dataRoot: path.join(storageDir, "postgres"),
+      port: ports.PG.port,
+      portVariable: ports.PG.variable,
+      databaseUrl: env.DATABASE_URL,
+      supervisor,
+      fast: Boolean(stack.fastPostgres),
+    });
+  } else {
+    const u = new URL(env.DATABASE_URL);
+    await waitForPort(Number(u.port || 5432), { host: u.hostname, what: `PostgreSQL from DATABASE_URL (${u.hostname})`, timeoutMs: 10_000 });
+    log("services", `using the external PostgreSQL at ${u.hostname}:${u.port || 5432} (DATABASE_URL)`);
+  }
 
-  const origin = new URL(env.NEXTAUTH_URL).origin;
-  const origins = [...new Set([origin, origin.replace("127.0.0.1", "localhost"), origin.replace("localhost", "127.0.0.1")])];
-  const s3 = supervisor.spawn("s3rver", process.execPath, [path.join(ROOT, "scripts/services/s3-server.mjs")], {
-    env: { ...env, S3_DIR: path.join(storageDir, "s3"), S3_CORS_ORIGINS: origins.join(",") },
-    logFile: childLog(stack, "s3rver"),
-    ipc: true,
-  });
-  const smtp = supervisor.spawn("smtp-sink", process.execPath, [path.join(ROOT, "scripts/services/smtp-sink.mjs")], {
-    env,
-    logFile: childLog(stack, "smtp-sink"),
-    ipc: true,
-  });
-  await waitForPort(ports.S3.port, { what: `s3rver (${ports.S3.variable}=${ports.S3.port})`, alive: () => !s3.exited, timeoutMs: 20_000 });
-  await waitForPort(ports.SMTP.port, { what: `SMTP sink (${ports.SMTP.variable}=${ports.SMTP.port})`, alive: () => !smtp.exited, timeoutMs: 20_000 });
-  log("services", `s3rver on http://${HOST}:${ports.S3.port} (bucket ${env.S3_BUCKET}), SMTP sink on ${HOST}:${ports.SMTP.port}`);
+  let s3 = null;
+  if (local.s3) {
+    const origin = new URL(env.NEXTAUTH_URL).origin;
+    const origins = [...new Set([origin, origin.replace("127.0.0.1", "localhost"), origin.replace("localhost", "127.0.0.1")])];
+    s3 = supervisor.spawn("s3rver", process.execPath, [path.join(ROOT, "scripts/services/s3-server.mjs")], {
+      env: { ...env, S3_DIR: path.join(storageDir, "s3"), S3_CORS_ORIGINS: origins.join(",") },
+      logFile: childLog(stack, "s3rver"),
+      ipc: true,
+    });
+  } else {
+    log("services", `using the external S3 at ${env.S3_ENDPOINT} (S3_ENDPOINT); bucket ${env.S3_BUCKET} and its CORS rule must exist there`);
+  }
+  let smtp = null;
+  if (local.smtp) {
+    smtp = supervisor.spawn("smtp-sink", process.execPath, [path.join(ROOT, "scripts/services/smtp-sink.mjs")], {
+      env,
+      logFile: childLog(stack, "smtp-sink"),
+      ipc: true,
+    });
+  } else {
+    log("services", `sending mail through ${env.SMTP_HOST}:${env.SMTP_PORT} (SMTP_HOST); the Outbox page stays empty`);
+  }
+  if (s3) await waitForPort(ports.S3.port, { what: `s3rver (${ports.S3.variable}=${ports.S3.port})`, alive: () => !s3.exited, timeoutMs: 20_000 });
+  if (smtp) await waitForPort(ports.SMTP.port, { what: `SMTP sink (${ports.SMTP.variable}=${ports.SMTP.port})`, alive: () => !smtp.exited, timeoutMs: 20_000 });
+  if (s3 || smtp) {
+    log(
+      "services",
+      [s3 && `s3rver on http://${HOST}:${ports.S3.port} (bucket ${env.S3_BUCKET})`, smtp && `SMTP sink on ${HOST}:${ports.SMTP.port}`].filter(Boolean).join(", "),
+    );
+  }
 }
 
 /** sequelize-cli db:migrate, then db:seed:all (seeders are idempotent; applied ones are recorded). */
