@@ -71,9 +71,9 @@ function loadEnv() {
 function portsToCheck(env, ports) {
   const local = localServices(env);
   return [
-    { ...ports.APP, service: "web app" },
-    local.pg && { ...ports.PG, service: "PostgreSQL" },
-    local.s3 && { ...ports.S3, service: "S3 (s3rver)" },
+    { ...ports.APP, service: "web app", related: "NEXTAUTH_URL" },
+    local.pg && { ...ports.PG, service: "PostgreSQL", related: "DATABASE_URL" },
+    local.s3 && { ...ports.S3, service: "S3 (s3rver)", related: "S3_ENDPOINT" },
     local.smtp && { ...ports.SMTP, service: "SMTP sink" },
   ].filter(Boolean);
 }

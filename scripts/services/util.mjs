@@ -73,7 +73,7 @@ export function isPortFree(port, host = HOST) {
 
 /**
  * Throws a UserFacingError naming every busy port and the variable that moves it.
- * @param {{port:number, variable:string, service:string}[]} wanted
+ * @param {{port:number, variable:string, service:string, related?:string}[]} wanted related: a variable that repeats the port
  * @param {string} where where to set the variable, e.g. "in .env"; "{var}" is replaced by its name
  */
 export async function assertPortsFree(wanted, where) {
@@ -86,7 +86,7 @@ export async function assertPortsFree(wanted, where) {
   }
   if (busy.length) {
     const lines = busy.map(
-      (w) => `  port ${w.port} on ${HOST} (${w.service}) is already in use — stop whatever listens there, or set ${w.variable} to a free port ${where.replace(/\{var\}/g, w.variable)}.`,
+      (w) => `  port ${w.port} on ${HOST} (${w.service}) is already in use — stop whatever listens there, or set ${w.variable}${w.related ? ` (and the port in ${w.related})` : ""} to a free port ${where.replace(/\{var\}/g, w.variable)}.`,
     );
     throw new UserFacingError(`Cannot start: ${busy.length === 1 ? "a port is" : "ports are"} busy.\n${lines.join("\n")}`);
   }
