@@ -103,3 +103,37 @@ export const RUN_METHOD = "tessera-runs/1" as const;
 export function freshSeed(): number {
   return Math.floor(Math.random() * 2_147_483_647);
 }
+
+// ——— Search parameters of the read endpoints ———
+
+const optionalRunId = z
+  .string()
+  .regex(/^\d+$/, "run must be a run number.")
+  .transform(Number)
+  .nullable()
+  .default(null);
+const period = z.string().trim().min(1).max(120);
+
+export const SIGNIFICANCE_CLASSES = ["clustering", "dispersion", "not-significant"] as const;
+
+export const catalogueQuerySchema = z.object({
+  run: optionalRunId,
+  class: z
+    .string()
+    .default("")
+    .transform((s) => s.split(",").filter(Boolean))
+    .pipe(z.array(z.enum(SIGNIFICANCE_CLASSES, { message: "class must be clustering, dispersion or not-significant." }))),
+  from: period.nullable().default(null),
+  to: period.nullable().default(null),
+  q: z.string().trim().max(200).nullable().default(null),
+});
+
+export const timelineQuerySchema = z.object({ indicator: z.string().trim().min(1).max(120), run: optionalRunId });
+export const periodQuerySchema = timelineQuerySchema.extend({ period });
+export const compareQuerySchema = timelineQuerySchema.extend({ a: period, b: period });
+export const geometryQuerySchema = z.object({ run: z.string().regex(/^\d+$/, "run must be a run number.").transform(Number) });
+
+/** Reads URLSearchParams into a plain object (absent keys stay absent, so defaults apply). */
+export function searchObject(url: string): Record<string, string> {
+  return Object.fromEntries(new URL(url).searchParams.entries());
+}

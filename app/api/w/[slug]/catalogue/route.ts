@@ -1,0 +1,18 @@
+import { memberRoute } from "@/lib/auth/route";
+import { parseSearch, runsError } from "@/lib/runs/http";
+import { catalogueRows } from "@/lib/runs/queries";
+import { catalogueQuerySchema } from "@/lib/runs/schemas";
+
+export const dynamic = "force-dynamic";
+
+export const GET = memberRoute({ capability: "results.view" }, async ({ member, request }) => {
+  const search = parseSearch(request, catalogueQuerySchema);
+  if (!search.ok) return search.response;
+  const f = search.value;
+  try {
+    const rows = await catalogueRows(member.workspace.id, { runId: f.run, classes: f.class, periodFrom: f.from, periodTo: f.to, text: f.q });
+    return Response.json({ rows });
+  } catch (error) {
+    return runsError(error);
+  }
+});

@@ -1,0 +1,14 @@
+import { jsonError, memberRoute } from "@/lib/auth/route";
+import { idParam, runsError } from "@/lib/runs/http";
+import { rerun } from "@/lib/runs/service";
+
+export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, params }) => {
+  const runId = idParam(params.runId);
+  if (runId === null) return jsonError(404, `There is no run ${String(params.runId)} in this workspace.`);
+  try {
+    const started = await rerun({ workspaceId: member.workspace.id, userId: member.user.id, runId });
+    return Response.json({ runId: started.runId, rerunOf: runId }, { status: 201 });
+  } catch (error) {
+    return runsError(error);
+  }
+});

@@ -1,0 +1,21 @@
+import { memberRoute } from "@/lib/auth/route";
+import { runsError } from "@/lib/runs/http";
+import { listRuns } from "@/lib/runs/queries";
+import { startRunSchema } from "@/lib/runs/schemas";
+import { startRun } from "@/lib/runs/service";
+
+export const dynamic = "force-dynamic";
+
+export const GET = memberRoute({ capability: "results.view" }, async ({ member }) => {
+  return Response.json({ runs: await listRuns(member.workspace.id) });
+});
+
+export const POST = memberRoute({ capability: "runs.manage", body: startRunSchema }, async ({ member, body }) => {
+  try {
+    const { panelVersionId, ...choice } = body;
+    const started = await startRun({ workspaceId: member.workspace.id, userId: member.user.id, panelVersionId, choice });
+    return Response.json({ runId: started.runId, params: started.params }, { status: 201 });
+  } catch (error) {
+    return runsError(error);
+  }
+});

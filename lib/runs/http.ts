@@ -1,0 +1,24 @@
+import type { z } from "zod";
+import { errorResponse, invalidBody, jsonError } from "@/lib/auth/route";
+import { RunInputError } from "./service";
+import { searchObject } from "./schemas";
+
+// Helpers shared by the runs route handlers (they run after memberRoute's guard).
+
+/** Maps a RunInputError to 422 naming the field; everything else as errorResponse. */
+export function runsError(error: unknown): Response {
+  if (error instanceof RunInputError) return jsonError(422, error.message, { field: error.field });
+  return errorResponse(error);
+}
+
+/** Parses the request's search parameters; a 400 Response naming the field when they do not fit. */
+export function parseSearch<S extends z.ZodType>(request: Request, schema: S): { ok: true; value: z.output<S> } | { ok: false; response: Response } {
+  const parsed = schema.safeParse(searchObject(request.url));
+  if (!parsed.success) return { ok: false, response: invalidBody(parsed.error) };
+  return { ok: true, value: parsed.data };
+}
+
+/** A positive integer route parameter, or null. */
+export function idParam(value: string | string[] | undefined): number | null {
+  return typeof value === "string" && /^\d{1,9}$/.test(value) ? Number(value) : null;
+}

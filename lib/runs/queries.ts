@@ -1,0 +1,517 @@
+/**
+ * Reads of runs and results for the screens. Server-only. These do not
+ * authorise: route handlers call requireMember first and pass the member's
+ * workspace id, and every query is scoped by it.
+ */
+import { QueryTypes } from "sequelize";
+import { db } from "@/lib/db";
+import { indicatorMetadata, publishedPanelVersions, panelDimensions, type IndicatorMeta } from "@/lib/intake/queries";
+import type { ResolvedRunParams } from "./schemas";
+import type { RunState } from "./store";
+import type { LocalFields, SignificanceClass, WeightsUsed } from "./types";
+
+export interface RunSummary {
+  id: number;
+  state: RunState;
+  origin: string;
+  rerunOf: number | null;
+  params: ResolvedRunParams;
+  panelName: string;
+  panelVersion: number;
+  progress: number;
+  piecesTotal: number;
+  piecesDone: number;
+  resultsTotal: number;
+  periodsDone: number;
+  significanceBasis: string | null;
+  error: string | null;
+  createdBy: string | null;
+  createdAt: string;
+  startedAt: string | null;
+  finishedAt: string | null;
+}
+
+interface RunRow {
+  id: number;
+  state: RunState;
+  origin: string;
+  rerun_of: number | null;
+  params: ResolvedRunParams;
+  panel_name: string;
+  panel_version: number;
+  progress: number;
+  pieces_total: number;
+  pieces_done: number;
+  results_total: number;
+  periods_done: string | number | null;
+  significance_basis: string | null;
+  error: string | null;
+  created_by_name: string | null;
+  created_at: Date;
+  started_at: Date | null;
+  finished_at: Date | null;
+}
+
+const RUN_SELECT = `
+  SELECT r.id, r.state, r.origin, r.rerun_of, r.params, p.name AS panel_name, pv.version AS panel_version, r.progress,
+         r.pieces_total, r.pieces_done, r.results_total, r.significance_basis, r.error, u.name AS created_by_name,
+         r.created_at, r.started_at, r.finished_at,
+         (SELECT SUM(CASE WHEN rp.state = 'completed' THEN rp.periods_total ELSE rp.periods_done END) FROM run_pieces rp WHERE rp.run_id = r.id) AS periods_done
+    FROM runs r
+    JOIN panel_versions pv ON pv.id = r.panel_version_id
+    JOIN panels p ON p.id = pv.panel_id
+    LEFT JOIN users u ON u.id = r.created_by`;
+
+function toSummary(r: RunRow): RunSummary {
+  return {
+    id: r.id,
+    state: r.state,
+    origin: r.origin,
+    rerunOf: r.rerun_of,
+    params: r.params,
+    panelName: r.panel_name,
+    panelVersion: r.panel_version,
+    progress: r.progress,
+    piecesTotal: r.pieces_total,
+    piecesDone: r.pieces_done,
+    resultsTotal: r.results_total,
+    periodsDone: Number(r.periods_done ?? 0),
+    significanceBasis: r.significance_basis,
+    error: r.error,
+    createdBy: r.created_by_name,
+    createdAt: r.created_at.toISOString(),
+    startedAt: r.started_at?.toISOString() ?? null,
+    finishedAt: r.finished_at?.toISOString() ?? null,
+  };
+}
+
+/** The workspace's runs, newest first. */
+export async function listRuns(workspaceId: number, limit = 50): Promise<RunSummary[]> {
+  const rows = await db().query<RunRow>(`${RUN_SELECT} WHERE r.workspace_id = $1 ORDER BY r.id DESC LIMIT $2`, {
+    bind: [workspaceId, limit],
+    type: QueryTypes.SELECT,
+  });
+  return rows.map(toSummary);
+}
+
+export async function getRun(workspaceId: number, runId: number): Promise<RunSummary | null> {
+  const rows = await db().query<RunRow>(`${RUN_SELECT} WHERE r.workspace_id = $1 AND r.id = $2`, { bind: [workspaceId, runId], type: QueryTypes.SELECT });
+  return rows[0] ? toSummary(rows[0]) : null;
+}
+
+export interface RunPieceRow {
+  indicator: string;
+  state: RunState;
+  attempts: number;
+  periodsTotal: number;
+  periodsDone: number;
+  error: string | null;
+}
+
+export async function runPieces(runId: number): Promise<RunPieceRow[]> {
+  const rows = await db().query<{ indicator_code: string; state: RunState; attempts: number; periods_total: number; periods_done: number; error: string | null }>(
+    "SELECT indicator_code, state, attempts, periods_total, periods_done, error FROM run_pieces WHERE run_id = $1 ORDER BY indicator_code",
+    { bind: [runId], type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => ({ indicator: r.indicator_code, state: r.state, attempts: r.attempts, periodsTotal: r.periods_total, periodsDone: r.periods_done, error: r.error }));
+}
+
+/** What the start form offers: published panel versions with their indicators and periods. */
+export interface RunOption {
+  panelVersionId: number;
+  panelName: string;
+  version: number;
+  indicators: { code: string; label: string }[];
+  periods: string[];
+}
+
+export async function runOptions(workspaceId: number): Promise<RunOption[]> {
+  const versions = await publishedPanelVersions(workspaceId);
+  const meta = await indicatorMetadata(workspaceId);
+  const labels = new Map(meta.map((m) => [m.code, m.label]));
+  const out: RunOption[] = [];
+  for (const v of versions) {
+    const dims = await panelDimensions(v.panelVersionId);
+    out.push({
+      panelVersionId: v.panelVersionId,
+      panelName: v.panelName,
+      version: v.version,
+      indicators: dims.indicators.map((code) => ({ code, label: labels.get(code) ?? code })),
+      periods: dims.periods.map((p) => p.key),
+    });
+  }
+  return out;
+}
+
+// ——— Catalogue ———
+
+export interface CatalogueRow {
+  runId: number;
+  indicator: string;
+  indicatorLabel: string;
+  unit: string | null;
+  period: string;
+  periodIndex: number;
+  status: "computed" | "not-computed";
+  note: string | null;
+  n: number;
+  I: number | null;
+  expectedI: number | null;
+  z: number | null;
+  p: number | null;
+  pseudoP: number | null;
+  adjustedP: number | null;
+  significance: SignificanceClass | null;
+  deltaI: number | null;
+  gearyC: number | null;
+  generalG: number | null;
+}
+
+export interface CatalogueFilter {
+  /** A run id, or null for the latest completed run of each indicator. */
+  runId: number | null;
+  classes?: readonly SignificanceClass[];
+  periodFrom?: string | null;
+  periodTo?: string | null;
+  /** Case-insensitive text in the indicator's code or label. */
+  text?: string | null;
+  limit?: number;
+}
+
+/**
+ * One row per indicator × period. Without a run, each indicator's rows come
+ * from the latest completed run that analysed it. Period bounds compare
+ * period keys as text (ISO-like keys such as 2019, 2019-Q3 sort correctly).
+ */
+export async function catalogueRows(workspaceId: number, filter: CatalogueFilter): Promise<CatalogueRow[]> {
+  const bind: unknown[] = [workspaceId];
+  const where: string[] = [];
+  let source: string;
+  if (filter.runId !== null) {
+    bind.push(filter.runId);
+    source = `SELECT r.id AS run_id, rp.indicator_code FROM runs r JOIN run_pieces rp ON rp.run_id = r.id WHERE r.workspace_id = $1 AND r.id = $${bind.length}`;
+  } else {
+    source = `SELECT DISTINCT ON (rp.indicator_code) r.id AS run_id, rp.indicator_code
+                FROM runs r JOIN run_pieces rp ON rp.run_id = r.id
+               WHERE r.workspace_id = $1 AND r.state = 'completed'
+               ORDER BY rp.indicator_code, r.finished_at DESC NULLS LAST, r.id DESC`;
+  }
+  if (filter.classes?.length) {
+    bind.push(filter.classes);
+    where.push(`rr.significance = ANY($${bind.length}::varchar[])`);
+  }
+  if (filter.periodFrom) {
+    bind.push(filter.periodFrom);
+    where.push(`rr.period_key >= $${bind.length}`);
+  }
+  if (filter.periodTo) {
+    bind.push(filter.periodTo);
+    where.push(`rr.period_key <= $${bind.length}`);
+  }
+  if (filter.text) {
+    bind.push(`%${filter.text.replace(/[\\%_]/g, (c) => `\\${c}`)}%`);
+    where.push(`(rr.indicator_code ILIKE $${bind.length} OR i.label ILIKE $${bind.length})`);
+  }
+  bind.push(Math.min(filter.limit ?? 20_000, 50_000));
+  const rows = await db().query<{
+    run_id: number;
+    indicator_code: string;
+    label: string | null;
+    unit: string | null;
+    period_key: string;
+    period_index: number;
+    status: "computed" | "not-computed";
+    note: string | null;
+    n: number;
+    i: number | null;
+    expected_i: number | null;
+    z_randomisation: number | null;
+    p_randomisation: number | null;
+    perm_p: number | null;
+    adjusted_p: number | null;
+    significance: SignificanceClass | null;
+    delta_i: number | null;
+    geary_c: number | null;
+    general_g: number | null;
+  }>(
+    `WITH chosen AS (${source})
+     SELECT rr.run_id, rr.indicator_code, i.label, i.unit, rr.period_key, rr.period_index, rr.status, rr.note, rr.n, rr.i, rr.expected_i,
+            rr.z_randomisation, rr.p_randomisation, rr.perm_p, rr.adjusted_p, rr.significance, rr.delta_i, rr.geary_c, rr.general_g
+       FROM chosen c
+       JOIN run_results rr ON rr.run_id = c.run_id AND rr.indicator_code = c.indicator_code
+       LEFT JOIN indicators i ON i.workspace_id = $1 AND i.code = rr.indicator_code
+      ${where.length ? `WHERE ${where.join(" AND ")}` : ""}
+      ORDER BY rr.indicator_code, rr.period_index
+      LIMIT $${bind.length}`,
+    { bind, type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => ({
+    runId: r.run_id,
+    indicator: r.indicator_code,
+    indicatorLabel: r.label ?? r.indicator_code,
+    unit: r.unit,
+    period: r.period_key,
+    periodIndex: r.period_index,
+    status: r.status,
+    note: r.note,
+    n: r.n,
+    I: r.i,
+    expectedI: r.expected_i,
+    z: r.z_randomisation,
+    p: r.p_randomisation,
+    pseudoP: r.perm_p,
+    adjustedP: r.adjusted_p,
+    significance: r.significance,
+    deltaI: r.delta_i,
+    gearyC: r.geary_c,
+    generalG: r.general_g,
+  }));
+}
+
+// ——— Timeline ———
+
+export interface TimelinePoint {
+  period: string;
+  status: "computed" | "not-computed";
+  note: string | null;
+  n: number;
+  excludedMissing: number;
+  excludedIslands: number;
+  I: number | null;
+  expectedI: number | null;
+  zNormality: number | null;
+  zRandomisation: number | null;
+  pRandomisation: number | null;
+  varianceNormality: number | null;
+  varianceRandomisation: number | null;
+  permutationMean: number | null;
+  permutationSd: number | null;
+  pseudoP: number | null;
+  bandLow: number | null;
+  bandHigh: number | null;
+  adjustedP: number | null;
+  significance: SignificanceClass | null;
+  deltaI: number | null;
+  gearyC: number | null;
+  gearyPseudoP: number | null;
+  generalG: number | null;
+  generalGPseudoP: number | null;
+  weights: WeightsUsed | null;
+  localCounts: Record<string, number> | null;
+}
+
+export interface Timeline {
+  run: RunSummary;
+  indicator: IndicatorMeta;
+  points: TimelinePoint[];
+}
+
+/** The run to show for an indicator: the given run, else the latest completed run that analysed it. */
+export async function resolveRunForIndicator(workspaceId: number, indicator: string, runId: number | null): Promise<RunSummary | null> {
+  if (runId !== null) return getRun(workspaceId, runId);
+  const rows = await db().query<{ id: number }>(
+    `SELECT r.id FROM runs r JOIN run_pieces rp ON rp.run_id = r.id
+      WHERE r.workspace_id = $1 AND r.state = 'completed' AND rp.indicator_code = $2
+      ORDER BY r.finished_at DESC NULLS LAST, r.id DESC LIMIT 1`,
+    { bind: [workspaceId, indicator], type: QueryTypes.SELECT },
+  );
+  return rows[0] ? getRun(workspaceId, rows[0].id) : null;
+}
+
+export async function indicatorOf(workspaceId: number, code: string): Promise<IndicatorMeta> {
+  const all = await indicatorMetadata(workspaceId);
+  return all.find((m) => m.code === code) ?? { code, label: code, unit: null, description: null, source: null, higherIsBetter: null };
+}
+
+export async function timeline(workspaceId: number, indicator: string, runId: number | null): Promise<Timeline | null> {
+  const run = await resolveRunForIndicator(workspaceId, indicator, runId);
+  if (!run) return null;
+  const rows = await db().query<{
+    period_key: string;
+    status: "computed" | "not-computed";
+    note: string | null;
+    n: number;
+    excluded_missing: number;
+    excluded_islands: number;
+    i: number | null;
+    expected_i: number | null;
+    z_normality: number | null;
+    z_randomisation: number | null;
+    p_randomisation: number | null;
+    variance_normality: number | null;
+    variance_randomisation: number | null;
+    perm_mean: number | null;
+    perm_sd: number | null;
+    perm_p: number | null;
+    band_low: number | null;
+    band_high: number | null;
+    adjusted_p: number | null;
+    significance: SignificanceClass | null;
+    delta_i: number | null;
+    geary_c: number | null;
+    geary_pseudo_p: number | null;
+    general_g: number | null;
+    general_g_pseudo_p: number | null;
+    weights: WeightsUsed | null;
+    local_counts: Record<string, number> | null;
+  }>(
+    `SELECT period_key, status, note, n, excluded_missing, excluded_islands, i, expected_i, z_normality, z_randomisation, p_randomisation,
+            variance_normality, variance_randomisation, perm_mean, perm_sd, perm_p, band_low, band_high, adjusted_p, significance, delta_i,
+            geary_c, geary_pseudo_p, general_g, general_g_pseudo_p, weights, local_counts
+       FROM run_results WHERE run_id = $1 AND indicator_code = $2 ORDER BY period_index`,
+    { bind: [run.id, indicator], type: QueryTypes.SELECT },
+  );
+  return {
+    run,
+    indicator: await indicatorOf(workspaceId, indicator),
+    points: rows.map((r) => ({
+      period: r.period_key,
+      status: r.status,
+      note: r.note,
+      n: r.n,
+      excludedMissing: r.excluded_missing,
+      excludedIslands: r.excluded_islands,
+      I: r.i,
+      expectedI: r.expected_i,
+      zNormality: r.z_normality,
+      zRandomisation: r.z_randomisation,
+      pRandomisation: r.p_randomisation,
+      varianceNormality: r.variance_normality,
+      varianceRandomisation: r.variance_randomisation,
+      permutationMean: r.perm_mean,
+      permutationSd: r.perm_sd,
+      pseudoP: r.perm_p,
+      bandLow: r.band_low,
+      bandHigh: r.band_high,
+      adjustedP: r.adjusted_p,
+      significance: r.significance,
+      deltaI: r.delta_i,
+      gearyC: r.geary_c,
+      gearyPseudoP: r.geary_pseudo_p,
+      generalG: r.general_g,
+      generalGPseudoP: r.general_g_pseudo_p,
+      weights: r.weights,
+      localCounts: r.local_counts,
+    })),
+  };
+}
+
+/** One stored result with its local fields (map screen). */
+export async function storedResult(runId: number, indicator: string, period: string) {
+  const rows = await db().query<{
+    status: string;
+    note: string | null;
+    n: number;
+    i: number | null;
+    expected_i: number | null;
+    perm_p: number | null;
+    adjusted_p: number | null;
+    significance: SignificanceClass | null;
+    local: LocalFields | null;
+  }>(
+    "SELECT status, note, n, i, expected_i, perm_p, adjusted_p, significance, local FROM run_results WHERE run_id = $1 AND indicator_code = $2 AND period_key = $3",
+    { bind: [runId, indicator, period], type: QueryTypes.SELECT },
+  );
+  return rows[0] ?? null;
+}
+
+// ——— Desk ———
+
+export interface Movement {
+  indicator: string;
+  indicatorLabel: string;
+  period: string;
+  previousPeriod: string | null;
+  I: number;
+  deltaI: number;
+  significance: SignificanceClass | null;
+}
+
+export interface ClassChange {
+  indicator: string;
+  indicatorLabel: string;
+  period: string;
+  before: SignificanceClass | null;
+  after: SignificanceClass | null;
+  previousRunId: number;
+}
+
+export interface DeskSummary {
+  runs: RunSummary[];
+  latest: RunSummary | null;
+  previous: RunSummary | null;
+  movements: Movement[];
+  classChanges: ClassChange[];
+  counts: Record<SignificanceClass, number> | null;
+}
+
+/**
+ * The latest completed run, its largest changes in I from one period to the
+ * next, and the indicator-periods whose class differs from the previous
+ * completed run on the same panel.
+ */
+export async function deskSummary(workspaceId: number): Promise<DeskSummary> {
+  const runs = await listRuns(workspaceId, 6);
+  const completed = await db().query<{ id: number; panel_version_id: number }>(
+    "SELECT id, panel_version_id FROM runs WHERE workspace_id = $1 AND state = 'completed' ORDER BY finished_at DESC NULLS LAST, id DESC LIMIT 1",
+    { bind: [workspaceId], type: QueryTypes.SELECT },
+  );
+  if (!completed[0]) return { runs, latest: null, previous: null, movements: [], classChanges: [], counts: null };
+  const latestId = completed[0].id;
+  const latest = await getRun(workspaceId, latestId);
+  const labels = new Map((await indicatorMetadata(workspaceId)).map((m) => [m.code, m.label]));
+  const moved = await db().query<{ indicator_code: string; period_key: string; prev: string | null; i: number; delta_i: number; significance: SignificanceClass | null }>(
+    `SELECT rr.indicator_code, rr.period_key, prev.period_key AS prev, rr.i, rr.delta_i, rr.significance
+       FROM run_results rr
+       LEFT JOIN run_results prev ON prev.run_id = rr.run_id AND prev.indicator_code = rr.indicator_code AND prev.period_index = rr.period_index - 1
+      WHERE rr.run_id = $1 AND rr.delta_i IS NOT NULL ORDER BY abs(rr.delta_i) DESC LIMIT 6`,
+    { bind: [latestId], type: QueryTypes.SELECT },
+  );
+  const countRows = await db().query<{ significance: SignificanceClass; count: string }>(
+    "SELECT significance, count(*) AS count FROM run_results WHERE run_id = $1 AND significance IS NOT NULL GROUP BY significance",
+    { bind: [latestId], type: QueryTypes.SELECT },
+  );
+  const counts: Record<SignificanceClass, number> = { clustering: 0, dispersion: 0, "not-significant": 0 };
+  for (const c of countRows) counts[c.significance] = Number(c.count);
+  const previousRows = await db().query<{ id: number }>(
+    `SELECT id FROM runs WHERE workspace_id = $1 AND state = 'completed' AND id <> $2 AND panel_version_id IN
+       (SELECT pv2.id FROM panel_versions pv1 JOIN panel_versions pv2 ON pv2.panel_id = pv1.panel_id WHERE pv1.id = $3)
+      ORDER BY finished_at DESC NULLS LAST, id DESC LIMIT 1`,
+    { bind: [workspaceId, latestId, completed[0].panel_version_id], type: QueryTypes.SELECT },
+  );
+  const previousId = previousRows[0]?.id ?? null;
+  let classChanges: ClassChange[] = [];
+  if (previousId !== null) {
+    const changed = await db().query<{ indicator_code: string; period_key: string; before: SignificanceClass | null; after: SignificanceClass | null }>(
+      `SELECT a.indicator_code, a.period_key, b.significance AS before, a.significance AS after
+         FROM run_results a JOIN run_results b ON b.run_id = $2 AND b.indicator_code = a.indicator_code AND b.period_key = a.period_key
+        WHERE a.run_id = $1 AND a.significance IS DISTINCT FROM b.significance
+        ORDER BY a.indicator_code, a.period_index LIMIT 12`,
+      { bind: [latestId, previousId], type: QueryTypes.SELECT },
+    );
+    classChanges = changed.map((c) => ({
+      indicator: c.indicator_code,
+      indicatorLabel: labels.get(c.indicator_code) ?? c.indicator_code,
+      period: c.period_key,
+      before: c.before,
+      after: c.after,
+      previousRunId: previousId,
+    }));
+  }
+  return {
+    runs,
+    latest,
+    previous: previousId !== null ? await getRun(workspaceId, previousId) : null,
+    movements: moved.map((m) => ({
+      indicator: m.indicator_code,
+      indicatorLabel: labels.get(m.indicator_code) ?? m.indicator_code,
+      period: m.period_key,
+      previousPeriod: m.prev,
+      I: m.i,
+      deltaI: m.delta_i,
+      significance: m.significance,
+    })),
+    classChanges,
+    counts,
+  };
+}
