@@ -140,11 +140,10 @@ const DIFF_LIST_CAP = 200;
 /** Regions, indicators and periods added or removed, and values changed, against the previous version. */
 export async function panelDiff(client: pg.PoolClient, versionId: number, panelId: number, version: number): Promise<VersionDiff> {
   const previous = await previousVersion(client, panelId, version);
-  const [regions, indicators, periods] = await Promise.all([
-    distinctOf(client, versionId, "region_code"),
-    distinctOf(client, versionId, "indicator_code"),
-    distinctOf(client, versionId, "period_key"),
-  ]);
+  // One client, so one query at a time.
+  const regions = await distinctOf(client, versionId, "region_code");
+  const indicators = await distinctOf(client, versionId, "indicator_code");
+  const periods = await distinctOf(client, versionId, "period_key");
   if (!previous) {
     return {
       previousVersion: null,
