@@ -9,7 +9,8 @@ const esmOnly = ["d3-[a-z-]+", "internmap", "delaunator", "robust-predicates", "
 const base = {
   testEnvironment: "node",
   moduleNameMapper: { "^@/(.*)$": "<rootDir>/$1" },
-  testPathIgnorePatterns: ["/node_modules/", "/.next/", "/storage/", "<rootDir>/tests/browser/"],
+  // scripts/test.mjs (the npm test orchestrator) matches jest 30's default testMatch; it is not a test.
+  testPathIgnorePatterns: ["/node_modules/", "/.next/", "/storage/", "<rootDir>/tests/browser/", "<rootDir>/scripts/"],
   modulePathIgnorePatterns: ["<rootDir>/storage/", "<rootDir>/.next/"],
 };
 
