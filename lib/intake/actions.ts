@@ -527,3 +527,20 @@ export async function saveIndicator(member: MemberContext, code: string, patch: 
   if (!created) await row.update(patch);
   return { code: row.code, label: row.label, unit: row.unit, description: row.description, source: row.source, higherIsBetter: row.higherIsBetter };
 }
+
+/** Runs a route handler's work, turning intake input errors into 400s; anything else goes to memberRoute's handler. */
+export async function withIntakeErrors(work: () => Promise<Response>): Promise<Response> {
+  try {
+    return await work();
+  } catch (error) {
+    const response = intakeErrorResponse(error);
+    if (response) return response;
+    throw error;
+  }
+}
+
+/** A positive integer id from a URL segment, or null. */
+export function idParam(value: string | string[] | undefined): number | null {
+  const parsed = z.coerce.number().int().positive().max(2_147_483_647).safeParse(value);
+  return parsed.success ? parsed.data : null;
+}

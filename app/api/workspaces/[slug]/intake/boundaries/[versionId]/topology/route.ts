@@ -1,0 +1,17 @@
+import { can } from "@/lib/auth/roles";
+import { jsonError, memberRoute } from "@/lib/auth/route";
+import { idParam } from "@/lib/intake/actions";
+import { boundaryVersionInWorkspace, loadBoundaryTopology } from "@/lib/intake/queries";
+
+// The stored TopoJSON of a validated boundary version, with the object and properties that hold the regions.
+export const GET = memberRoute({ capability: "results.view" }, async ({ member, params }) => {
+  const versionId = idParam(params.versionId);
+  const visible = versionId !== null && (await boundaryVersionInWorkspace(member.workspace.id, versionId, !can(member.role, "data.view-unpublished")));
+  if (!visible || versionId === null) return jsonError(404, "There are no such boundaries in this workspace.");
+  const b = await loadBoundaryTopology(versionId);
+  if (b.state === "uploaded" || b.state === "rejected") return jsonError(409, "These boundaries have not passed validation, so there is nothing to draw.");
+  return Response.json(
+    { topology: b.topology, objectName: b.objectName, idProperty: b.idProperty, nameProperty: b.nameProperty, coordinates: b.coordinates, regionNames: Object.fromEntries(b.regionNames) },
+    { headers: { "Cache-Control": "private, max-age=3600" } },
+  );
+});

@@ -1,0 +1,7 @@
+import { memberRoute } from "@/lib/auth/route";
+import { createUpload, createUploadSchema, withIntakeErrors } from "@/lib/intake/actions";
+
+// Step 1 of an upload: a pending record and a presigned PUT URL (files over 200 MB are refused here, before any byte moves).
+export const POST = memberRoute({ capability: "data.curate", body: createUploadSchema }, async ({ member, body }) =>
+  withIntakeErrors(async () => Response.json(await createUpload(member, body), { status: 201 })),
+);
