@@ -62,6 +62,7 @@ export {
 } from "./weights/distance";
 export type { NearestNeighbourOptions, DistanceBandOptions, InverseDistanceOptions } from "./weights/distance";
 export { parseWeightsSpecification, weightsFromTopology } from "./weights/specification";
+export { latticeWeights } from "./weights/lattice";
 export type { WeightsSpecification, WeightsFromTopologyOptions } from "./weights/specification";
 
 // Weights: transforms, summaries, subsets.

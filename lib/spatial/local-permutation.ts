@@ -81,33 +81,72 @@ export function conditionalLagPermutations(
   const sumSquares = new Float64Array(n);
   const pool = new Int32Array(Math.max(n - 1, 0));
   for (let j = 0; j < n - 1; j++) pool[j] = j;
-  const draws = new Int32Array(kMax);
   const poolSize = n - 1;
-  for (let r = 0; r < permutations; r++) {
-    // Partial Fisher–Yates: the first kMax pool slots become a uniform ordered sample.
-    for (let m = 0; m < kMax; m++) {
-      const pick = m + random.nextInt(poolSize - m);
-      const t = pool[m];
-      pool[m] = pool[pick];
-      pool[pick] = t;
-      draws[m] = pool[m];
-    }
-    let start = offsets[0];
-    for (let i = 0; i < n; i++) {
-      const end = offsets[i + 1];
-      if (end === start) continue;
-      let lag = 0;
-      for (let p = start, m = 0; p < end; p++, m++) {
-        const d = draws[m];
-        // d ≥ i ⇒ d + 1 (skip region i itself); (i − d − 1) >>> 31 is 1 exactly when d ≥ i.
-        lag += w[p] * values[d + ((i - d - 1) >>> 31)];
+  // Rows whose weights are all equal (binary, or row-standardised binary) are
+  // summed first and scaled once: lag = w_i · Σ v.
+  const rowWeight = new Float64Array(n);
+  let allUniform = true;
+  for (let i = 0; i < n; i++) {
+    const start = offsets[i];
+    const end = offsets[i + 1];
+    rowWeight[i] = end > start ? w[start] : 0;
+    for (let p = start + 1; p < end; p++) if (w[p] !== w[start]) allUniform = false;
+  }
+  // Permutations are processed in blocks: first the block's samples are drawn
+  // (in permutation order, so the random stream is the same as drawing one
+  // permutation at a time), then each region runs through the whole block
+  // with its counters in registers. The block of draws stays in the L1 cache.
+  const blockSize = Math.max(1, Math.min(permutations, Math.floor(16384 / Math.max(kMax, 1))));
+  const block = new Int32Array(blockSize * Math.max(kMax, 1));
+  for (let first = 0; first < permutations; first += blockSize) {
+    const count = Math.min(blockSize, permutations - first);
+    for (let b = 0; b < count; b++) {
+      // Partial Fisher–Yates: the first kMax pool slots become a uniform ordered sample.
+      const base = b * kMax;
+      for (let m = 0; m < kMax; m++) {
+        const pick = m + random.nextInt(poolSize - m);
+        const t = pool[m];
+        pool[m] = pool[pick];
+        pool[pick] = t;
+        block[base + m] = pool[m];
       }
-      const difference = lag - observedLag[i];
-      if (difference >= -tolerance[i]) atLeast[i]++;
-      if (difference <= tolerance[i]) atMost[i]++;
-      sum[i] += difference;
-      sumSquares[i] += difference * difference;
-      start = end;
+    }
+    for (let i = 0; i < n; i++) {
+      const start = offsets[i];
+      const k = offsets[i + 1] - start;
+      if (k === 0) continue;
+      const observed = observedLag[i];
+      const tol = tolerance[i];
+      const scale = rowWeight[i];
+      let greater = 0;
+      let less = 0;
+      let differenceSum = 0;
+      let differenceSquares = 0;
+      for (let b = 0, base = 0; b < count; b++, base += kMax) {
+        let lag = 0;
+        if (allUniform) {
+          for (let m = 0; m < k; m++) {
+            const d = block[base + m];
+            // d ≥ i ⇒ d + 1 (skip region i itself); (i − d − 1) >>> 31 is 1 exactly when d ≥ i.
+            lag += values[d + ((i - d - 1) >>> 31)];
+          }
+          lag *= scale;
+        } else {
+          for (let m = 0; m < k; m++) {
+            const d = block[base + m];
+            lag += w[start + m] * values[d + ((i - d - 1) >>> 31)];
+          }
+        }
+        const difference = lag - observed;
+        greater += difference >= -tol ? 1 : 0;
+        less += difference <= tol ? 1 : 0;
+        differenceSum += difference;
+        differenceSquares += difference * difference;
+      }
+      atLeast[i] += greater;
+      atMost[i] += less;
+      sum[i] += differenceSum;
+      sumSquares[i] += differenceSquares;
     }
   }
   const mean = new Float64Array(n);

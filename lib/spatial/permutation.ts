@@ -81,12 +81,83 @@ function quantileOfSorted(sorted: Float64Array, probability: number): number {
 }
 
 /**
- * Fisher–Yates shuffle of `values` in place, drawing from `random`.
- * Source: Durstenfeld (1964), CACM 7(7), algorithm 235.
+ * Rejection thresholds of Lemire's method on 16-bit draws for every bound
+ * b = 1 … min(n, 2^16): t[b] = (2^16 − b) mod b. Computed once per test.
+ */
+export function shuffleThresholds(n: number): Int32Array {
+  const size = Math.min(n, 65536);
+  const thresholds = new Int32Array(size + 1);
+  for (let b = 1; b <= size; b++) thresholds[b] = (65536 - b) % b;
+  return thresholds;
+}
+
+/**
+ * One Fisher–Yates shuffle of `values` in place (Durstenfeld 1964, CACM 7(7),
+ * algorithm 235): for i = n−1 … 1, swap values[i] with values[j], j uniform
+ * in [0, i]. Bounds up to 2^16 take the two 16-bit halves of one 32-bit draw
+ * in turn, mapped by Lemire's multiply-and-reject (exactly uniform), which
+ * halves the generator calls; larger bounds use `nextInt`. When `swaps` is
+ * given, j is also recorded there (to apply the same shuffle to another
+ * array). The random numbers consumed depend only on n and the generator
+ * state, so the same seed gives the same sequence of shuffles for any data of
+ * the same size.
+ *
+ * Cost: O(n).
+ */
+export function shuffleWith(
+  values: Float64Array,
+  random: RandomSource,
+  thresholds: Int32Array,
+  swaps: Int32Array | null = null,
+): void {
+  let buffer = 0;
+  let haveHalf = false;
+  for (let i = values.length - 1; i > 0; i--) {
+    const bound = i + 1;
+    let j: number;
+    if (bound > 65536) {
+      j = random.nextInt(bound);
+    } else {
+      const threshold = thresholds[bound];
+      for (;;) {
+        let x16: number;
+        if (haveHalf) {
+          x16 = buffer & 0xffff;
+          haveHalf = false;
+        } else {
+          buffer = random.nextUint32();
+          x16 = buffer >>> 16;
+          haveHalf = true;
+        }
+        const product = Math.imul(x16, bound); // x16·bound < 2^32: exact in the 32 bits
+        if ((product & 0xffff) >= threshold) {
+          j = product >>> 16;
+          break;
+        }
+      }
+    }
+    const t = values[i];
+    values[i] = values[j];
+    values[j] = t;
+    if (swaps !== null) swaps[i] = j;
+  }
+}
+
+/**
+ * Fisher–Yates shuffle of `values` in place, drawing from `random`
+ * (uniform over all n! orders; see {@link shuffleWith}).
+ *
+ * Cost: O(n).
+ * @example
+ *   shuffleInPlace(copy, createRandomSource(3));
  */
 export function shuffleInPlace(values: Float64Array, random: RandomSource): void {
+  shuffleWith(values, random, shuffleThresholds(values.length));
+}
+
+function applySwaps(values: Float64Array, swaps: Int32Array): void {
   for (let i = values.length - 1; i > 0; i--) {
-    const j = random.nextInt(i + 1);
+    const j = swaps[i];
     const t = values[i];
     values[i] = values[j];
     values[j] = t;
@@ -94,10 +165,59 @@ export function shuffleInPlace(values: Float64Array, random: RandomSource): void
 }
 
 /**
- * R permuted values of the cross-product Σ_i v_i Σ_j w_ij v_j (the numerator
- * of Moran's I when v = z, and of General G when v = x).
+ * Unordered pairs of the weights in upper-triangular CSR form: for each i,
+ * the j > i linked either way, with c_ij = w_ij + w_ji, and the diagonal
+ * w_ii separately. Then Σ_i Σ_j w_ij a_i b_j = Σ_i w_ii a_i b_i +
+ * Σ_{i<j} (w_ij a_i b_j + w_ji a_j b_i), which for a = b is
+ * Σ_i w_ii a_i² + Σ_{i<j} c_ij a_i a_j — half the links of the full matrix.
+ */
+interface PairWeights {
+  readonly offsets: Int32Array;
+  readonly neighbours: Int32Array;
+  readonly weights: Float64Array;
+  readonly diagonal: Float64Array;
+}
+
+function pairWeights(weights: SpatialWeights): PairWeights {
+  const n = weights.ids.length;
+  const rows: Map<number, number>[] = Array.from({ length: n }, () => new Map<number, number>());
+  const diagonal = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    for (let p = weights.offsets[i]; p < weights.offsets[i + 1]; p++) {
+      const j = weights.neighbours[p];
+      const w = weights.weights[p];
+      if (j === i) diagonal[i] += w;
+      else {
+        const low = i < j ? i : j;
+        const high = i < j ? j : i;
+        rows[low].set(high, (rows[low].get(high) ?? 0) + w);
+      }
+    }
+  }
+  const offsets = new Int32Array(n + 1);
+  let total = 0;
+  for (let i = 0; i < n; i++) {
+    total += rows[i].size;
+    offsets[i + 1] = total;
+  }
+  const neighbours = new Int32Array(total);
+  const values = new Float64Array(total);
+  for (let i = 0; i < n; i++) {
+    const sorted = [...rows[i].entries()].sort((a, b) => a[0] - b[0]);
+    sorted.forEach(([j, w], q) => {
+      neighbours[offsets[i] + q] = j;
+      values[offsets[i] + q] = w;
+    });
+  }
+  return { offsets, neighbours, weights: values, diagonal };
+}
+
+/**
+ * R permuted values of the cross-product Σ_i Σ_j w_ij v_i v_j (the numerator
+ * of Moran's I when v = z, and of General G when v = x), evaluated over
+ * unordered pairs (half the links).
  *
- * Cost: O(R·(n + L)), no allocation inside the loop.
+ * Cost: O(R·(n + L/2)), no allocation inside the loop.
  */
 export function crossProductPermutations(
   values: Float64Array,
@@ -106,20 +226,18 @@ export function crossProductPermutations(
   random: RandomSource,
 ): Float64Array {
   const n = values.length;
+  const pairs = pairWeights(weights);
+  const { offsets, neighbours, diagonal } = pairs;
+  const w = pairs.weights;
+  let hasDiagonal = false;
+  for (let i = 0; i < n; i++) if (diagonal[i] !== 0) hasDiagonal = true;
   const shuffled = values.slice();
+  const thresholds = shuffleThresholds(n);
   const out = new Float64Array(permutations);
-  const { offsets, neighbours } = weights;
-  const w = weights.weights;
   for (let r = 0; r < permutations; r++) {
-    // Fisher–Yates, inlined for speed.
-    for (let i = n - 1; i > 0; i--) {
-      const j = random.nextInt(i + 1);
-      const t = shuffled[i];
-      shuffled[i] = shuffled[j];
-      shuffled[j] = t;
-    }
+    shuffleWith(shuffled, random, thresholds);
     let total = 0;
-    let start = offsets[0];
+    let start = 0;
     for (let i = 0; i < n; i++) {
       const end = offsets[i + 1];
       let lag = 0;
@@ -127,6 +245,7 @@ export function crossProductPermutations(
       total += shuffled[i] * lag;
       start = end;
     }
+    if (hasDiagonal) for (let i = 0; i < n; i++) total += diagonal[i] * shuffled[i] * shuffled[i];
     out[r] = total;
   }
   return out;
@@ -148,19 +267,14 @@ export function bivariateCrossProductPermutations(
   const n = x.length;
   const xs = x.slice();
   const ys = y.slice();
+  const swaps = new Int32Array(n);
+  const thresholds = shuffleThresholds(n);
   const out = new Float64Array(permutations);
   const { offsets, neighbours } = weights;
   const w = weights.weights;
   for (let r = 0; r < permutations; r++) {
-    for (let i = n - 1; i > 0; i--) {
-      const j = random.nextInt(i + 1);
-      let t = xs[i];
-      xs[i] = xs[j];
-      xs[j] = t;
-      t = ys[i];
-      ys[i] = ys[j];
-      ys[j] = t;
-    }
+    shuffleWith(xs, random, thresholds, swaps);
+    applySwaps(ys, swaps);
     let total = 0;
     for (let i = 0; i < n; i++) {
       let lag = 0;
@@ -173,9 +287,10 @@ export function bivariateCrossProductPermutations(
 }
 
 /**
- * R permuted values of Σ_i Σ_j w_ij (v_i − v_j)² (the numerator of Geary's C).
+ * R permuted values of Σ_i Σ_j w_ij (v_i − v_j)² (the numerator of Geary's
+ * C), over unordered pairs: Σ_{i<j} c_ij (v_i − v_j)².
  *
- * Cost: O(R·(n + L)).
+ * Cost: O(R·(n + L/2)).
  */
 export function squaredDifferencePermutations(
   values: Float64Array,
@@ -184,17 +299,14 @@ export function squaredDifferencePermutations(
   random: RandomSource,
 ): Float64Array {
   const n = values.length;
+  const pairs = pairWeights(weights);
+  const { offsets, neighbours } = pairs;
+  const w = pairs.weights;
   const shuffled = values.slice();
+  const thresholds = shuffleThresholds(n);
   const out = new Float64Array(permutations);
-  const { offsets, neighbours } = weights;
-  const w = weights.weights;
   for (let r = 0; r < permutations; r++) {
-    for (let i = n - 1; i > 0; i--) {
-      const j = random.nextInt(i + 1);
-      const t = shuffled[i];
-      shuffled[i] = shuffled[j];
-      shuffled[j] = t;
-    }
+    shuffleWith(shuffled, random, thresholds);
     let total = 0;
     for (let i = 0; i < n; i++) {
       const vi = shuffled[i];

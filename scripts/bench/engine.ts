@@ -1,0 +1,105 @@
+/**
+ * Engine benchmark (DESIGN.md §Performance): global Moran's I with 999
+ * permutations and local Moran's I with 999 conditional permutations on
+ * row-standardised rook lattices of 50×50, 100×100 and 200×200 cells, one
+ * thread. Reports wall-clock ms (best of a few repetitions after a warm-up)
+ * and ns per permutation-link. If R with spdep is installed, times
+ * spdep::moran.mc and spdep::localmoran_perm on the same lattice (100×100)
+ * and prints the ratio.
+ */
+import { spawnSync } from "node:child_process";
+import { createRandomSource, globalMoran, latticeWeights, localMoran, rowStandardisedWeights } from "../../lib/spatial";
+
+export interface EngineBenchResult {
+  readonly case: "global-moran" | "local-moran";
+  readonly grid: string;
+  readonly n: number;
+  readonly links: number;
+  readonly permutations: number;
+  readonly ms: number;
+}
+
+export interface EngineBenchOptions {
+  readonly grids?: readonly number[];
+  readonly permutations?: number;
+  readonly repetitions?: number;
+  readonly log?: (line: string) => void;
+}
+
+/** Best wall-clock ms over the repetitions (after a warm-up), with the process CPU ms of that run. */
+function timeBest(repetitions: number, run: () => void): { ms: number; cpuMs: number } {
+  run(); // warm-up (JIT)
+  let best = Infinity;
+  let bestCpu = Infinity;
+  for (let r = 0; r < repetitions; r++) {
+    const cpuStart = process.cpuUsage();
+    const start = process.hrtime.bigint();
+    run();
+    const ms = Number(process.hrtime.bigint() - start) / 1e6;
+    const cpu = process.cpuUsage(cpuStart);
+    if (ms < best) {
+      best = ms;
+      bestCpu = (cpu.user + cpu.system) / 1000;
+    }
+  }
+  return { ms: best, cpuMs: bestCpu };
+}
+
+function line(name: string, grid: string, n: number, links: number, permutations: number, t: { ms: number; cpuMs: number }): string {
+  const perLink = (ms: number) => ((ms * 1e6) / (permutations * links)).toFixed(2);
+  return (
+    `${name.padEnd(12)} ${grid.padStart(7)}: n=${n} links=${links} R=${permutations}: ` +
+    `${t.ms.toFixed(1)} ms wall (${perLink(t.ms)} ns per permutation-link), ${t.cpuMs.toFixed(1)} ms CPU (${perLink(t.cpuMs)} ns)`
+  );
+}
+
+/** Runs the engine cases and returns one result per case and grid. */
+export function runEngineBench(options: EngineBenchOptions = {}): EngineBenchResult[] {
+  const grids = options.grids ?? [50, 100, 200];
+  const permutations = options.permutations ?? 999;
+  const repetitions = options.repetitions ?? 3;
+  const log = options.log ?? (() => undefined);
+  const results: EngineBenchResult[] = [];
+  for (const side of grids) {
+    const weights = rowStandardisedWeights(latticeWeights(side, side, "rook"));
+    const n = weights.ids.length;
+    const links = weights.neighbours.length;
+    // invented values: a smooth trend plus seeded noise
+    const random = createRandomSource(2024);
+    const values = Float64Array.from({ length: n }, (_, i) => Math.floor(i / side) * 0.05 + random.nextFloat());
+    const grid = `${side}x${side}`;
+    const global = timeBest(repetitions, () => {
+      globalMoran(values, weights, { permutations, random: createRandomSource(1) });
+    });
+    results.push({ case: "global-moran", grid, n, links, permutations, ms: global.ms });
+    log(line("global-moran", grid, n, links, permutations, global));
+    const local = timeBest(repetitions, () => {
+      localMoran(values, weights, { permutations, random: createRandomSource(1) });
+    });
+    results.push({ case: "local-moran", grid, n, links, permutations, ms: local.ms });
+    log(line("local-moran", grid, n, links, permutations, local));
+  }
+  return results;
+}
+
+/** Times spdep on a side×side rook lattice (row-standardised); null when R/spdep is unavailable. */
+export function timeSpdep(side: number, permutations: number): { global: number; local: number } | null {
+  const probe = spawnSync("Rscript", ["-e", "suppressPackageStartupMessages(library(spdep))"], { encoding: "utf8" });
+  if (probe.status !== 0) return null;
+  const script = `
+suppressPackageStartupMessages(library(spdep))
+set.seed(1)
+side <- ${side}
+nb <- cell2nb(side, side, type = "rook")
+lw <- nb2listw(nb, style = "W")
+x <- rep(0:(side - 1), each = side) * 0.05 + runif(side * side)
+g <- system.time(moran.mc(x, lw, nsim = ${permutations}))[["elapsed"]]
+l <- system.time(localmoran_perm(x, lw, nsim = ${permutations}))[["elapsed"]]
+cat(sprintf("%.4f %.4f\\n", g, l))
+`;
+  const run = spawnSync("Rscript", ["-e", script], { encoding: "utf8" });
+  if (run.status !== 0) return null;
+  const [g, l] = run.stdout.trim().split(/\s+/).map(Number);
+  if (!Number.isFinite(g) || !Number.isFinite(l)) return null;
+  return { global: g * 1000, local: l * 1000 };
+}
