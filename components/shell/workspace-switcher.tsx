@@ -17,7 +17,7 @@ export function WorkspaceSwitcher({
       <select
         value={current}
         onChange={(e) => router.push(`/w/${e.target.value}/desk`)}
-        className="max-w-[18rem] truncate rounded-md border border-ink-600 bg-ink-700 py-1.5 pl-3 pr-8 text-sm font-medium text-white focus:border-ochre-400 focus:outline-none focus:ring-1 focus:ring-ochre-400"
+        className="max-w-[24rem] truncate rounded-md border border-ink-600 bg-ink-700 py-1.5 pl-3 pr-8 text-sm font-medium text-white focus:border-ochre-400 focus:outline-none focus:ring-1 focus:ring-ochre-400"
       >
         {workspaces.map((w) => (
           <option key={w.slug} value={w.slug}>
