@@ -53,7 +53,7 @@ async function upload(kind: "boundaries" | "panel", fileName: string, content: s
   const ticketResponse = await postUpload(jsonRequest("POST", { kind, fileName, size: bytes.length, sha256: options.declaredSha ?? sha256(bytes) }), ctx({ slug }));
   const ticket = (await ticketResponse.json()) as { uploadId: string; url: string; contentType: string; error?: string };
   if (ticketResponse.status !== 201) return { ticketStatus: ticketResponse.status, ticket, complete: null, completeStatus: 0 };
-  const put = await fetch(ticket.url, { method: "PUT", headers: { "Content-Type": ticket.contentType }, body: options.sent ?? bytes });
+  const put = await fetch(ticket.url, { method: "PUT", headers: { "Content-Type": ticket.contentType }, body: new Uint8Array(options.sent ?? bytes) });
   expect(put.ok).toBe(true);
   const completeResponse = await postComplete(jsonRequest("POST"), ctx({ slug, uploadId: ticket.uploadId }));
   const complete = (await completeResponse.json()) as { state: string; error: string | null };
