@@ -515,3 +515,14 @@ export async function deskSummary(workspaceId: number): Promise<DeskSummary> {
     counts,
   };
 }
+
+/** Indicators analysed by at least one completed run, with labels (selectors of the timeline, map and comparison). */
+export async function analysedIndicators(workspaceId: number): Promise<{ code: string; label: string }[]> {
+  const rows = await db().query<{ code: string; label: string | null }>(
+    `SELECT DISTINCT rp.indicator_code AS code, i.label FROM run_pieces rp JOIN runs r ON r.id = rp.run_id
+       LEFT JOIN indicators i ON i.workspace_id = r.workspace_id AND i.code = rp.indicator_code
+      WHERE r.workspace_id = $1 AND r.state = 'completed' ORDER BY 1`,
+    { bind: [workspaceId], type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => ({ code: r.code, label: r.label ?? r.code }));
+}

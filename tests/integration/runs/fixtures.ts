@@ -88,8 +88,9 @@ export async function loadVeldmarkPanel(
        VALUES ($1, 1, 'published', $2, 'veldmark.topojson', $3, $4, 'topojson', 'districts', 'code', 'name', $5, now(), now(), now(), now()) RETURNING id`,
       [set.id, s3Key, Buffer.byteLength(topologyText), sha, districts.geometries.length],
     );
-    const codes = districts.geometries.map((g) => g.properties?.code ?? "");
-    const names = districts.geometries.map((g) => g.properties?.name ?? null);
+    const props = (g: (typeof districts.geometries)[number]) => (g.properties ?? {}) as { code?: string; name?: string };
+    const codes = districts.geometries.map((g) => props(g).code ?? "");
+    const names = districts.geometries.map((g) => props(g).name ?? null);
     await sequelize.query(
       "INSERT INTO regions (boundary_version_id, code, name, attributes) SELECT $1, c, n, '{}'::jsonb FROM unnest($2::text[], $3::text[]) WITH ORDINALITY AS u(c, n, o) ORDER BY o",
       { bind: [boundary.id, codes, names], transaction },

@@ -1,8 +1,12 @@
 import type { Metadata } from "next";
+import { Suspense } from "react";
+import { CatalogueScreen } from "@/components/catalogue/catalogue-screen";
+import { Cautions } from "@/components/ui/cautions";
 import { Forbidden } from "@/components/ui/forbidden";
-import { LaterRelease } from "@/components/ui/later-release";
+import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
+import { can } from "@/lib/auth/roles";
 
 export const metadata: Metadata = { title: "Catalogue" };
 
@@ -11,15 +15,14 @@ export default async function CataloguePage({ params }: { params: Promise<{ slug
   const access = await guardPage(`/w/${slug}/catalogue`, () => requireMember(slug, "results.view"));
   if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
   return (
-    <LaterRelease
-      title="Catalogue"
-      purpose="Every published indicator and period in one grid, with the clustering statistic, its inference and a link to the indicator's timeline and region map."
-      features={[
-          "One row per indicator and period: Moran's I, its expectation, z and p under normality, randomisation and permutation.",
-          "Filters and sorting kept in the address bar, so a view can be shared with a colleague.",
-          "Indicator timelines: I over the years with the permutation band under the null, and a robustness strip across weights.",
-          "Region maps: choropleth and local cluster map for two periods side by side, with the transition table between them.",
-      ]}
-    />
+    <div>
+      <PageHeader title="Catalogue" eyebrow="Analyses">
+        Every analysed indicator and period in one grid. Open an indicator for its timeline, or a period for its region map.
+      </PageHeader>
+      <Suspense fallback={<p className="text-sm text-ink-500">Loading the catalogue…</p>}>
+        <CatalogueScreen slug={access.value.workspace.slug} canExport={can(access.value.role, "runs.manage")} />
+      </Suspense>
+      <Cautions className="mt-8" />
+    </div>
   );
 }

@@ -1,5 +1,6 @@
 import type { Metadata } from "next";
 import Link from "next/link";
+import { DeskPanel } from "@/components/runs/desk-panel";
 import { Cautions } from "@/components/ui/cautions";
 import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
@@ -20,7 +21,7 @@ export default async function DeskPage({ params }: { params: Promise<{ slug: str
     <div>
       <PageHeader title={workspace.name} eyebrow="Desk">
         Welcome, {firstName}. This is your team&apos;s home in Tessera: the latest movements in spatial clustering of your
-        regional indicators will appear here.
+        regional indicators.
       </PageHeader>
 
       <div className="grid gap-8 lg:grid-cols-[minmax(0,2fr)_minmax(0,1fr)]">
@@ -71,13 +72,7 @@ export default async function DeskPage({ params }: { params: Promise<{ slug: str
             </div>
           </section>
 
-          <section className="rounded-lg border border-dashed border-ink-200 p-6">
-            <h2 className="text-base font-semibold text-ink">Latest movements</h2>
-            <p className="mt-2 text-sm text-ink-500">
-              Nothing to report yet. Movements appear here once published panels have been analysed; that arrives with a
-              later release.
-            </p>
-          </section>
+          <DeskPanel slug={workspace.slug} />
         </div>
 
         <Cautions />

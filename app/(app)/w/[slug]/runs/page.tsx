@@ -1,24 +1,27 @@
 import type { Metadata } from "next";
+import { RunsScreen } from "@/components/runs/runs-screen";
+import { Cautions } from "@/components/ui/cautions";
 import { Forbidden } from "@/components/ui/forbidden";
-import { LaterRelease } from "@/components/ui/later-release";
+import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
+import { can } from "@/lib/auth/roles";
 
 export const metadata: Metadata = { title: "Runs" };
 
 export default async function RunsPage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
-  const access = await guardPage(`/w/${slug}/runs`, () => requireMember(slug, "runs.manage"));
+  const access = await guardPage(`/w/${slug}/runs`, () => requireMember(slug, "results.view"));
   if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
+  const canManage = can(access.value.role, "runs.manage");
   return (
-    <LaterRelease
-      title="Runs"
-      purpose="Start, follow, cancel and rerun analyses over the published panels."
-      features={[
-          "The queue with progress for each run.",
-          "The parameters of every run: weights, transform, permutations, seed, island policy and correction.",
-          "Reruns with changed parameters and exports of results.",
-      ]}
-    />
+    <div>
+      <PageHeader title="Runs" eyebrow="Analyses">
+        Measure spatial clustering for every indicator and period of a published panel: global Moran&apos;s I with analytical and
+        permutation inference, Geary&apos;s C, General G and local clusters per region.
+      </PageHeader>
+      <RunsScreen slug={access.value.workspace.slug} canManage={canManage} />
+      <Cautions className="mt-8" items={["multiple", "small-n", "maup"]} />
+    </div>
   );
 }

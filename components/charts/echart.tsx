@@ -1,0 +1,34 @@
+"use client";
+
+import ReactECharts from "echarts-for-react";
+import type { EChartsOption } from "echarts";
+
+// One wrapper so every chart shares the font, colours and no animation
+// (screenshots and printed reports show the final state).
+export const INK = "#1e2a44";
+export const OCHRE = "#c98a1b";
+export const MUTED = "#94a1bd";
+
+export function EChart({
+  option,
+  height = 320,
+  onClick,
+  testId,
+}: {
+  option: EChartsOption;
+  height?: number;
+  onClick?: (params: { name?: string; dataIndex?: number; seriesName?: string; data?: unknown }) => void;
+  testId?: string;
+}) {
+  return (
+    <div data-testid={testId}>
+      <ReactECharts
+        option={{ animation: false, textStyle: { fontFamily: "var(--font-tessera), system-ui, sans-serif", color: INK }, ...option }}
+        style={{ height, width: "100%" }}
+        notMerge
+        onEvents={onClick ? { click: onClick } : undefined}
+        opts={{ renderer: "svg" }}
+      />
+    </div>
+  );
+}

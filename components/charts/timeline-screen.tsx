@@ -1,0 +1,266 @@
+"use client";
+
+import Link from "next/link";
+import { usePathname, useRouter, useSearchParams } from "next/navigation";
+import { useQuery } from "@tanstack/react-query";
+import type { EChartsOption } from "echarts";
+import { inputClass, secondaryButton } from "@/components/ui/button-styles";
+import { fmt, fmtP, fmtSigned, Notice, Panel, SignificanceBadge, weightsLabel } from "@/components/runs/format";
+import { robustnessQuery, timelineQuery } from "@/components/runs/query-options";
+import type { Timeline } from "@/lib/runs/queries";
+import { EChart, INK, MUTED, OCHRE } from "./echart";
+
+export function TimelineScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
+  const router = useRouter();
+  const pathname = usePathname();
+  const params = useSearchParams();
+  const indicator = params.get("indicator") ?? indicators[0]?.code ?? "";
+  const runParam = params.get("run");
+  const run = runParam && /^\d+$/.test(runParam) ? Number(runParam) : null;
+  const data = useQuery(timelineQuery(slug, indicator, run));
+  const periods = data.data?.points.map((p) => p.period) ?? [];
+  const strip = params.get("period") ?? periods[periods.length - 1] ?? "";
+
+  const set = (changes: Record<string, string | null>) => {
+    const next = new URLSearchParams(params.toString());
+    for (const [k, v] of Object.entries(changes)) {
+      if (v === null || v === "") next.delete(k);
+      else next.set(k, v);
+    }
+    router.replace(`${pathname}?${next.toString()}`, { scroll: false });
+  };
+  const openMap = (period: string) => {
+    const runId = data.data?.run.id;
+    router.push(`/w/${slug}/map?indicator=${encodeURIComponent(indicator)}${runId ? `&run=${runId}` : ""}&a=${encodeURIComponent(period)}`);
+  };
+
+  return (
+    <div className="space-y-6">
+      <div className="flex flex-wrap items-end gap-4">
+        <div>
+          <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="tl-indicator">
+            Indicator
+          </label>
+          <select id="tl-indicator" className={`${inputClass} mt-1 w-72`} value={indicator} onChange={(e) => set({ indicator: e.target.value, run: null, period: null })}>
+            {indicators.map((i) => (
+              <option key={i.code} value={i.code}>
+                {i.label}
+              </option>
+            ))}
+          </select>
+        </div>
+        {data.data ? (
+          <p className="pb-2 text-sm text-ink-500">
+            Run {data.data.run.id} · {weightsLabel(data.data.run.params.weights, data.data.run.params.transform)} weights ·{" "}
+            {data.data.run.params.permutations.toLocaleString("en-GB")} permutations · seed <span className="font-mono">{data.data.run.params.seed}</span>
+          </p>
+        ) : null}
+        <div className="ml-auto flex gap-2 pb-0.5">
+          <Link className={secondaryButton} href={`/w/${slug}/compare?indicator=${encodeURIComponent(indicator)}${run ? `&run=${run}` : ""}`}>
+            Compare two periods
+          </Link>
+        </div>
+      </div>
+      {data.error ? <Notice tone="error">{data.error.message}</Notice> : null}
+      {data.isPending && indicator ? <p className="text-sm text-ink-500">Loading the timeline…</p> : null}
+      {data.data ? (
+        <>
+          {data.data.indicator.description ? <p className="max-w-3xl text-sm text-ink-600">{data.data.indicator.description}</p> : null}
+          <MoranChart timeline={data.data} onPeriod={openMap} />
+          <ZChart timeline={data.data} onPeriod={openMap} />
+          <RobustnessStrip slug={slug} indicator={indicator} run={data.data.run.id} period={strip} periods={periods} onPeriod={(p) => set({ period: p })} />
+          <PeriodTable timeline={data.data} onPeriod={openMap} />
+        </>
+      ) : null}
+    </div>
+  );
+}
+
+function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period: string) => void }) {
+  const pts = timeline.points;
+  const periods = pts.map((p) => p.period);
+  const significant = pts.map((p) => (p.significance === "clustering" || p.significance === "dispersion" ? p.I : null));
+  const option: EChartsOption = {
+    grid: { left: 64, right: 24, top: 40, bottom: 48 },
+    legend: { top: 0, right: 0, data: ["Moran's I", "E[I]", "95 % band under the null", "Significant after correction"], textStyle: { color: INK } },
+    tooltip: {
+      trigger: "axis",
+      valueFormatter: (v) => (typeof v === "number" ? v.toFixed(3) : String(v ?? "—")),
+    },
+    xAxis: { type: "category", data: periods, name: "Period (year)", nameLocation: "middle", nameGap: 30, axisLine: { lineStyle: { color: MUTED } }, axisLabel: { color: INK } },
+    yAxis: { type: "value", name: "Moran's I (unitless)", nameLocation: "middle", nameGap: 48, axisLabel: { color: INK }, splitLine: { lineStyle: { color: "#eef1f6" } } },
+    series: [
+      { name: "band-low", type: "line", data: pts.map((p) => p.bandLow), stack: "band", lineStyle: { opacity: 0 }, symbol: "none", tooltip: { show: false } },
+      {
+        name: "95 % band under the null",
+        type: "line",
+        data: pts.map((p) => (p.bandHigh !== null && p.bandLow !== null ? p.bandHigh - p.bandLow : null)),
+        stack: "band",
+        lineStyle: { opacity: 0 },
+        areaStyle: { color: "rgba(148,161,189,0.28)" },
+        symbol: "none",
+        itemStyle: { color: "rgba(148,161,189,0.5)" },
+        tooltip: { show: false },
+      },
+      { name: "E[I]", type: "line", data: pts.map((p) => p.expectedI), lineStyle: { type: "dashed", color: MUTED, width: 1.5 }, itemStyle: { color: MUTED }, symbol: "none" },
+      { name: "Moran's I", type: "line", data: pts.map((p) => p.I), lineStyle: { color: INK, width: 2.5 }, itemStyle: { color: INK }, symbolSize: 6, connectNulls: false },
+      { name: "Significant after correction", type: "scatter", data: significant, itemStyle: { color: OCHRE, borderColor: "#fff", borderWidth: 1.5 }, symbolSize: 12, z: 5 },
+    ],
+  };
+  return (
+    <Panel
+      title={`Moran's I of ${timeline.indicator.label.toLowerCase()} per period`}
+      caption={
+        <>
+          The grey band holds the middle 95 % (2.5 %–97.5 % quantiles) of I under the null of no spatial pattern, from{" "}
+          {timeline.run.params.permutations.toLocaleString("en-GB")} random relabellings of the values (the same draws in every period). The dashed line is
+          E[I] = −1/(n−1). Ochre points are periods significant after the run&apos;s correction. Click a period to open its map.
+        </>
+      }
+    >
+      <EChart option={option} height={340} onClick={(p) => p.name && onPeriod(p.name)} testId="timeline-moran" />
+    </Panel>
+  );
+}
+
+function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period: string) => void }) {
+  const pts = timeline.points;
+  const option: EChartsOption = {
+    grid: { left: 64, right: 24, top: 24, bottom: 48 },
+    tooltip: { trigger: "axis", valueFormatter: (v) => (typeof v === "number" ? v.toFixed(2) : "—") },
+    xAxis: { type: "category", data: pts.map((p) => p.period), name: "Period (year)", nameLocation: "middle", nameGap: 30, axisLabel: { color: INK }, axisLine: { lineStyle: { color: MUTED } } },
+    yAxis: { type: "value", name: "z under randomisation (sd units)", nameLocation: "middle", nameGap: 48, axisLabel: { color: INK }, splitLine: { lineStyle: { color: "#eef1f6" } } },
+    series: [
+      {
+        name: "z",
+        type: "bar",
+        data: pts.map((p) => ({
+          value: p.zRandomisation,
+          itemStyle: { color: p.significance === "clustering" ? "#9a3412" : p.significance === "dispersion" ? "#115e59" : "#c3cbdb" },
+        })),
+        barMaxWidth: 22,
+        markLine: {
+          symbol: "none",
+          lineStyle: { color: OCHRE, type: "dashed" },
+          label: { formatter: "{c}", color: OCHRE },
+          data: [{ yAxis: 1.96 }, { yAxis: -1.96 }],
+        },
+      },
+    ],
+  };
+  return (
+    <Panel
+      title="z-value of I per period"
+      caption="Bars show z = (I − E[I]) / sd under randomisation. The dashed lines at ±1.96 mark two-sided 5 % significance for one test on its own; bar colours show the class after the run's correction (brown clustering, teal dispersion, grey not significant)."
+    >
+      <EChart option={option} height={240} onClick={(p) => p.name && onPeriod(p.name)} testId="timeline-z" />
+    </Panel>
+  );
+}
+
+function RobustnessStrip({ slug, indicator, run, period, periods, onPeriod }: { slug: string; indicator: string; run: number; period: string; periods: string[]; onPeriod: (p: string) => void }) {
+  const strip = useQuery(robustnessQuery(slug, indicator, run, period));
+  const entries = strip.data?.entries ?? [];
+  const option: EChartsOption = {
+    grid: { left: 110, right: 40, top: 12, bottom: 44 },
+    tooltip: { trigger: "item" },
+    yAxis: { type: "category", data: entries.map((e) => e.rule), inverse: true, axisLabel: { color: INK }, name: "Weights rule", nameLocation: "middle", nameGap: 90 },
+    xAxis: { type: "value", name: "Moran's I (unitless)", nameLocation: "middle", nameGap: 28, axisLabel: { color: INK }, splitLine: { lineStyle: { color: "#eef1f6" } } },
+    series: [
+      { name: "band-low", type: "bar", stack: "b", data: entries.map((e) => e.bandLow), itemStyle: { color: "transparent" }, barWidth: 12, tooltip: { show: false } },
+      {
+        name: "95 % null band",
+        type: "bar",
+        stack: "b",
+        data: entries.map((e) => (e.bandHigh !== null && e.bandLow !== null ? e.bandHigh - e.bandLow : null)),
+        itemStyle: { color: "rgba(148,161,189,0.35)" },
+        barWidth: 12,
+        tooltip: { show: false },
+      },
+      {
+        name: "I",
+        type: "scatter",
+        data: entries.map((e) => e.I),
+        symbolSize: 12,
+        itemStyle: { color: INK },
+        label: { show: true, position: "right", formatter: (p) => (typeof p.value === "number" ? p.value.toFixed(3) : ""), color: INK },
+      },
+    ],
+  };
+  return (
+    <Panel
+      title="Robustness across weights"
+      actions={
+        <select aria-label="Period of the robustness strip" className="rounded-md border border-ink-200 px-2 py-1 text-sm" value={period} onChange={(e) => onPeriod(e.target.value)}>
+          {periods.map((p) => (
+            <option key={p}>{p}</option>
+          ))}
+        </select>
+      }
+      caption={`Moran's I for ${period} recomputed on demand under queen and rook contiguity, 4, 6 and 8 nearest neighbours and the smallest distance band that connects every region (${strip.data?.transform ?? "row-standardised"} weights, the run's seed and permutations). Grey bars are each rule's 95 % band under the null; a result that holds across rules depends less on the choice of weights.`}
+    >
+      {strip.isPending ? <p className="text-sm text-ink-500">Computing the strip…</p> : null}
+      {strip.error ? <Notice tone="error">{strip.error.message}</Notice> : null}
+      {entries.length ? <EChart option={option} height={250} testId="timeline-robustness" /> : null}
+      {entries.some((e) => e.note) ? (
+        <ul className="mt-2 space-y-1 text-xs text-ink-500">
+          {entries
+            .filter((e) => e.note)
+            .map((e) => (
+              <li key={e.rule}>
+                <span className="font-medium">{e.rule}:</span> {e.note}
+              </li>
+            ))}
+        </ul>
+      ) : null}
+    </Panel>
+  );
+}
+
+function PeriodTable({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period: string) => void }) {
+  return (
+    <Panel title="Per period: n, weights and inference" caption="n counts regions with a value after the island policy. Pseudo p is the two-sided permutation p; adjusted p applies the run's correction across all its indicator-periods.">
+      <div className="overflow-x-auto">
+        <table className="w-full text-sm">
+          <thead className="text-left text-xs uppercase tracking-wider text-ink-400">
+            <tr>
+              <th className="py-2 pr-3">Period</th>
+              <th className="py-2 pr-3 text-right">n</th>
+              <th className="py-2 pr-3 text-right">Left out</th>
+              <th className="py-2 pr-3 text-right">Mean neighbours</th>
+              <th className="py-2 pr-3 text-right">I</th>
+              <th className="py-2 pr-3 text-right">ΔI</th>
+              <th className="py-2 pr-3 text-right">Pseudo p</th>
+              <th className="py-2 pr-3 text-right">Adjusted p</th>
+              <th className="py-2 pr-3 text-right">Geary&apos;s C</th>
+              <th className="py-2 pr-3">Class</th>
+            </tr>
+          </thead>
+          <tbody className="divide-y divide-ink-50">
+            {timeline.points.map((p) => (
+              <tr key={p.period} className="hover:bg-ochre-50/50">
+                <td className="py-1.5 pr-3">
+                  <button type="button" className="font-medium text-ink hover:text-ochre-700 hover:underline" onClick={() => onPeriod(p.period)}>
+                    {p.period}
+                  </button>
+                </td>
+                <td className="py-1.5 pr-3 text-right tabular-nums">{p.n}</td>
+                <td className="py-1.5 pr-3 text-right tabular-nums" title={p.note ?? undefined}>
+                  {p.excludedMissing + p.excludedIslands}
+                </td>
+                <td className="py-1.5 pr-3 text-right tabular-nums">{fmt(p.weights?.meanNeighbours ?? null, 2)}</td>
+                <td className="py-1.5 pr-3 text-right tabular-nums">{fmt(p.I)}</td>
+                <td className="py-1.5 pr-3 text-right tabular-nums">{fmtSigned(p.deltaI)}</td>
+                <td className="py-1.5 pr-3 text-right tabular-nums">{fmtP(p.pseudoP)}</td>
+                <td className="py-1.5 pr-3 text-right tabular-nums">{fmtP(p.adjustedP)}</td>
+                <td className="py-1.5 pr-3 text-right tabular-nums">{fmt(p.gearyC)}</td>
+                <td className="py-1.5 pr-3">{p.status === "computed" ? <SignificanceBadge value={p.significance} /> : <span className="text-xs text-ink-400">{p.note}</span>}</td>
+              </tr>
+            ))}
+          </tbody>
+        </table>
+      </div>
+      {timeline.run.significanceBasis ? <p className="mt-3 text-xs text-ink-500">{timeline.run.significanceBasis}</p> : null}
+    </Panel>
+  );
+}

@@ -1,0 +1,399 @@
+"use client";
+
+import Link from "next/link";
+import { usePathname, useRouter, useSearchParams } from "next/navigation";
+import { useQuery } from "@tanstack/react-query";
+import { scaleSequential } from "d3-scale";
+import { interpolateYlOrBr } from "d3-scale-chromatic";
+import type { EChartsOption } from "echarts";
+import { useMemo, useState } from "react";
+import { EChart, INK, MUTED } from "@/components/charts/echart";
+import { inputClass, secondaryButton } from "@/components/ui/button-styles";
+import { CLUSTER_COLOURS, CLUSTER_LABELS, CLUSTER_SHORT, fmt, fmtP, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
+import { compareQuery, geometryQuery, mapQuery, timelineQuery } from "@/components/runs/query-options";
+import type { ClusterClass } from "@/lib/spatial";
+import type { MapPeriod } from "@/lib/runs/on-demand";
+import { RegionMap, useRegionFeatures } from "./region-map";
+
+const CLASSES: ClusterClass[] = ["HH", "LL", "HL", "LH", "not-significant", "no-neighbours"];
+
+export function MapScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
+  const router = useRouter();
+  const pathname = usePathname();
+  const params = useSearchParams();
+  const indicator = params.get("indicator") ?? indicators[0]?.code ?? "";
+  const runParam = params.get("run");
+  const run = runParam && /^\d+$/.test(runParam) ? Number(runParam) : null;
+  const timeline = useQuery(timelineQuery(slug, indicator, run));
+  const periods = timeline.data?.points.map((p) => p.period) ?? [];
+  const runId = timeline.data?.run.id ?? run;
+  const a = params.get("a") ?? periods[0] ?? "";
+  const defaultB = periods.length ? (a === periods[periods.length - 1] ? periods[0] : periods[periods.length - 1]) : "";
+  const b = params.get("b") ?? defaultB;
+  const geometry = useQuery(geometryQuery(slug, runId));
+  const mapA = useQuery(mapQuery(slug, indicator, runId, a));
+  const mapB = useQuery(mapQuery(slug, indicator, runId, b));
+  const compare = useQuery(compareQuery(slug, indicator, runId, a, b));
+  const features = useRegionFeatures(geometry.data);
+  const [hovered, setHovered] = useState<string | null>(null);
+  const [selected, setSelected] = useState<string | null>(null);
+  const active = hovered ?? selected;
+  const unit = mapA.data?.indicator.unit ?? "";
+
+  const set = (changes: Record<string, string | null>) => {
+    const next = new URLSearchParams(params.toString());
+    for (const [k, v] of Object.entries(changes)) {
+      if (v === null || v === "") next.delete(k);
+      else next.set(k, v);
+    }
+    router.replace(`${pathname}?${next.toString()}`, { scroll: false });
+  };
+
+  // One colour scale for both periods, so the same colour means the same value.
+  const scale = useMemo(() => {
+    const values = [mapA.data?.map, mapB.data?.map].flatMap((m) => (m ? Object.values(m.values).filter((v): v is number => v !== null) : []));
+    if (!values.length) return null;
+    return scaleSequential(interpolateYlOrBr).domain([Math.min(...values), Math.max(...values)]);
+  }, [mapA.data, mapB.data]);
+
+  const names = geometry.data?.names ?? {};
+  const loading = geometry.isPending || mapA.isPending || mapB.isPending;
+  const error = timeline.error ?? geometry.error ?? mapA.error ?? mapB.error;
+
+  return (
+    <div className="space-y-6">
+      <div className="flex flex-wrap items-end gap-4">
+        <div>
+          <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="map-indicator">
+            Indicator
+          </label>
+          <select id="map-indicator" className={`${inputClass} mt-1 w-72`} value={indicator} onChange={(e) => set({ indicator: e.target.value, run: null })}>
+            {indicators.map((i) => (
+              <option key={i.code} value={i.code}>
+                {i.label}
+              </option>
+            ))}
+          </select>
+        </div>
+        <div>
+          <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="map-a">
+            Period A
+          </label>
+          <select id="map-a" className={`${inputClass} mt-1 w-28`} value={a} onChange={(e) => set({ a: e.target.value })}>
+            {periods.map((p) => (
+              <option key={p}>{p}</option>
+            ))}
+          </select>
+        </div>
+        <div>
+          <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="map-b">
+            Period B
+          </label>
+          <select id="map-b" className={`${inputClass} mt-1 w-28`} value={b} onChange={(e) => set({ b: e.target.value })}>
+            {periods.map((p) => (
+              <option key={p}>{p}</option>
+            ))}
+          </select>
+        </div>
+        <div className="ml-auto flex gap-2">
+          <Link className={secondaryButton} href={`/w/${slug}/timeline?indicator=${encodeURIComponent(indicator)}${runId ? `&run=${runId}` : ""}`}>
+            Timeline
+          </Link>
+          <Link className={secondaryButton} href={`/w/${slug}/compare?indicator=${encodeURIComponent(indicator)}${runId ? `&run=${runId}` : ""}&a=${a}&b=${b}`}>
+            Compare {a} and {b}
+          </Link>
+        </div>
+      </div>
+      {error ? <Notice tone="error">{error.message}</Notice> : null}
+      {loading && !error ? <p className="text-sm text-ink-500">Loading maps…</p> : null}
+      {mapA.data && mapB.data && geometry.data ? (
+        <>
+          <div className="grid gap-6 lg:grid-cols-2">
+            {[mapA.data.map, mapB.data.map].map((m, k) => (
+              <Panel
+                key={`cluster-${k}`}
+                title={`Local clusters, ${m.period}`}
+                actions={<PeriodBadge map={m} />}
+                caption={clusterCaption(m)}
+              >
+                <RegionMap
+                  features={features}
+                  coordinates={geometry.data.coordinates}
+                  fill={(id) => CLUSTER_COLOURS[clusterOf(m, id) ?? "not-significant"]}
+                  hatched={(id) => {
+                    const c = clusterOf(m, id);
+                    return c === "no-neighbours" || c === null;
+                  }}
+                  activeId={active}
+                  onHover={setHovered}
+                  onSelect={setSelected}
+                  label={`Local cluster map of ${indicator} in ${m.period}`}
+                  testId={`cluster-map-${k === 0 ? "a" : "b"}`}
+                />
+                <ClusterLegend map={m} />
+              </Panel>
+            ))}
+          </div>
+          <div className="grid gap-6 lg:grid-cols-2">
+            {[mapA.data.map, mapB.data.map].map((m, k) => (
+              <Panel
+                key={`value-${k}`}
+                title={`${mapA.data.indicator.label}, ${m.period}${unit ? ` (${unit})` : ""}`}
+                caption={`Sequential colour scale (yellow–orange–brown) shared by both periods, from the lowest to the highest value shown. Hatched regions have no value in ${m.period}.`}
+              >
+                <RegionMap
+                  features={features}
+                  coordinates={geometry.data.coordinates}
+                  fill={(id) => {
+                    const v = m.values[id];
+                    return v === null || v === undefined || !scale ? "#f5f5f4" : scale(v);
+                  }}
+                  hatched={(id) => m.values[id] === null || m.values[id] === undefined}
+                  activeId={active}
+                  onHover={setHovered}
+                  onSelect={setSelected}
+                  label={`Choropleth of ${indicator} in ${m.period}`}
+                  testId={`choropleth-${k === 0 ? "a" : "b"}`}
+                />
+                {scale ? <ScaleLegend domain={scale.domain() as [number, number]} unit={unit} /> : null}
+              </Panel>
+            ))}
+          </div>
+          <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_minmax(0,1fr)]">
+            <RegionDetail id={active} names={names} a={mapA.data.map} b={mapB.data.map} unit={unit} />
+            <Panel
+              title={`Cluster classes from ${a} to ${b}`}
+              caption="Rows are the class in period A, columns the class in period B; each cell counts regions. The diagonal holds regions that kept their class."
+            >
+              {compare.data?.comparison.transitions ? (
+                <TransitionTable counts={compare.data.comparison.transitions.counts} moved={compare.data.comparison.transitions.moved} a={a} b={b} />
+              ) : compare.isPending ? (
+                <p className="text-sm text-ink-500">Counting transitions…</p>
+              ) : (
+                <Notice>Transitions need local results for both periods.</Notice>
+              )}
+            </Panel>
+          </div>
+          <div className="grid gap-6 lg:grid-cols-2">
+            {[mapA.data.map, mapB.data.map].map((m, k) => (
+              <ScatterPanel key={`scatter-${k}`} map={m} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} />
+            ))}
+          </div>
+        </>
+      ) : null}
+    </div>
+  );
+}
+
+function clusterOf(m: MapPeriod, id: string): ClusterClass | null {
+  if (!m.local) return null;
+  const i = m.local.ids.indexOf(id);
+  return i < 0 ? null : m.local.cluster[i];
+}
+
+function clusterCaption(m: MapPeriod): string {
+  if (!m.local) return m.note ?? "No local results were stored for this period.";
+  const corr = m.local.correction === "fdr" ? "false discovery rate" : m.local.correction === "bonferroni" ? "Bonferroni" : "no";
+  return `Local Moran's I per region with conditional permutation pseudo p (two-sided) and ${corr} correction across regions at α = ${m.local.alpha}. High–High: a high value among high neighbours; Low–Low likewise; High–Low and Low–High are outliers. Hatched: no neighbour with a value, or left out.`;
+}
+
+function PeriodBadge({ map }: { map: MapPeriod }) {
+  return (
+    <div className="flex items-center gap-2 text-xs text-ink-500">
+      <span className="tabular-nums">
+        I = {fmt(map.I)} · p = {fmtP(map.pseudoP)}
+      </span>
+      <SignificanceBadge value={map.significance} />
+    </div>
+  );
+}
+
+function ClusterLegend({ map }: { map: MapPeriod }) {
+  const counts = map.local?.counts;
+  return (
+    <ul className="mt-3 flex flex-wrap gap-x-4 gap-y-1 text-xs text-ink-600">
+      {CLASSES.map((c) => (
+        <li key={c} className="flex items-center gap-1.5">
+          <span className={`inline-block h-3 w-3 rounded-sm ring-1 ring-black/10 ${c === "no-neighbours" ? "hatch-no-neighbours" : ""}`} style={c === "no-neighbours" ? undefined : { background: CLUSTER_COLOURS[c] }} />
+          {CLUSTER_LABELS[c]} <span className="tabular-nums text-ink-400">{counts ? counts[c] : 0}</span>
+        </li>
+      ))}
+    </ul>
+  );
+}
+
+function ScaleLegend({ domain, unit }: { domain: [number, number]; unit: string }) {
+  const stops = Array.from({ length: 11 }, (_, i) => interpolateYlOrBr(i / 10));
+  return (
+    <div className="mt-3">
+      <div className="h-2.5 w-full rounded-sm" style={{ background: `linear-gradient(to right, ${stops.join(",")})` }} />
+      <div className="mt-1 flex justify-between text-xs tabular-nums text-ink-500">
+        <span>{fmt(domain[0], 1)}</span>
+        <span>{unit}</span>
+        <span>{fmt(domain[1], 1)}</span>
+      </div>
+    </div>
+  );
+}
+
+function RegionDetail({ id, names, a, b, unit }: { id: string | null; names: Record<string, string | null>; a: MapPeriod; b: MapPeriod; unit: string }) {
+  if (!id) {
+    return (
+      <Panel title="Region">
+        <p className="text-sm text-ink-500">Hover over or click a region on any map or scatter plot to see it everywhere at once.</p>
+      </Panel>
+    );
+  }
+  const row = (m: MapPeriod) => {
+    const i = m.local?.ids.indexOf(id) ?? -1;
+    return {
+      value: m.values[id] ?? null,
+      cluster: i >= 0 && m.local ? m.local.cluster[i] : null,
+      Ii: i >= 0 && m.local ? m.local.Ii[i] : null,
+      p: i >= 0 && m.local ? m.local.pseudoP[i] : null,
+    };
+  };
+  const ra = row(a);
+  const rb = row(b);
+  return (
+    <Panel title={`${names[id] ?? id} (${id})`}>
+      <table className="w-full text-sm" data-testid="region-detail">
+        <thead className="text-left text-xs uppercase tracking-wider text-ink-400">
+          <tr>
+            <th className="py-1" />
+            <th className="py-1 text-right">{a.period}</th>
+            <th className="py-1 text-right">{b.period}</th>
+          </tr>
+        </thead>
+        <tbody className="divide-y divide-ink-50">
+          <tr>
+            <td className="py-1.5 text-ink-500">Value{unit ? ` (${unit})` : ""}</td>
+            <td className="py-1.5 text-right tabular-nums">{fmt(ra.value, 2)}</td>
+            <td className="py-1.5 text-right tabular-nums">{fmt(rb.value, 2)}</td>
+          </tr>
+          <tr>
+            <td className="py-1.5 text-ink-500">Cluster class</td>
+            <td className="py-1.5 text-right">{ra.cluster ? CLUSTER_SHORT[ra.cluster] : "—"}</td>
+            <td className="py-1.5 text-right">{rb.cluster ? CLUSTER_SHORT[rb.cluster] : "—"}</td>
+          </tr>
+          <tr>
+            <td className="py-1.5 text-ink-500">Local I</td>
+            <td className="py-1.5 text-right tabular-nums">{fmt(ra.Ii)}</td>
+            <td className="py-1.5 text-right tabular-nums">{fmt(rb.Ii)}</td>
+          </tr>
+          <tr>
+            <td className="py-1.5 text-ink-500">Pseudo p</td>
+            <td className="py-1.5 text-right tabular-nums">{fmtP(ra.p)}</td>
+            <td className="py-1.5 text-right tabular-nums">{fmtP(rb.p)}</td>
+          </tr>
+        </tbody>
+      </table>
+    </Panel>
+  );
+}
+
+function TransitionTable({ counts, moved, a, b }: { counts: number[][]; moved: number; a: string; b: string }) {
+  const max = Math.max(1, ...counts.flat());
+  return (
+    <div className="overflow-x-auto">
+      <table className="w-full text-sm" data-testid="transition-table">
+        <thead>
+          <tr className="text-xs text-ink-400">
+            <th className="py-1 text-left font-medium">
+              {a} ↓ / {b} →
+            </th>
+            {CLASSES.map((c) => (
+              <th key={c} className="px-1 py-1 text-right font-medium">
+                {CLUSTER_SHORT[c]}
+              </th>
+            ))}
+          </tr>
+        </thead>
+        <tbody>
+          {CLASSES.map((from, i) => (
+            <tr key={from}>
+              <th className="py-1 pr-2 text-left text-xs font-medium text-ink-500">{CLUSTER_SHORT[from]}</th>
+              {CLASSES.map((to, j) => {
+                const v = counts[i]?.[j] ?? 0;
+                return (
+                  <td
+                    key={to}
+                    className={`px-1 py-1 text-right tabular-nums ${i === j ? "font-semibold" : ""} ${v === 0 ? "text-ink-200" : "text-ink"}`}
+                    style={{ background: v ? `rgba(201,138,27,${(0.08 + 0.4 * (v / max)).toFixed(2)})` : undefined }}
+                  >
+                    {v}
+                  </td>
+                );
+              })}
+            </tr>
+          ))}
+        </tbody>
+      </table>
+      <p className="mt-2 text-xs text-ink-500">
+        {moved} region{moved === 1 ? "" : "s"} changed class between {a} and {b}.
+      </p>
+    </div>
+  );
+}
+
+function ScatterPanel({ map, active, onSelect, testId }: { map: MapPeriod; active: string | null; onSelect: (id: string) => void; testId: string }) {
+  const local = map.local;
+  if (!local) {
+    return (
+      <Panel title={`Moran scatter plot, ${map.period}`}>
+        <Notice>{map.note ?? "No local results for this period."}</Notice>
+      </Panel>
+    );
+  }
+  const xs = local.standardised;
+  const extent = Math.max(2, ...xs.map(Math.abs), ...local.lag.map(Math.abs)) * 1.05;
+  const points = local.ids.map((id, i) => ({
+    value: [xs[i], local.lag[i]],
+    name: id,
+    itemStyle: {
+      color: CLUSTER_COLOURS[local.cluster[i]],
+      borderColor: id === active ? INK : "rgba(30,42,68,0.35)",
+      borderWidth: id === active ? 2.5 : 0.5,
+    },
+    symbolSize: id === active ? 14 : 7,
+  }));
+  const option: EChartsOption = {
+    grid: { left: 60, right: 20, top: 20, bottom: 50 },
+    tooltip: { trigger: "item", formatter: (p) => (Array.isArray(p) ? "" : `${p.name}`) },
+    xAxis: { type: "value", min: -extent, max: extent, name: "Standardised value z (sd units)", nameLocation: "middle", nameGap: 30, axisLabel: { color: INK }, splitLine: { show: false } },
+    yAxis: { type: "value", min: -extent, max: extent, name: "Spatial lag of z (sd units)", nameLocation: "middle", nameGap: 40, axisLabel: { color: INK }, splitLine: { show: false } },
+    series: [
+      {
+        type: "scatter",
+        data: points,
+        markLine: {
+          symbol: "none",
+          silent: true,
+          lineStyle: { color: MUTED, type: "solid", width: 1 },
+          label: { show: false },
+          data: [{ xAxis: 0 }, { yAxis: 0 }],
+        },
+      },
+      {
+        type: "line",
+        name: "slope",
+        data: [
+          [-extent, -extent * local.slope],
+          [extent, extent * local.slope],
+        ],
+        symbol: "none",
+        lineStyle: { color: "#c98a1b", width: 2 },
+        silent: true,
+        tooltip: { show: false },
+      },
+    ],
+  };
+  return (
+    <Panel
+      title={`Moran scatter plot, ${map.period}`}
+      caption={`Each point is a region: its standardised value against the average of its neighbours. The ochre line through the origin has slope ${fmt(local.slope)}, which equals Moran's I for row-standardised weights (I = ${fmt(map.I)}). Colours are the cluster classes.`}
+    >
+      <EChart option={option} height={320} testId={testId} onClick={(p) => p.name && onSelect(p.name)} />
+    </Panel>
+  );
+}
