@@ -59,10 +59,12 @@ describe("signing in", () => {
     await page.waitForURL(/\/sign-in\?callbackUrl=/);
     await screenshot(page, "sign-in");
 
+    // Scoped to the form: Next's route announcer is also role="alert".
+    const formAlert = page.locator('form [role="alert"]');
     await signIn(page, account("steward").email, "not-the-password");
-    const wrongPassword = await page.getByRole("alert").innerText();
+    const wrongPassword = await formAlert.innerText();
     await signIn(page, uniqueAddress("nobody"), "not-the-password");
-    const unknownAddress = await page.getByRole("alert").innerText();
+    const unknownAddress = await formAlert.innerText();
     expect(wrongPassword).toBe("That e-mail address and password do not match an account. Check both and try again.");
     expect(unknownAddress).toBe(wrongPassword);
     expect(page.url()).toContain("/sign-in");
