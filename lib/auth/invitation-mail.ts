@@ -38,7 +38,7 @@ export function renderInvitationEmail(p: InvitationEmailPayload): { subject: str
 <body style="margin:0;padding:0;background:#f3f5f9;font-family:Inter,Segoe UI,Helvetica,Arial,sans-serif;color:#1e2a44">
   <table role="presentation" width="100%" cellpadding="0" cellspacing="0" style="background:#f3f5f9;padding:32px 0">
     <tr><td align="center">
-      <table role="presentation" width="560" cellpadding="0" cellspacing="0" style="background:#ffffff;border-radius:8px;overflow:hidden;border:1px solid #e3e7ef">
+      <table role="presentation" width="100%" cellpadding="0" cellspacing="0" style="max-width:560px;background:#ffffff;border-radius:8px;overflow:hidden;border:1px solid #e3e7ef">
         <tr><td style="background:#1e2a44;padding:18px 28px;color:#ffffff;font-size:18px;font-weight:600;letter-spacing:0.02em">
           Tessera<span style="display:inline-block;width:8px;height:8px;margin-left:6px;background:#c98a1b;border-radius:1px"></span>
         </td></tr>
