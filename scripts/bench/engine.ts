@@ -10,6 +10,7 @@
 import { spawnSync } from "node:child_process";
 import { createRandomSource, globalMoran, latticeWeights, localMoran, rowStandardisedWeights } from "../../lib/spatial";
 
+/** One benchmark case (the `--json` output of `npm run bench`). */
 export interface EngineBenchResult {
   readonly case: "global-moran" | "local-moran";
   readonly grid: string;
@@ -19,6 +20,7 @@ export interface EngineBenchResult {
   readonly ms: number;
 }
 
+/** Options of {@link runEngineBench}. */
 export interface EngineBenchOptions {
   readonly grids?: readonly number[];
   readonly permutations?: number;
@@ -82,8 +84,16 @@ export function runEngineBench(options: EngineBenchOptions = {}): EngineBenchRes
   return results;
 }
 
+/** spdep timings in ms: wall clock and CPU (user + system) of the R process. */
+export interface SpdepTimings {
+  readonly global: number;
+  readonly local: number;
+  readonly globalCpu: number;
+  readonly localCpu: number;
+}
+
 /** Times spdep on a side×side rook lattice (row-standardised); null when R/spdep is unavailable. */
-export function timeSpdep(side: number, permutations: number): { global: number; local: number } | null {
+export function timeSpdep(side: number, permutations: number): SpdepTimings | null {
   const probe = spawnSync("Rscript", ["-e", "suppressPackageStartupMessages(library(spdep))"], { encoding: "utf8" });
   if (probe.status !== 0) return null;
   const script = `
@@ -93,13 +103,13 @@ side <- ${side}
 nb <- cell2nb(side, side, type = "rook")
 lw <- nb2listw(nb, style = "W")
 x <- rep(0:(side - 1), each = side) * 0.05 + runif(side * side)
-g <- system.time(moran.mc(x, lw, nsim = ${permutations}))[["elapsed"]]
-l <- system.time(localmoran_perm(x, lw, nsim = ${permutations}))[["elapsed"]]
-cat(sprintf("%.4f %.4f\\n", g, l))
+g <- system.time(moran.mc(x, lw, nsim = ${permutations}))
+l <- system.time(localmoran_perm(x, lw, nsim = ${permutations}))
+cat(sprintf("%.4f %.4f %.4f %.4f\\n", g[["elapsed"]], l[["elapsed"]], g[["user.self"]] + g[["sys.self"]], l[["user.self"]] + l[["sys.self"]]))
 `;
   const run = spawnSync("Rscript", ["-e", script], { encoding: "utf8" });
   if (run.status !== 0) return null;
-  const [g, l] = run.stdout.trim().split(/\s+/).map(Number);
-  if (!Number.isFinite(g) || !Number.isFinite(l)) return null;
-  return { global: g * 1000, local: l * 1000 };
+  const [g, l, gCpu, lCpu] = run.stdout.trim().split(/\s+/).map(Number);
+  if (![g, l, gCpu, lCpu].every(Number.isFinite)) return null;
+  return { global: g * 1000, local: l * 1000, globalCpu: gCpu * 1000, localCpu: lCpu * 1000 };
 }
