@@ -11,8 +11,9 @@ export const metadata: Metadata = { title: "Runs" };
 
 export default async function RunsPage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
-  const access = await guardPage(`/w/${slug}/runs`, () => requireMember(slug, "results.view"));
+  const access = await guardPage(`/w/${slug}/runs`, () => requireMember(slug, "runs.manage"));
   if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
+  // Subscribers never reach this screen (DESIGN.md §Roles: runs are an economist's capability).
   const canManage = can(access.value.role, "runs.manage");
   return (
     <div>

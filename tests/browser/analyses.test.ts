@@ -1,0 +1,107 @@
+import type { Page } from "playwright-core";
+import { QueryTypes } from "sequelize";
+import demo from "@/seeders/demo-accounts.json";
+import { db } from "@/lib/db";
+import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
+import { testServices } from "@/tests/helpers/env";
+import { closeConnections } from "@/tests/helpers/teardown";
+import { loadVeldmarkPanel } from "@/tests/integration/runs/fixtures";
+
+// The economist's day (issue 5 "done when"): start a run on the demo panel,
+// watch it finish, filter the catalogue to significant clustering, open the
+// unemployment timeline, and compare 2012 with 2016 on the map.
+
+const slug = demo.workspace.slug;
+const economist = demo.accounts.find((a) => a.role === "economist");
+if (!economist) throw new Error("demo-accounts.json has no economist");
+
+let session: BrowserSession;
+
+async function signIn(page: Page, email: string, password: string) {
+  await page.goto("/sign-in");
+  await page.getByLabel("E-mail address").fill(email);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL((url) => !url.pathname.startsWith("/sign-in"), { waitUntil: "commit" });
+}
+
+beforeAll(async () => {
+  testServices();
+  // The demo seed publishes the Veldmark panel; load it here when this bring-up did not.
+  const [ws] = await db().query<{ id: number }>("SELECT id FROM workspaces WHERE slug = $1", { bind: [slug], type: QueryTypes.SELECT });
+  if (!ws) throw new Error(`The demo workspace "${slug}" is missing: the demo seeder has not run.`);
+  const published = await db().query(
+    "SELECT pv.id FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id WHERE p.workspace_id = $1 AND pv.state = 'published'",
+    { bind: [ws.id], type: QueryTypes.SELECT },
+  );
+  if (published.length === 0) await loadVeldmarkPanel(ws.id);
+  session = await openBrowser({ viewport: { width: 1440, height: 1000 } });
+  // Generous: under `next dev` each screen compiles on its first visit.
+  session.page.setDefaultTimeout(120_000);
+});
+
+afterAll(async () => {
+  await session?.close();
+  await closeConnections();
+});
+
+jest.setTimeout(600_000);
+
+it("an economist runs the demo panel, filters the catalogue, opens the unemployment timeline and compares 2012 with 2016", async () => {
+  const { page } = session;
+  await signIn(page, economist.email, economist.password);
+
+  // Start a run: two indicators keep the test short; the seed is fixed so the numbers repeat.
+  await page.goto(`/w/${slug}/runs`);
+  const form = page.getByRole("form", { name: "Start a run" });
+  await form.waitFor();
+  for (const label of await form.locator("fieldset label").allInnerTexts()) {
+    const keep = /^(Unemployment rate|Broadband coverage)$/.test(label.trim());
+    const box = form.locator("fieldset label", { hasText: label.trim() }).locator("input");
+    if ((await box.isChecked()) !== keep) await box.click();
+  }
+  await page.getByLabel("Seed").fill("20260101");
+  await screenshot(page, "analyses-01-start-run");
+  await page.getByRole("button", { name: "Start run" }).click();
+  await page.getByText(/Run \d+ is queued/).waitFor();
+  const runId = Number((await page.getByText(/Run \d+ is queued/).innerText()).match(/Run (\d+)/)?.[1]);
+  expect(runId).toBeGreaterThan(0);
+  await page.locator(`[data-testid="run-${runId}"][data-state="completed"]`).waitFor({ timeout: 110_000 });
+  await screenshot(page, "analyses-02-run-completed");
+
+  // Catalogue of that run, filtered to significant clustering; the filter lives in the URL.
+  await page.goto(`/w/${slug}/catalogue?run=${runId}`);
+  await page.locator(".ag-row").first().waitFor();
+  await page.getByRole("button", { name: /^Clustering/ }).click();
+  await page.waitForURL(/class=clustering/);
+  await page.waitForFunction(() => !document.querySelector('[data-testid="catalogue-count"]')?.textContent?.startsWith("34 "));
+  const classes = await page.locator('.ag-center-cols-container [col-id="significance"]').allInnerTexts();
+  expect(classes.length).toBeGreaterThan(0);
+  expect(new Set(classes.map((c) => c.trim()))).toEqual(new Set(["Clustering"]));
+  await screenshot(page, "analyses-03-catalogue-clustering");
+
+  // The unemployment timeline from the grid.
+  await page.locator(".ag-pinned-left-cols-container a", { hasText: "Unemployment rate" }).first().click();
+  await page.waitForURL(/\/timeline\?indicator=unemployment_rate/);
+  await page.locator('[data-testid="timeline-moran"] svg').waitFor();
+  await page.locator('[data-testid="timeline-robustness"] svg').waitFor({ timeout: 60_000 });
+  await screenshot(page, "analyses-04-timeline-unemployment");
+
+  // The map comparing 2012 with 2016.
+  await page.goto(`/w/${slug}/map?indicator=unemployment_rate&run=${runId}&a=2012&b=2016`);
+  await page.locator('[data-testid="cluster-map-a"] path[data-region]').first().waitFor();
+  await page.locator('[data-testid="transition-table"]').waitFor();
+  const hh2016 = await page.locator('[data-testid="cluster-map-b"] path[fill="#9a3412"]').count();
+  expect(hh2016).toBeGreaterThan(0);
+  await page.locator('[data-testid="cluster-map-b"] path[fill="#9a3412"]').first().hover();
+  await page.locator('[data-testid="region-detail"]').waitFor();
+  await screenshot(page, "analyses-05-map-2012-2016");
+
+  await page.goto(`/w/${slug}/compare?indicator=unemployment_rate&run=${runId}&a=2012&b=2016`);
+  await page.locator('[data-testid="compare-change-i"]').waitFor();
+  await screenshot(page, "analyses-06-compare-2012-2016");
+
+  await page.goto(`/w/${slug}/desk`);
+  await page.locator('[data-testid="desk-analyses"]').waitFor();
+  await screenshot(page, "analyses-07-desk");
+});

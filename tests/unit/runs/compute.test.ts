@@ -1,0 +1,155 @@
+import { globalMoran, prepareAnalysis, createRandomSource, weightsFromNeighbourLists, type SpatialWeights } from "@/lib/spatial";
+import { computeIndicator, computePeriod, statisticSeed, type PeriodParams, type RunGeometry } from "@/lib/runs/compute";
+
+// A 6 × 6 rook lattice (36 regions "r0".."r35") plus one region "isle" with
+// no neighbours, as base (binary) weights.
+function lattice(size = 6, withIsland = true): SpatialWeights {
+  const ids: string[] = [];
+  const lists: number[][] = [];
+  for (let r = 0; r < size; r++) {
+    for (let c = 0; c < size; c++) {
+      ids.push(`r${r * size + c}`);
+      const nb: number[] = [];
+      if (r > 0) nb.push((r - 1) * size + c);
+      if (c > 0) nb.push(r * size + c - 1);
+      if (c < size - 1) nb.push(r * size + c + 1);
+      if (r < size - 1) nb.push((r + 1) * size + c);
+      lists.push(nb);
+    }
+  }
+  if (withIsland) {
+    ids.push("isle");
+    lists.push([]);
+  }
+  return weightsFromNeighbourLists(ids, lists, { rule: "rook", transform: "binary" });
+}
+
+const geometry: RunGeometry = { baseWeights: lattice() };
+const params: PeriodParams = {
+  weights: "rook",
+  transform: "row-standardised",
+  islandPolicy: "exclude",
+  permutations: 199,
+  seed: 7,
+  alpha: 0.05,
+  correction: "fdr",
+  local: true,
+};
+
+/** A smooth west–east gradient with a little deterministic noise: clearly clustered. */
+function gradient(shift = 0): Map<string, number | null> {
+  const values = new Map<string, number | null>();
+  for (let i = 0; i < 36; i++) values.set(`r${i}`, (i % 6) + shift + ((i * 7919) % 13) / 20);
+  values.set("isle", 3);
+  return values;
+}
+
+describe("computePeriod", () => {
+  it("computes every statistic for a clustered variable and says which islands were left out", () => {
+    const row = computePeriod(geometry, params, "x", "2020", gradient());
+    expect(row.status).toBe("computed");
+    expect(row.n).toBe(36);
+    expect(row.exclusions.islandExcluded).toBe(1);
+    expect(row.note).toContain('1 region has no neighbour with a value under "rook" weights (isle)');
+    expect(row.note).toContain('island policy "exclude"');
+    expect(row.moran?.I).toBeGreaterThan(0.5);
+    expect(row.moran?.expectedI).toBeCloseTo(-1 / 35, 12);
+    expect(row.permutation?.pTwoSided).toBeGreaterThanOrEqual(1 / 200);
+    expect(row.permutation?.bandLow).toBeLessThan(row.permutation?.bandHigh ?? -Infinity);
+    expect(row.geary?.C).toBeLessThan(1);
+    expect(row.generalG?.G).toBeGreaterThan(0);
+    expect(row.local?.ids).toHaveLength(36);
+    expect(row.local?.quadrant).toContain("HH");
+    expect(Object.values(row.local?.counts ?? {}).reduce((a, b) => a + b, 0)).toBe(36);
+  });
+
+  it("matches the engine's global Moran's I with the run's seed (the CLI's --seed)", () => {
+    const row = computePeriod(geometry, params, "x", "2020", gradient());
+    const prepared = prepareAnalysis(geometry.baseWeights, gradient(), { islandPolicy: "exclude", transform: "row-standardised" });
+    const direct = globalMoran(prepared.values, prepared.weights, { permutations: 199, random: createRandomSource(7) });
+    expect(statisticSeed(7, "moran")).toBe(7);
+    expect(row.moran?.I).toBe(direct.I);
+    expect(row.permutation?.pTwoSided).toBe(direct.permutation?.pTwoSided);
+    expect(row.permutation?.mean).toBe(direct.permutation?.mean);
+  });
+
+  it("explains a constant indicator instead of failing", () => {
+    const constant = new Map<string, number | null>([...gradient()].map(([k]) => [k, 4.2]));
+    const row = computePeriod(geometry, params, "x", "2019", constant);
+    expect(row.status).toBe("not-computed");
+    expect(row.reason).toBe("constant");
+    expect(row.note).toMatch(/^The indicator is constant in 2019: all 36 regions have the value 4\.2/);
+    expect(row.moran).toBeNull();
+  });
+
+  it("explains too few regions with a value", () => {
+    const sparse = new Map<string, number | null>([
+      ["r0", 1],
+      ["r1", 2],
+      ["r6", 3],
+    ]);
+    const row = computePeriod(geometry, params, "x", "2010", sparse);
+    expect(row.status).toBe("not-computed");
+    expect(row.reason).toBe("too-few-regions");
+    expect(row.note).toContain("Too few regions: 3 of 37 regions can be used in 2010");
+    expect(row.exclusions.missing).toBe(34);
+  });
+
+  it("keeps islands with a zero lag under the keep policy and says so", () => {
+    const row = computePeriod(geometry, { ...params, islandPolicy: "keep" }, "x", "2020", gradient());
+    expect(row.status).toBe("computed");
+    expect(row.n).toBe(37);
+    expect(row.note).toContain('island policy "keep": kept with a spatial lag of zero');
+    expect(row.local?.cluster[row.local.ids.indexOf("isle")]).toBe("no-neighbours");
+  });
+
+  it("records regions without a value and the re-standardisation", () => {
+    const values = gradient();
+    values.set("r3", null);
+    values.set("r4", Number.NaN);
+    const row = computePeriod(geometry, params, "x", "2020", values);
+    expect(row.exclusions.missing).toBe(2);
+    expect(row.note).toContain("2 regions without a usable value are left out; the weights are restricted to the 35 regions with a value and re-standardised.");
+    expect(row.n).toBe(34);
+  });
+
+  it("notes General G's need for non-negative values and still computes the rest", () => {
+    const values = gradient(-3);
+    const row = computePeriod(geometry, params, "x", "2020", values);
+    expect(row.status).toBe("computed");
+    expect(row.generalG).toBeNull();
+    expect(row.note).toContain("General G was not computed");
+    expect(row.moran).not.toBeNull();
+  });
+});
+
+describe("computeIndicator", () => {
+  it("continues past bad periods and computes ΔI between computed neighbours in time", () => {
+    const constant = new Map<string, number | null>([...gradient()].map(([k]) => [k, 1]));
+    const rows = computeIndicator(geometry, params, "x", [
+      { period: "2018", values: gradient() },
+      { period: "2019", values: constant },
+      { period: "2020", values: gradient(1) },
+      { period: "2021", values: gradient(2) },
+    ]);
+    expect(rows.map((r) => r.status)).toEqual(["computed", "not-computed", "computed", "computed"]);
+    expect(rows[0].deltaI).toBeNull();
+    expect(rows[1].deltaI).toBeNull();
+    expect(rows[2].deltaI).toBeNull(); // previous period not computed
+    expect(rows[3].deltaI).toBeCloseTo((rows[3].moran?.I ?? NaN) - (rows[2].moran?.I ?? NaN), 14);
+  });
+
+  it("reproduces every number with the same seed, and uses the same draws in every period", () => {
+    const periods = [
+      { period: "2020", values: gradient() },
+      { period: "2021", values: gradient(0.5) },
+    ];
+    const first = computeIndicator(geometry, params, "x", periods);
+    const second = computeIndicator(geometry, params, "x", periods);
+    expect(JSON.stringify(second)).toBe(JSON.stringify(first));
+    const other = computeIndicator(geometry, { ...params, seed: 8 }, "x", periods);
+    expect(other[0].permutation?.mean).not.toBe(first[0].permutation?.mean);
+    // Common random numbers: a shift of every value leaves z unchanged, so the permuted I's are identical.
+    expect(first[1].moran?.I).toBeDefined();
+  });
+});

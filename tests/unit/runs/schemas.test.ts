@@ -1,0 +1,36 @@
+import { catalogueQuerySchema, runParamsInputSchema, startRunSchema } from "@/lib/runs/schemas";
+
+describe("run parameters", () => {
+  it("fills the documented defaults", () => {
+    expect(runParamsInputSchema.parse({})).toEqual({
+      weights: "queen",
+      transform: "row-standardised",
+      islandPolicy: "exclude",
+      permutations: 999,
+      alpha: 0.05,
+      correction: "fdr",
+      local: true,
+    });
+  });
+
+  it("names the field that is wrong", () => {
+    const r = runParamsInputSchema.safeParse({ permutations: 50 });
+    expect(r.success).toBe(false);
+    expect(r.error?.issues[0].path).toEqual(["permutations"]);
+    expect(r.error?.issues[0].message).toBe("Use at least 99 permutations.");
+    const w = runParamsInputSchema.safeParse({ weights: "hexagon" });
+    expect(w.error?.issues[0].message).toContain('Unknown weights rule "hexagon"');
+    expect(startRunSchema.safeParse({}).error?.issues[0].path).toEqual(["panelVersionId"]);
+  });
+
+  it("parses catalogue filters from the URL", () => {
+    expect(catalogueQuerySchema.parse({ class: "clustering,dispersion", from: "2012", run: "4" })).toEqual({
+      run: 4,
+      class: ["clustering", "dispersion"],
+      from: "2012",
+      to: null,
+      q: null,
+    });
+    expect(catalogueQuerySchema.safeParse({ class: "maybe" }).success).toBe(false);
+  });
+});
