@@ -4,6 +4,7 @@ import demo from "@/seeders/demo-accounts.json";
 import { db } from "@/lib/db";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
 import { testServices } from "@/tests/helpers/env";
+import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { loadVeldmarkPanel } from "@/tests/integration/runs/fixtures";
 
@@ -42,6 +43,7 @@ beforeAll(async () => {
 
 afterAll(async () => {
   await session?.close();
+  await closeIntakePool();
   await closeConnections();
 });
 
@@ -57,7 +59,7 @@ it("an economist runs the demo panel, filters the catalogue, opens the unemploym
   await form.waitFor();
   for (const label of await form.locator("fieldset label").allInnerTexts()) {
     const keep = /^(Unemployment rate|Broadband coverage)$/.test(label.trim());
-    const box = form.locator("fieldset label", { hasText: label.trim() }).locator("input");
+    const box = form.getByRole("checkbox", { name: label.trim(), exact: true });
     if ((await box.isChecked()) !== keep) await box.click();
   }
   await page.getByLabel("Seed").fill("20260101");
