@@ -261,7 +261,16 @@ export async function buildIfNeeded({ env, tag = "build", logFile } = {}) {
       await run(path.join(ROOT, "node_modules", ".bin", "next"), ["build"], { env: buildEnv, inherit: true });
     }
   } catch (err) {
-    throw new UserFacingError(`next build failed${logFile ? ` (see ${path.relative(ROOT, logFile)})` : ""}: ${err.message}`);
+    let first = "";
+    if (logFile && fs.existsSync(logFile)) {
+      first = fs
+        .readFileSync(logFile, "utf8")
+        .split("\n")
+        .filter((l) => /error/i.test(l))
+        .slice(0, 3)
+        .join(" | ");
+    }
+    throw new UserFacingError(`next build failed${logFile ? ` (see ${path.relative(ROOT, logFile)})` : ""}${first ? `: ${first}` : ""}\n${err.message}`);
   }
   // Hash again after the build: next build may rewrite tsconfig.json once.
   fs.writeFileSync(BUILD_HASH_FILE, buildInputHash() + "\n");
