@@ -4,21 +4,20 @@ import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
-import { can } from "@/lib/auth/roles";
 
 export const metadata: Metadata = { title: "Intake" };
 
 export default async function IntakePage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
-  const access = await guardPage(`/w/${slug}/intake`, () => requireMember(slug, "results.view"));
+  const access = await guardPage(`/w/${slug}/intake`, () => requireMember(slug, "data.view-unpublished"));
   if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
-  const curator = can(access.value.role, "data.curate");
+  // The screen belongs to stewards and managers (DESIGN.md §Roles); the published
+  // data it curates reaches everyone else through the analyses screens.
   return (
     <>
       <PageHeader title="Intake" eyebrow="Boundaries and panels">
-        {curator
-          ? "Upload boundaries and indicator panels, read the validation report, and publish the versions analyses may use. Every upload becomes an immutable version."
-          : "The published boundaries and panels that analyses use. Uploads and validation are done by stewards and managers."}
+        Upload boundaries and indicator panels, read the validation report, and publish the versions analyses may use. Every upload becomes an immutable
+        version.
       </PageHeader>
       <IntakeScreen slug={slug} />
     </>

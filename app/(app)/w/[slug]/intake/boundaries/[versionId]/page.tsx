@@ -11,10 +11,9 @@ export const metadata: Metadata = { title: "Boundary version" };
 
 export default async function VersionPage({ params }: { params: Promise<{ slug: string; versionId: string }> }) {
   const { slug, versionId } = await params;
-  const access = await guardPage(`/w/${slug}/intake/boundaries/${versionId}`, () => requireMember(slug, "results.view"));
+  const access = await guardPage(`/w/${slug}/intake/boundaries/${versionId}`, () => requireMember(slug, "data.view-unpublished"));
   if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
   const id = Number(versionId);
-  // An unpublished version does not exist for economists and subscribers.
   if (!Number.isInteger(id) || id <= 0 || !(await versionDetail(access.value.workspace.id, "boundaries", id, can(access.value.role, "data.view-unpublished")))) notFound();
   return <VersionScreen slug={slug} kind="boundaries" versionId={id} canCurate={can(access.value.role, "data.curate")} />;
 }
