@@ -13,7 +13,7 @@ import { runOptionsQuery, runsApi, runsKeys, runsQuery } from "./query-options";
 export function RunsScreen({ slug, canManage }: { slug: string; canManage: boolean }) {
   const runs = useQuery(runsQuery(slug));
   return (
-    <div className="grid gap-6 xl:grid-cols-[minmax(0,1fr)_380px]">
+    <div className="grid gap-6 xl:grid-cols-[minmax(0,1fr)_420px]">
       <Panel
         title="Queue"
         caption="Each run is split into one piece per indicator so several workers share it. Progress counts indicator-periods stored. A rerun repeats the stored parameters, data version and seed, so every number is reproduced."
@@ -92,7 +92,7 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
                 <div className="h-2 flex-1 overflow-hidden rounded-full bg-ink-50" role="progressbar" aria-valuenow={pct} aria-valuemin={0} aria-valuemax={100} aria-label={`Run ${run.id} progress`}>
                   <div className={`h-full rounded-full ${run.state === "failed" ? "bg-red-400" : run.state === "cancelled" ? "bg-stone-300" : "bg-ochre-500"} transition-all`} style={{ width: `${pct}%` }} />
                 </div>
-                <span className="w-44 text-right text-xs tabular-nums text-ink-500">
+                <span className="w-60 shrink-0 text-right text-xs tabular-nums text-ink-500">
                   {pct}% · {run.periodsDone} / {run.resultsTotal} indicator-periods
                 </span>
               </div>

@@ -1,0 +1,351 @@
+/**
+ * Runs benchmarks (DESIGN.md §Performance). A benchmark, never a test: nothing
+ * fails on time; it prints what it measured and the target beside it.
+ *
+ *   npx tsx scripts/bench/runs.ts [--json] [--skip-db] [--large-indicators N] [--workers N]
+ *
+ * 1. demo-compute: the demo panel (Veldmark, seeders/data/veldmark: 238
+ *    regions × 17 periods × 7 indicators, global + local, 999 permutations,
+ *    queen, row-standardised) computed in this process with lib/runs — no I/O.
+ * 2. demo-end-to-end (needs DATABASE_URL and S3_* of running services with
+ *    the demo panel published): starts N workers (default 2, this script's own
+ *    child processes), enqueues the same run, and times queue → every result
+ *    stored and the run completed.
+ * 3. large-global: 3,000 regions (a 60 × 50 rook lattice standing in for
+ *    boundaries) × 30 periods × 50 indicators, global statistics only, 999
+ *    permutations, split over N processes like N workers. By default only
+ *    the first --large-indicators (2) indicators are computed and the time is
+ *    extrapolated linearly to 50 (the cost is the same for every indicator);
+ *    pass --large-indicators 50 for the full run.
+ * 4. catalogue-p95 (needs DATABASE_URL): 10,000 stored result rows in a
+ *    benchmark run; the catalogue query (lib/runs/queries catalogueRows, plus
+ *    JSON serialisation as the route handler does) timed 40 times per filter;
+ *    p50 and p95. The benchmark run is deleted afterwards.
+ */
+import { spawn, type ChildProcess } from "node:child_process";
+import { readFileSync } from "node:fs";
+import path from "node:path";
+import type { Topology } from "topojson-specification";
+import { weightsFromNeighbourLists } from "../../lib/spatial";
+import { buildRunGeometry, computeIndicator, computePeriod, type PeriodParams, type RunGeometry } from "../../lib/runs/compute";
+
+interface BenchResult {
+  case: string;
+  ms: number | null;
+  target_ms: number | null;
+  detail: string;
+  [key: string]: unknown;
+}
+
+const argv = process.argv.slice(2);
+const json = argv.includes("--json");
+const skipDb = argv.includes("--skip-db");
+const numberArg = (flag: string, fallback: number) => {
+  const i = argv.indexOf(flag);
+  return i >= 0 && /^\d+$/.test(argv[i + 1] ?? "") ? Number(argv[i + 1]) : fallback;
+};
+const largeIndicators = Math.min(50, Math.max(1, numberArg("--large-indicators", 2)));
+const workers = Math.max(1, numberArg("--workers", 2));
+const log = json ? () => undefined : (line: string) => console.log(line);
+const ROOT = path.resolve(__dirname, "..", "..");
+
+const DEMO_PARAMS: PeriodParams = {
+  weights: "queen",
+  transform: "row-standardised",
+  islandPolicy: "exclude",
+  permutations: 999,
+  seed: 20_240_101,
+  alpha: 0.05,
+  correction: "fdr",
+  local: true,
+};
+
+function loadDemo(): { geometry: RunGeometry; data: Map<string, Map<string, Map<string, number | null>>> } {
+  const dir = path.join(ROOT, "seeders", "data", "veldmark");
+  const topology = JSON.parse(readFileSync(path.join(dir, "veldmark.topojson"), "utf8")) as Topology;
+  const geometry = buildRunGeometry(topology, { object: "districts", idProperty: "code" }, DEMO_PARAMS);
+  const data = new Map<string, Map<string, Map<string, number | null>>>();
+  for (const line of readFileSync(path.join(dir, "veldmark-panel.csv"), "utf8").trim().split(/\r?\n/).slice(1)) {
+    const [region, period, indicator, raw] = line.split(",");
+    if (!data.has(indicator)) data.set(indicator, new Map());
+    const byPeriod = data.get(indicator) as Map<string, Map<string, number | null>>;
+    if (!byPeriod.has(period)) byPeriod.set(period, new Map());
+    (byPeriod.get(period) as Map<string, number | null>).set(region, raw === "" ? null : Number(raw));
+  }
+  return { geometry, data };
+}
+
+function demoCompute(): BenchResult {
+  const { geometry, data } = loadDemo();
+  const started = performance.now();
+  let rows = 0;
+  for (const [indicator, byPeriod] of data) {
+    rows += computeIndicator(geometry, DEMO_PARAMS, indicator, [...byPeriod].map(([period, values]) => ({ period, values }))).length;
+  }
+  const ms = performance.now() - started;
+  return {
+    case: "demo-compute",
+    ms,
+    target_ms: 5000,
+    detail: `${geometry.baseWeights.ids.length} regions, ${rows} indicator-periods, global (Moran, Geary, General G) + local, 999 permutations, one thread, no I/O`,
+    indicator_periods: rows,
+  };
+}
+
+// ——— large synthetic run, sharded over child processes ———
+
+function lattice(columns: number, rows: number): RunGeometry {
+  const ids: string[] = [];
+  const lists: number[][] = [];
+  for (let r = 0; r < rows; r++) {
+    for (let c = 0; c < columns; c++) {
+      ids.push(`R${String(r * columns + c).padStart(4, "0")}`);
+      const nb: number[] = [];
+      if (r > 0) nb.push((r - 1) * columns + c);
+      if (c > 0) nb.push(r * columns + c - 1);
+      if (c < columns - 1) nb.push(r * columns + c + 1);
+      if (r < rows - 1) nb.push((r + 1) * columns + c);
+      lists.push(nb);
+    }
+  }
+  return { baseWeights: weightsFromNeighbourLists(ids, lists, { rule: "rook", transform: "binary" }) };
+}
+
+/** Computes indicators [from, to) of the synthetic panel; prints the count of rows. */
+function largeShard(from: number, to: number): number {
+  const geometry = lattice(60, 50);
+  const params: PeriodParams = { ...DEMO_PARAMS, weights: "rook", local: false };
+  const n = geometry.baseWeights.ids.length;
+  let state = 987654321;
+  const next = () => {
+    state = (Math.imul(state, 1664525) + 1013904223) >>> 0;
+    return state / 4294967296;
+  };
+  let rows = 0;
+  for (let k = from; k < to; k++) {
+    for (let t = 0; t < 30; t++) {
+      const values = new Float64Array(n);
+      for (let i = 0; i < n; i++) values[i] = (i % 60) * (k % 3) * 0.05 + next() * 10 + t * 0.1;
+      computePeriod(geometry, params, `ind${k}`, String(1995 + t), values);
+      rows++;
+    }
+  }
+  return rows;
+}
+
+async function largeGlobal(): Promise<BenchResult> {
+  const started = performance.now();
+  const per = Math.ceil(largeIndicators / workers);
+  const shards: Promise<number>[] = [];
+  for (let w = 0; w < workers; w++) {
+    const from = w * per;
+    const to = Math.min(largeIndicators, from + per);
+    if (from >= to) continue;
+    shards.push(
+      new Promise((resolve, reject) => {
+        const child = spawn(process.execPath, [...process.execArgv, __filename, "--shard", String(from), String(to)], { stdio: ["ignore", "pipe", "inherit"] });
+        let out = "";
+        child.stdout.on("data", (b: Buffer) => (out += b.toString()));
+        child.on("exit", (code) => (code === 0 ? resolve(Number(out.trim())) : reject(new Error(`large-global shard ${from}-${to} exited ${code}`))));
+      }),
+    );
+  }
+  const rows = (await Promise.all(shards)).reduce((a, b) => a + b, 0);
+  const ms = performance.now() - started;
+  const full = (ms * 50) / largeIndicators;
+  return {
+    case: "large-global",
+    ms: largeIndicators === 50 ? ms : full,
+    target_ms: 90_000,
+    detail:
+      `3,000 regions (60×50 rook lattice) × 30 periods × 50 indicators, global only (Moran, Geary, General G), 999 permutations, ${workers} processes` +
+      (largeIndicators === 50 ? "" : `; measured ${rows} indicator-periods (${largeIndicators} indicators) in ${(ms / 1000).toFixed(1)} s and extrapolated linearly to 50`),
+    measured_indicator_periods: rows,
+    measured_ms: ms,
+    extrapolated: largeIndicators !== 50,
+  };
+}
+
+// ——— database cases ———
+
+async function withDatabase<T>(work: () => Promise<T>): Promise<T | null> {
+  if (skipDb || !process.env.DATABASE_URL) return null;
+  try {
+    return await work();
+  } catch (error) {
+    log(`(database case skipped: ${error instanceof Error ? error.message : String(error)})`);
+    return null;
+  }
+}
+
+function startWorker(): Promise<ChildProcess> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(process.execPath, [...process.execArgv, path.join(ROOT, "scripts", "worker.ts")], {
+      cwd: ROOT,
+      env: { ...process.env, WORKER_CONCURRENCY: "1", WORKER_POLL_SECONDS: "0.5" },
+      stdio: ["ignore", "pipe", "pipe"],
+    });
+    const timer = setTimeout(() => reject(new Error("a benchmark worker did not report ready within 60 s")), 60_000);
+    child.stdout?.on("data", (b: Buffer) => {
+      if (b.toString().includes("ready:")) {
+        clearTimeout(timer);
+        resolve(child);
+      }
+    });
+    child.on("exit", (code) => reject(new Error(`a benchmark worker exited ${code} before it was ready`)));
+  });
+}
+
+async function demoEndToEnd(): Promise<BenchResult | null> {
+  return withDatabase(async () => {
+    const { db } = await import("../../lib/db");
+    const { QueryTypes } = await import("sequelize");
+    const { publishedPanelVersions } = await import("../../lib/intake/queries");
+    const { startRun } = await import("../../lib/runs/service");
+    const { runParamsInputSchema } = await import("../../lib/runs/schemas");
+    const demo = JSON.parse(readFileSync(path.join(ROOT, "seeders", "demo-accounts.json"), "utf8")) as { workspace: { slug: string } };
+    const [ws] = await db().query<{ id: number }>("SELECT id FROM workspaces WHERE slug = $1", { bind: [demo.workspace.slug], type: QueryTypes.SELECT });
+    if (!ws) throw new Error("no demo workspace");
+    const version = (await publishedPanelVersions(ws.id))[0];
+    if (!version) throw new Error("the demo panel is not published");
+    const children: ChildProcess[] = [];
+    try {
+      for (let w = 0; w < workers; w++) children.push(await startWorker());
+      const started = performance.now();
+      const { runId, params } = await startRun({
+        workspaceId: ws.id,
+        userId: null,
+        panelVersionId: version.panelVersionId,
+        choice: runParamsInputSchema.parse({ seed: DEMO_PARAMS.seed }),
+        origin: "benchmark",
+      });
+      let state = "queued";
+      while (state !== "completed" && state !== "failed" && state !== "cancelled") {
+        await new Promise((r) => setTimeout(r, 50));
+        const [row] = await db().query<{ state: string }>("SELECT state FROM runs WHERE id = $1", { bind: [runId], type: QueryTypes.SELECT });
+        state = row.state;
+        if (performance.now() - started > 600_000) throw new Error(`run ${runId} did not finish in 10 minutes`);
+      }
+      const ms = performance.now() - started;
+      await db().query("DELETE FROM runs WHERE id = $1", { bind: [runId] });
+      return {
+        case: "demo-end-to-end",
+        ms: state === "completed" ? ms : null,
+        target_ms: 5000,
+        detail: `run ${runId} ${state}: ${params.indicators.length} × ${params.periods.length} indicator-periods, global + local, 999 permutations, ${workers} worker process(es), from enqueue to the run completed with every result stored`,
+      };
+    } finally {
+      for (const child of children) child.kill("SIGTERM");
+      const { stopBoss } = await import("../../lib/jobs/boss");
+      await stopBoss(5_000);
+    }
+  });
+}
+
+async function catalogueP95(): Promise<BenchResult | null> {
+  return withDatabase(async () => {
+    const { db } = await import("../../lib/db");
+    const { QueryTypes } = await import("sequelize");
+    const { catalogueRows } = await import("../../lib/runs/queries");
+    const [pv] = await db().query<{ id: number; boundary_version_id: number; workspace_id: number }>(
+      "SELECT pv.id, pv.boundary_version_id, p.workspace_id FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id ORDER BY pv.id LIMIT 1",
+      { type: QueryTypes.SELECT },
+    );
+    if (!pv) throw new Error("no panel version to attach a benchmark run to");
+    const indicators = Array.from({ length: 200 }, (_, i) => `bench_indicator_${String(i).padStart(3, "0")}`);
+    const periods = Array.from({ length: 50 }, (_, i) => String(1975 + i));
+    const params = { weights: "queen", transform: "row-standardised", islandPolicy: "exclude", permutations: 999, seed: 1, alpha: 0.05, correction: "fdr", indicators, periods, local: false, panelVersionId: pv.id, boundaryVersionId: pv.boundary_version_id, method: "tessera-runs/1" };
+    const [run] = await db().query<{ id: number }>(
+      `INSERT INTO runs (workspace_id, panel_version_id, boundary_version_id, origin, params, seed, state, progress, pieces_total, pieces_done, results_total, started_at, finished_at, created_at, updated_at)
+       VALUES ($1, $2, $3, 'benchmark', $4::jsonb, 1, 'completed', 1, 200, 200, 10000, now(), now(), now(), now()) RETURNING id`,
+      { bind: [pv.workspace_id, pv.id, pv.boundary_version_id, JSON.stringify(params)], type: QueryTypes.SELECT },
+    );
+    try {
+      await db().query(
+        `INSERT INTO run_pieces (run_id, indicator_code, state, attempts, periods_total, periods_done, created_at, updated_at)
+         SELECT $1, c, 'completed', 1, 50, 50, now(), now() FROM unnest($2::text[]) AS c`,
+        { bind: [run.id, indicators] },
+      );
+      await db().query(
+        `INSERT INTO run_results (run_id, indicator_code, period_key, period_index, status, n, regions_in_boundaries, exclusions, i, expected_i,
+                                  z_randomisation, p_randomisation, perm_p, adjusted_p, significance, delta_i, geary_c, general_g, created_at)
+         SELECT $1, ind.c, per.p, per.o - 1, 'computed', 240, 240, '{}'::jsonb, s.v, -1.0/239, s.v * 20, 0.5 * (1 - s.v), 0.001 + (1 - abs(s.v)) * 0.5,
+                0.001 + (1 - abs(s.v)) * 0.6, CASE WHEN s.v > 0.3 THEN 'clustering' WHEN s.v < -0.3 THEN 'dispersion' ELSE 'not-significant' END,
+                s.v / 10, 1 - s.v, 0.02, now()
+           FROM unnest($2::text[]) AS ind(c) CROSS JOIN unnest($3::text[]) WITH ORDINALITY AS per(p, o)
+           CROSS JOIN LATERAL (SELECT sin(length(ind.c) * per.o + ascii(right(ind.c, 1))) AS v) s`,
+        { bind: [run.id, indicators, periods] },
+      );
+      await db().query("ANALYZE run_results");
+      const filters = [
+        { name: "all 10,000 rows", filter: { runId: run.id } },
+        { name: "class = clustering", filter: { runId: run.id, classes: ["clustering" as const] } },
+        { name: "periods 2000–2010 + text", filter: { runId: run.id, periodFrom: "2000", periodTo: "2010", text: "indicator_1" } },
+      ];
+      const timings: number[] = [];
+      const perFilter: Record<string, number> = {};
+      let rowsAll = 0;
+      for (const f of filters) {
+        const local: number[] = [];
+        for (let k = 0; k < 42; k++) {
+          const t = performance.now();
+          const rows = await catalogueRows(pv.workspace_id, f.filter);
+          JSON.stringify({ rows });
+          const ms = performance.now() - t;
+          if (k >= 2) local.push(ms); // the first two warm the connection pool and plan cache
+          if (f.name.startsWith("all")) rowsAll = rows.length;
+        }
+        local.sort((a, b) => a - b);
+        perFilter[f.name] = local[Math.floor(0.95 * (local.length - 1))];
+        timings.push(...local);
+      }
+      timings.sort((a, b) => a - b);
+      const p95 = timings[Math.floor(0.95 * (timings.length - 1))];
+      const p50 = timings[Math.floor(0.5 * (timings.length - 1))];
+      return {
+        case: "catalogue-p95",
+        ms: p95,
+        target_ms: 200,
+        detail: `catalogue query + JSON over a ${rowsAll.toLocaleString("en")}-row run, 40 timed calls per filter (3 filters): p50 ${p50.toFixed(1)} ms, p95 ${p95.toFixed(1)} ms; p95 per filter ${Object.entries(perFilter)
+          .map(([k, v]) => `${k} ${v.toFixed(1)} ms`)
+          .join(", ")} (query layer; the route adds the guard's two small lookups)`,
+        p50_ms: p50,
+      };
+    } finally {
+      await db().query("DELETE FROM runs WHERE id = $1", { bind: [run.id] });
+    }
+  });
+}
+
+async function main(): Promise<void> {
+  const shard = argv.indexOf("--shard");
+  if (shard >= 0) {
+    process.stdout.write(`${largeShard(Number(argv[shard + 1]), Number(argv[shard + 2]))}\n`);
+    return;
+  }
+  const results: BenchResult[] = [];
+  const report = (r: BenchResult | null) => {
+    if (!r) return;
+    results.push(r);
+    const verdict = r.ms === null || r.target_ms === null ? "" : r.ms <= r.target_ms ? " (within target)" : " (over target)";
+    log(`runs ${r.case.padEnd(16)} ${r.ms === null ? "—" : `${(r.ms / 1000).toFixed(2)} s`.padStart(9)}  target ${r.target_ms === null ? "—" : `${r.target_ms / 1000} s`}${verdict}  ${r.detail}`);
+  };
+  report(demoCompute());
+  report(await demoEndToEnd());
+  report(await largeGlobal());
+  report(await catalogueP95());
+  if (json) console.log(JSON.stringify({ results }));
+  if (!skipDb && process.env.DATABASE_URL) {
+    const { db } = await import("../../lib/db");
+    const { closeIntakePool } = await import("../../lib/intake/ingest-db");
+    const { closeS3 } = await import("../../lib/storage/s3");
+    await closeIntakePool().catch(() => undefined);
+    closeS3();
+    await db().close().catch(() => undefined);
+  }
+}
+
+main().catch((error: unknown) => {
+  console.error(`bench/runs: ${error instanceof Error ? error.message : String(error)}`);
+  process.exit(1);
+});
