@@ -2,6 +2,9 @@ import { DataTypes } from "sequelize";
 import { db } from "@/lib/db";
 import { ROLES } from "@/lib/auth/roles";
 import { AuditEvent } from "./audit-event";
+import { DigestDelivery } from "./digest-delivery";
+import { DigestSubscription } from "./digest-subscription";
+import { DIGEST_CADENCES, DIGEST_DELIVERY_STATUSES, DIGEST_EMPTY_POLICIES, DIGEST_SCOPES, DIGEST_THRESHOLDS } from "./digest-types";
 import { BoundarySet } from "./boundary-set";
 import { BoundaryVersion } from "./boundary-version";
 import { ColumnMappingMemory } from "./column-mapping";
@@ -269,6 +272,46 @@ function initModels(): void {
     { ...common, tableName: "uploads", modelName: "Upload" },
   );
 
+  // Digests (migrations/20261201000600-*).
+  const oneOf = (values: readonly string[]) => ({ isIn: [values as unknown as string[]] });
+  DigestSubscription.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      userId: { type: DataTypes.INTEGER, allowNull: false },
+      workspaceId: { type: DataTypes.INTEGER, allowNull: false },
+      cadence: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "after_run", validate: oneOf(DIGEST_CADENCES) },
+      scope: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "all", validate: oneOf(DIGEST_SCOPES) },
+      indicatorCodes: { type: DataTypes.ARRAY(DataTypes.STRING(120)), allowNull: false, defaultValue: [] },
+      threshold: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "every_change", validate: oneOf(DIGEST_THRESHOLDS) },
+      emptyPolicy: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "skip", validate: oneOf(DIGEST_EMPTY_POLICIES) },
+      active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
+      unsubscribedAt: { type: DataTypes.DATE, allowNull: true },
+      lastDigestAt: { type: DataTypes.DATE, allowNull: true },
+      lastRunId: { type: DataTypes.INTEGER, allowNull: true },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE,
+    },
+    { ...common, tableName: "digest_subscriptions", modelName: "DigestSubscription" },
+  );
+
+  DigestDelivery.init(
+    {
+      id: { type: DataTypes.BIGINT, autoIncrement: true, primaryKey: true },
+      subscriptionId: { type: DataTypes.INTEGER, allowNull: false },
+      idempotencyKey: { type: DataTypes.STRING(200), allowNull: false, unique: true },
+      runId: { type: DataTypes.INTEGER, allowNull: true },
+      status: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "queued", validate: oneOf(DIGEST_DELIVERY_STATUSES) },
+      messageId: { type: DataTypes.STRING(400), allowNull: true },
+      attempts: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+      error: { type: DataTypes.TEXT, allowNull: true },
+      sentAt: { type: DataTypes.DATE, allowNull: true },
+      summary: { type: DataTypes.JSONB, allowNull: true },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE,
+    },
+    { ...common, tableName: "digest_deliveries", modelName: "DigestDelivery" },
+  );
+
   // Associations, all in one place.
   User.hasMany(Membership, { foreignKey: "userId", as: "memberships" });
   Membership.belongsTo(User, { foreignKey: "userId", as: "user" });
@@ -290,6 +333,10 @@ function initModels(): void {
   Panel.hasMany(PanelVersion, { foreignKey: "panelId", as: "versions" });
   PanelVersion.belongsTo(Panel, { foreignKey: "panelId", as: "panel" });
   PanelVersion.belongsTo(BoundaryVersion, { foreignKey: "boundaryVersionId", as: "boundaryVersion" });
+  DigestSubscription.belongsTo(User, { foreignKey: "userId", as: "user" });
+  DigestSubscription.belongsTo(Workspace, { foreignKey: "workspaceId", as: "workspace" });
+  DigestSubscription.hasMany(DigestDelivery, { foreignKey: "subscriptionId", as: "deliveries" });
+  DigestDelivery.belongsTo(DigestSubscription, { foreignKey: "subscriptionId", as: "subscription" });
 
   ready = true;
 }
@@ -312,9 +359,13 @@ export function models() {
     PanelVersion,
     ColumnMappingMemory,
     Upload,
+    DigestSubscription,
+    DigestDelivery,
   };
 }
 
 export { AuditEvent, Invitation, LoginAttempt, Membership, User, Workspace };
 export { BoundarySet, BoundaryVersion, ColumnMappingMemory, Indicator, Panel, PanelVersion, Region, Upload };
+export { DigestDelivery, DigestSubscription };
 export * from "./intake-types";
+export * from "./digest-types";

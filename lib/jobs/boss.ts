@@ -1,6 +1,6 @@
 import PgBoss from "pg-boss";
 import { env } from "@/lib/config/env";
-import { DEFAULT_QUEUE_SETTINGS, QUEUE_NAMES, queueSettings } from "@/lib/jobs/queues";
+import { DEFAULT_QUEUE_SETTINGS, QUEUE_NAMES, QUEUE_SCHEDULES, queueSettings } from "@/lib/jobs/queues";
 
 export type BossRole = "sender" | "worker";
 
@@ -34,6 +34,10 @@ export async function getBoss(role: BossRole = "sender"): Promise<PgBoss> {
       await boss.start();
       for (const name of QUEUE_NAMES) {
         await boss.createQueue(name, { name, ...DEFAULT_QUEUE_SETTINGS, ...queueSettings[name] });
+      }
+      // pg-boss keeps one schedule per queue name (re-registering replaces it); only workers register them.
+      if (role === "worker") {
+        for (const s of QUEUE_SCHEDULES) await boss.schedule(s.queue, s.cron, s.data, { tz: "UTC" });
       }
       state.boss = boss;
       return boss;

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { invitationEmailPayloadSchema } from "@/lib/auth/invitation-mail-schema";
+import { digestSendPayloadSchema } from "@/lib/digests/schemas";
 
 /**
  * Every queue Tessera uses, with the zod schema its payload must satisfy.
@@ -19,6 +20,13 @@ export const queueSchemas = {
   "run-piece": z.object({ runId: z.number().int().positive(), indicator: z.string().min(1).max(120) }),
   /** Validate and store one uploaded boundary or panel version (lib/intake/jobs.ts). */
   "intake-validate": z.object({ kind: z.enum(["boundaries", "panel"]), versionId: z.number().int().positive() }),
+  /** A run completed: enqueue one digest-send per after-run subscriber of its workspace (lib/digests/service.ts). */
+  "digest-run-completed": z.object({ runId: z.number().int().positive() }),
+  /** Calendar digests (pg-boss cron, see QUEUE_SCHEDULES; pg-boss 10 keys a schedule by queue name, hence one queue each). */
+  "digest-weekly": z.object({}),
+  "digest-monthly": z.object({}),
+  /** One digest to one subscriber; the idempotency key makes repeats no-ops (lib/digests/service.ts). */
+  "digest-send": digestSendPayloadSchema,
 } as const;
 
 export type QueueName = keyof typeof queueSchemas;
@@ -40,7 +48,18 @@ export const queueSettings: Partial<Record<QueueName, QueueSettings>> = {
   "run-piece": { retryLimit: 2, retryDelay: 2, retryBackoff: false, expireInSeconds: 30 * 60 },
   // A million-row panel takes well under a minute; retries only matter if a worker dies mid-ingest.
   "intake-validate": { retryLimit: 2, retryDelay: 5, expireInSeconds: 30 * 60 },
+  // SMTP refusals are retried 5 times with exponential backoff from 10 s (10, 20, 40, 80, 160 s); every attempt is recorded in digest_deliveries.
+  "digest-send": { retryLimit: 5, retryDelay: 10, retryBackoff: true, expireInSeconds: 5 * 60 },
+  "digest-run-completed": { retryLimit: 3, retryDelay: 5, retryBackoff: true, expireInSeconds: 5 * 60 },
+  "digest-weekly": { retryLimit: 3, retryDelay: 30, retryBackoff: true, expireInSeconds: 15 * 60 },
+  "digest-monthly": { retryLimit: 3, retryDelay: 30, retryBackoff: true, expireInSeconds: 15 * 60 },
 };
+
+/** Cron schedules (UTC) registered by workers (lib/jobs/boss.ts). */
+export const QUEUE_SCHEDULES: { queue: QueueName; cron: string; data: object }[] = [
+  { queue: "digest-weekly", cron: "0 7 * * 1", data: {} },
+  { queue: "digest-monthly", cron: "0 7 1 * *", data: {} },
+];
 
 export function isQueueName(name: string): name is QueueName {
   return Object.prototype.hasOwnProperty.call(queueSchemas, name);

@@ -1,0 +1,260 @@
+import { QueryTypes } from "sequelize";
+import { db } from "@/lib/db";
+import type { SignificanceClass } from "@/lib/runs/types";
+import type { DigestCadence, DigestDeliveryStatus, DigestEmptyPolicy, DigestScope, DigestThreshold } from "@/models/digest-types";
+import { LOCAL_CLUSTER_CLASSES, type DigestResultRow } from "./compose";
+import type { ChartPoint } from "./chart";
+
+export interface SubscriptionView {
+  id: number;
+  userId: number;
+  workspaceId: number;
+  cadence: DigestCadence;
+  scope: DigestScope;
+  indicatorCodes: string[];
+  threshold: DigestThreshold;
+  emptyPolicy: DigestEmptyPolicy;
+  active: boolean;
+  unsubscribedAt: string | null;
+  lastDigestAt: string | null;
+  lastRunId: number | null;
+}
+
+type SubscriptionRow = {
+  id: number;
+  user_id: number;
+  workspace_id: number;
+  cadence: DigestCadence;
+  scope: DigestScope;
+  indicator_codes: string[];
+  threshold: DigestThreshold;
+  empty_policy: DigestEmptyPolicy;
+  active: boolean;
+  unsubscribed_at: Date | null;
+  last_digest_at: Date | null;
+  last_run_id: number | null;
+};
+
+const iso = (d: Date | null) => (d ? new Date(d).toISOString() : null);
+
+function toView(r: SubscriptionRow): SubscriptionView {
+  return {
+    id: Number(r.id),
+    userId: Number(r.user_id),
+    workspaceId: Number(r.workspace_id),
+    cadence: r.cadence,
+    scope: r.scope,
+    indicatorCodes: r.indicator_codes ?? [],
+    threshold: r.threshold,
+    emptyPolicy: r.empty_policy,
+    active: r.active,
+    unsubscribedAt: iso(r.unsubscribed_at),
+    lastDigestAt: iso(r.last_digest_at),
+    lastRunId: r.last_run_id === null ? null : Number(r.last_run_id),
+  };
+}
+
+export async function getSubscriptionById(id: number): Promise<SubscriptionView | null> {
+  const rows = await db().query<SubscriptionRow>("SELECT * FROM digest_subscriptions WHERE id = $1", { bind: [id], type: QueryTypes.SELECT });
+  return rows[0] ? toView(rows[0]) : null;
+}
+
+export async function getOwnSubscription(workspaceId: number, userId: number): Promise<SubscriptionView | null> {
+  const rows = await db().query<SubscriptionRow>("SELECT * FROM digest_subscriptions WHERE workspace_id = $1 AND user_id = $2", {
+    bind: [workspaceId, userId],
+    type: QueryTypes.SELECT,
+  });
+  return rows[0] ? toView(rows[0]) : null;
+}
+
+/** Active subscriptions of a workspace with a cadence, whose holder is still a member. */
+export async function activeSubscriptions(workspaceId: number | null, cadence: DigestCadence): Promise<SubscriptionView[]> {
+  const rows = await db().query<SubscriptionRow>(
+    `SELECT s.* FROM digest_subscriptions s
+      WHERE s.active AND s.cadence = $2 AND (CAST($1 AS integer) IS NULL OR s.workspace_id = $1)
+        AND EXISTS (SELECT 1 FROM memberships m WHERE m.user_id = s.user_id AND m.workspace_id = s.workspace_id)
+      ORDER BY s.id`,
+    { bind: [workspaceId, cadence], type: QueryTypes.SELECT },
+  );
+  return rows.map(toView);
+}
+
+export interface SubscriberListing {
+  name: string;
+  email: string;
+  role: string;
+  cadence: DigestCadence;
+  scope: DigestScope;
+  indicatorCodes: string[];
+  threshold: DigestThreshold;
+  active: boolean;
+  lastDigestAt: string | null;
+}
+
+/** Who subscribes to what in a workspace (managers' view); current members only. */
+export async function workspaceSubscribers(workspaceId: number): Promise<SubscriberListing[]> {
+  const rows = await db().query<SubscriptionRow & { name: string; email: string; role: string }>(
+    `SELECT s.*, u.name, u.email, m.role FROM digest_subscriptions s
+       JOIN users u ON u.id = s.user_id
+       JOIN memberships m ON m.user_id = s.user_id AND m.workspace_id = s.workspace_id
+      WHERE s.workspace_id = $1 ORDER BY s.active DESC, u.name`,
+    { bind: [workspaceId], type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => {
+    const v = toView(r);
+    return { name: r.name, email: r.email, role: r.role, cadence: v.cadence, scope: v.scope, indicatorCodes: v.indicatorCodes, threshold: v.threshold, active: v.active, lastDigestAt: v.lastDigestAt };
+  });
+}
+
+export interface DeliveryView {
+  id: number;
+  idempotencyKey: string;
+  runId: number | null;
+  status: DigestDeliveryStatus;
+  messageId: string | null;
+  attempts: number;
+  error: string | null;
+  sentAt: string | null;
+  createdAt: string;
+  summary: Record<string, unknown> | null;
+}
+
+export async function deliveryHistory(subscriptionId: number, limit = 50): Promise<DeliveryView[]> {
+  const rows = await db().query<{
+    id: string;
+    idempotency_key: string;
+    run_id: number | null;
+    status: DigestDeliveryStatus;
+    message_id: string | null;
+    attempts: number;
+    error: string | null;
+    sent_at: Date | null;
+    created_at: Date;
+    summary: Record<string, unknown> | null;
+  }>("SELECT * FROM digest_deliveries WHERE subscription_id = $1 ORDER BY created_at DESC, id DESC LIMIT $2", { bind: [subscriptionId, limit], type: QueryTypes.SELECT });
+  return rows.map((r) => ({
+    id: Number(r.id),
+    idempotencyKey: r.idempotency_key,
+    runId: r.run_id === null ? null : Number(r.run_id),
+    status: r.status,
+    messageId: r.message_id,
+    attempts: Number(r.attempts),
+    error: r.error,
+    sentAt: iso(r.sent_at),
+    createdAt: new Date(r.created_at).toISOString(),
+    summary: r.summary,
+  }));
+}
+
+export interface RunRef {
+  id: number;
+  workspaceId: number;
+  panelVersionId: number;
+  boundaryVersionId: number;
+}
+
+type RunRow = { id: number; workspace_id: number; panel_version_id: number; boundary_version_id: number };
+const toRun = (r: RunRow): RunRef => ({ id: Number(r.id), workspaceId: Number(r.workspace_id), panelVersionId: Number(r.panel_version_id), boundaryVersionId: Number(r.boundary_version_id) });
+
+/** A completed run of the workspace (never one from another workspace), or null. */
+export async function completedRun(workspaceId: number, runId: number): Promise<RunRef | null> {
+  const rows = await db().query<RunRow>(
+    "SELECT id, workspace_id, panel_version_id, boundary_version_id FROM runs WHERE id = $1 AND workspace_id = $2 AND state = 'completed'",
+    { bind: [runId, workspaceId], type: QueryTypes.SELECT },
+  );
+  return rows[0] ? toRun(rows[0]) : null;
+}
+
+export async function latestCompletedRun(workspaceId: number): Promise<RunRef | null> {
+  const rows = await db().query<RunRow>(
+    `SELECT id, workspace_id, panel_version_id, boundary_version_id FROM runs WHERE workspace_id = $1 AND state = 'completed'
+      ORDER BY finished_at DESC NULLS LAST, id DESC LIMIT 1`,
+    { bind: [workspaceId], type: QueryTypes.SELECT },
+  );
+  return rows[0] ? toRun(rows[0]) : null;
+}
+
+/** The completed run on the same panel finished before `run` (the baseline of a first digest). */
+export async function previousRunOnPanel(run: RunRef): Promise<RunRef | null> {
+  const rows = await db().query<RunRow>(
+    `SELECT r.id, r.workspace_id, r.panel_version_id, r.boundary_version_id FROM runs r
+      WHERE r.workspace_id = $1 AND r.state = 'completed' AND r.id < $2 AND r.panel_version_id IN
+        (SELECT pv2.id FROM panel_versions pv1 JOIN panel_versions pv2 ON pv2.panel_id = pv1.panel_id WHERE pv1.id = $3)
+      ORDER BY r.id DESC LIMIT 1`,
+    { bind: [run.workspaceId, run.id, run.panelVersionId], type: QueryTypes.SELECT },
+  );
+  return rows[0] ? toRun(rows[0]) : null;
+}
+
+/** The results of a run as the digest compares them (local clusters: significant regions only). */
+export async function digestRows(runId: number): Promise<DigestResultRow[]> {
+  const rows = await db().query<{
+    indicator_code: string;
+    period_key: string;
+    period_index: number;
+    i: number | null;
+    expected_i: number | null;
+    delta_i: number | null;
+    significance: SignificanceClass | null;
+    ids: string[] | null;
+    cluster: string[] | null;
+  }>(
+    `SELECT indicator_code, period_key, period_index, i, expected_i, delta_i, significance, local->'ids' AS ids, local->'cluster' AS cluster
+       FROM run_results WHERE run_id = $1 ORDER BY indicator_code, period_index`,
+    { bind: [runId], type: QueryTypes.SELECT },
+  );
+  const significant = new Set<string>(LOCAL_CLUSTER_CLASSES);
+  return rows.map((r) => {
+    let localClusters: Record<string, string> | null = null;
+    if (r.ids && r.cluster) {
+      localClusters = {};
+      r.ids.forEach((id, k) => {
+        const c = r.cluster?.[k];
+        if (c && significant.has(c) && localClusters) localClusters[id] = c;
+      });
+    }
+    return {
+      indicator: r.indicator_code,
+      period: r.period_key,
+      periodIndex: Number(r.period_index),
+      I: r.i,
+      expectedI: r.expected_i,
+      deltaI: r.delta_i,
+      significance: r.significance,
+      localClusters,
+    };
+  });
+}
+
+export function chartPoints(rows: readonly DigestResultRow[], indicator: string): ChartPoint[] {
+  return rows.filter((r) => r.indicator === indicator).map((r) => ({ period: r.period, I: r.I, expectedI: r.expectedI, significance: r.significance }));
+}
+
+export async function regionNames(boundaryVersionId: number): Promise<Map<string, string>> {
+  const rows = await db().query<{ code: string; name: string | null }>("SELECT code, name FROM regions WHERE boundary_version_id = $1", {
+    bind: [boundaryVersionId],
+    type: QueryTypes.SELECT,
+  });
+  return new Map(rows.map((r) => [r.code, r.name ?? r.code]));
+}
+
+export async function indicatorLabels(workspaceId: number): Promise<Map<string, string>> {
+  const rows = await db().query<{ code: string; label: string }>("SELECT code, label FROM indicators WHERE workspace_id = $1", {
+    bind: [workspaceId],
+    type: QueryTypes.SELECT,
+  });
+  return new Map(rows.map((r) => [r.code, r.label]));
+}
+
+/** Indicators a subscriber can pick: those with an indicator record or analysed by a completed run. */
+export async function pickableIndicators(workspaceId: number): Promise<{ code: string; label: string }[]> {
+  const rows = await db().query<{ code: string; label: string | null }>(
+    `SELECT code, max(label) AS label FROM (
+        SELECT code, label FROM indicators WHERE workspace_id = $1
+        UNION ALL
+        SELECT DISTINCT rp.indicator_code, NULL FROM run_pieces rp JOIN runs r ON r.id = rp.run_id WHERE r.workspace_id = $1 AND r.state = 'completed'
+      ) x GROUP BY code ORDER BY code`,
+    { bind: [workspaceId], type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => ({ code: r.code, label: r.label ?? r.code }));
+}

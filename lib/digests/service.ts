@@ -1,0 +1,261 @@
+/**
+ * Digests end to end: building one for a subscription (preview and send use
+ * the same path), delivering it exactly once per idempotency key, scheduling
+ * after runs and by calendar, saving and unsubscribing.
+ */
+import { QueryTypes } from "sequelize";
+import { can, isRole } from "@/lib/auth/roles";
+import { env } from "@/lib/config/env";
+import { db } from "@/lib/db";
+import { enqueue } from "@/lib/jobs/enqueue";
+import { sendMail } from "@/lib/mail/send";
+import type { DigestCadence } from "@/models/digest-types";
+import { renderIndicatorChart } from "./chart";
+import { composeDigest, summariseDigest, type DigestContent } from "./compose";
+import {
+  chartPoints,
+  completedRun,
+  digestRows,
+  getSubscriptionById,
+  indicatorLabels,
+  latestCompletedRun,
+  previousRunOnPanel,
+  regionNames,
+  activeSubscriptions,
+  type RunRef,
+  type SubscriptionView,
+} from "./queries";
+import { renderDigest, type RenderedDigest } from "./render";
+import type { DigestSendPayload, SubscriptionInput } from "./schemas";
+import { signUnsubscribeToken } from "./token";
+
+/** At most this many charts per digest (the rest are linked). */
+const MAX_CHARTS = 6;
+
+export interface OutgoingMail {
+  to: string;
+  subject: string;
+  text: string;
+  html: string;
+  headers: Record<string, string>;
+}
+/** Sends one mail and returns its Message-ID (default: lib/mail/send over SMTP). */
+export type MailSender = (mail: OutgoingMail) => Promise<string>;
+
+export interface BuiltDigest {
+  subscription: SubscriptionView;
+  recipient: { email: string; name: string };
+  workspace: { id: number; slug: string; name: string };
+  current: RunRef | null;
+  previousRunId: number | null;
+  content: DigestContent;
+  rendered: RenderedDigest;
+  unsubscribeUrl: string;
+}
+
+async function recipientWithAccess(subscription: SubscriptionView) {
+  const rows = await db().query<{ email: string; name: string; role: string; slug: string; wname: string }>(
+    `SELECT u.email, u.name, m.role, w.slug, w.name AS wname FROM users u
+       JOIN memberships m ON m.user_id = u.id AND m.workspace_id = $2
+       JOIN workspaces w ON w.id = m.workspace_id
+      WHERE u.id = $1`,
+    { bind: [subscription.userId, subscription.workspaceId], type: QueryTypes.SELECT },
+  );
+  const row = rows[0];
+  if (!row || !isRole(row.role) || !can(row.role, "digests.subscribe")) return null;
+  return { recipient: { email: row.email, name: row.name }, workspace: { id: subscription.workspaceId, slug: row.slug, name: row.wname } };
+}
+
+export function unsubscribeUrl(subscriptionId: number): string {
+  const base = env().NEXTAUTH_URL.replace(/\/+$/, "");
+  return `${base}/api/digests/unsubscribe?token=${encodeURIComponent(signUnsubscribeToken(subscriptionId))}`;
+}
+
+/**
+ * The digest `subscription` would receive now: the given completed run (or
+ * the workspace's latest) against the run its previous digest covered (or,
+ * for a first digest, the previous completed run on the same panel).
+ * Returns null when the holder is no longer a member of the workspace —
+ * nothing from a workspace they cannot see is ever read.
+ */
+export async function buildDigest(subscription: SubscriptionView, options: { runId?: number | null; coverage?: string } = {}): Promise<BuiltDigest | null> {
+  const access = await recipientWithAccess(subscription);
+  if (!access) return null;
+  const workspaceId = subscription.workspaceId;
+  const current = options.runId ? await completedRun(workspaceId, options.runId) : await latestCompletedRun(workspaceId);
+  let previous: RunRef | null = null;
+  if (current) {
+    const watermark = subscription.lastRunId !== null ? await completedRun(workspaceId, subscription.lastRunId) : null;
+    previous = watermark ?? (await previousRunOnPanel(current));
+  }
+  const currentRows = current ? await digestRows(current.id) : [];
+  const sameAsBefore = current !== null && previous !== null && previous.id === current.id;
+  const previousRows = previous && !sameAsBefore ? await digestRows(previous.id) : currentRows;
+  const names = current ? await regionNames(current.boundaryVersionId) : new Map<string, string>();
+  const content = composeDigest(previousRows, currentRows, subscription, (code) => names.get(code) ?? code);
+  const labels = await indicatorLabels(workspaceId);
+  const charts = new Map<string, string>();
+  for (const code of content.indicators.slice(0, MAX_CHARTS)) {
+    charts.set(code, renderIndicatorChart(`${labels.get(code) ?? code}: Moran's I by period`, chartPoints(currentRows, code)));
+  }
+  const link = unsubscribeUrl(subscription.id);
+  const rendered = renderDigest({
+    content,
+    workspace: access.workspace,
+    recipientName: access.recipient.name,
+    coverage: options.coverage ?? (current ? `results of run ${current.id}` : "no completed run yet"),
+    runId: current?.id ?? null,
+    indicatorLabels: labels,
+    charts,
+    baseUrl: env().NEXTAUTH_URL,
+    unsubscribeUrl: link,
+  });
+  return { subscription, ...access, current, previousRunId: previous?.id ?? null, content, rendered, unsubscribeUrl: link };
+}
+
+export type DeliveryOutcome = "sent" | "skipped" | "duplicate";
+
+const defaultSender: MailSender = (mail) => sendMail(mail);
+
+async function finish(id: number, status: "sent" | "skipped" | "failed", fields: { messageId?: string; error?: string | null; summary?: object }) {
+  await db().query(
+    `UPDATE digest_deliveries SET status = $2, message_id = COALESCE($3, message_id), error = $4, summary = COALESCE(CAST($5 AS jsonb), summary),
+            sent_at = CASE WHEN $2 = 'sent' THEN now() ELSE sent_at END, updated_at = now() WHERE id = $1`,
+    { bind: [id, status, fields.messageId ?? null, fields.error ?? null, fields.summary ? JSON.stringify(fields.summary) : null] },
+  );
+}
+
+async function advanceWatermark(subscriptionId: number, runId: number | null) {
+  await db().query("UPDATE digest_subscriptions SET last_digest_at = now(), last_run_id = COALESCE($2, last_run_id), updated_at = now() WHERE id = $1", {
+    bind: [subscriptionId, runId],
+  });
+}
+
+/**
+ * The digest-send job. Inserts the delivery row with its unique key first and
+ * claims it; a row that is already sent, skipped or being sent makes this a
+ * no-op ("duplicate"), so a retried or repeated job never sends twice. A
+ * failed send is recorded (status failed, attempts, error) and rethrown so
+ * pg-boss retries it with backoff.
+ */
+export async function deliverDigest(payload: DigestSendPayload, options: { send?: MailSender; log?: (m: string) => void } = {}): Promise<DeliveryOutcome> {
+  const log = options.log ?? (() => undefined);
+  const send = options.send ?? defaultSender;
+  await db().query(
+    `INSERT INTO digest_deliveries (subscription_id, idempotency_key, run_id, status, attempts, created_at, updated_at)
+     SELECT $1, $2, $3, 'queued', 0, now(), now() WHERE EXISTS (SELECT 1 FROM digest_subscriptions WHERE id = $1)
+     ON CONFLICT (idempotency_key) DO NOTHING`,
+    { bind: [payload.subscriptionId, payload.idempotencyKey, payload.runId] },
+  );
+  // A "sending" row older than 15 minutes belongs to a worker that died mid-send.
+  const claimed = await db().query<{ id: string; attempts: number }>(
+    `UPDATE digest_deliveries SET status = 'sending', attempts = attempts + 1, updated_at = now()
+      WHERE idempotency_key = $1 AND subscription_id = $2
+        AND (status IN ('queued','failed') OR (status = 'sending' AND updated_at < now() - interval '15 minutes'))
+      RETURNING id, attempts`,
+    { bind: [payload.idempotencyKey, payload.subscriptionId], type: QueryTypes.SELECT },
+  );
+  if (!claimed[0]) {
+    log(`digest ${payload.idempotencyKey}: already delivered, skipped or in progress; nothing sent`);
+    return "duplicate";
+  }
+  const deliveryId = Number(claimed[0].id);
+  const subscription = await getSubscriptionById(payload.subscriptionId);
+  if (!subscription || !subscription.active) {
+    await finish(deliveryId, "skipped", { error: "The subscription was cancelled (unsubscribed) before sending." });
+    return "skipped";
+  }
+  const built = await buildDigest(subscription, { runId: payload.runId, coverage: payload.coverage });
+  if (!built) {
+    await finish(deliveryId, "skipped", { error: "The subscriber is no longer a member of the workspace." });
+    log(`digest ${payload.idempotencyKey}: user ${subscription.userId} is no longer a member of workspace ${subscription.workspaceId}; skipped`);
+    return "skipped";
+  }
+  const summary = { ...summariseDigest(built.content), runId: built.current?.id ?? null, previousRunId: built.previousRunId, subject: built.rendered.subject };
+  if (built.content.empty && subscription.emptyPolicy === "skip") {
+    await finish(deliveryId, "skipped", { error: "Nothing changed, and the subscriber chose to skip empty digests.", summary });
+    await advanceWatermark(subscription.id, built.current?.id ?? null);
+    return "skipped";
+  }
+  try {
+    const messageId = await send({
+      to: built.recipient.email,
+      subject: built.rendered.subject,
+      text: built.rendered.text,
+      html: built.rendered.html,
+      headers: {
+        "List-Unsubscribe": `<${built.unsubscribeUrl}>`,
+        "List-Unsubscribe-Post": "List-Unsubscribe=One-Click",
+        "X-Tessera-Digest": payload.idempotencyKey,
+      },
+    });
+    await finish(deliveryId, "sent", { messageId, error: null, summary });
+    await advanceWatermark(subscription.id, built.current?.id ?? null);
+    log(`digest ${payload.idempotencyKey}: sent ${messageId} to ${built.recipient.email}`);
+    return "sent";
+  } catch (error) {
+    const reason = error instanceof Error ? error.message : String(error);
+    await finish(deliveryId, "failed", { error: `Attempt ${claimed[0].attempts} failed: ${reason}`, summary });
+    throw new Error(`digest ${payload.idempotencyKey} for subscription ${payload.subscriptionId}: ${reason}`);
+  }
+}
+
+/** ISO 8601 week key, e.g. "2026-W49". */
+export function isoWeekKey(date: Date): string {
+  const d = new Date(Date.UTC(date.getUTCFullYear(), date.getUTCMonth(), date.getUTCDate()));
+  const day = d.getUTCDay() || 7;
+  d.setUTCDate(d.getUTCDate() + 4 - day);
+  const yearStart = Date.UTC(d.getUTCFullYear(), 0, 1);
+  const week = Math.ceil(((d.getTime() - yearStart) / 86_400_000 + 1) / 7);
+  return `${d.getUTCFullYear()}-W${String(week).padStart(2, "0")}`;
+}
+
+export function monthKey(date: Date): string {
+  return `${date.getUTCFullYear()}-${String(date.getUTCMonth() + 1).padStart(2, "0")}`;
+}
+
+/** After a run completes: one digest-send job per after-run subscriber of its workspace. Returns how many were enqueued. */
+export async function scheduleDigestsForRun(runId: number): Promise<number> {
+  const rows = await db().query<{ workspace_id: number }>("SELECT workspace_id FROM runs WHERE id = $1 AND state = 'completed'", { bind: [runId], type: QueryTypes.SELECT });
+  if (!rows[0]) return 0;
+  const subscriptions = await activeSubscriptions(Number(rows[0].workspace_id), "after_run");
+  for (const s of subscriptions) {
+    await enqueue("digest-send", { subscriptionId: s.id, idempotencyKey: `sub-${s.id}:run-${runId}`, runId, coverage: `results of run ${runId}` });
+  }
+  return subscriptions.length;
+}
+
+/** Weekly or monthly: one digest-send job per subscriber with that cadence (all workspaces). */
+export async function scheduleDigestsForCadence(cadence: Exclude<DigestCadence, "after_run">, now = new Date()): Promise<number> {
+  const period = cadence === "weekly" ? isoWeekKey(now) : monthKey(now);
+  const subscriptions = await activeSubscriptions(null, cadence);
+  for (const s of subscriptions) {
+    await enqueue("digest-send", { subscriptionId: s.id, idempotencyKey: `sub-${s.id}:${cadence}-${period}`, runId: null, coverage: `${cadence === "weekly" ? "week" : "month"} ${period}` });
+  }
+  return subscriptions.length;
+}
+
+/** Creates or updates the member's own subscription (re-subscribing clears unsubscribed_at). */
+export async function saveSubscription(workspaceId: number, userId: number, input: SubscriptionInput): Promise<number> {
+  const codes = input.scope === "chosen" ? [...new Set(input.indicatorCodes)].sort() : [];
+  const rows = await db().query<{ id: number }>(
+    `INSERT INTO digest_subscriptions (user_id, workspace_id, cadence, scope, indicator_codes, threshold, empty_policy, active, unsubscribed_at, created_at, updated_at)
+     VALUES ($1, $2, $3, $4, $5, $6, $7, $8, CASE WHEN $8 THEN NULL ELSE now() END, now(), now())
+     ON CONFLICT (user_id, workspace_id) DO UPDATE SET cadence = EXCLUDED.cadence, scope = EXCLUDED.scope, indicator_codes = EXCLUDED.indicator_codes,
+        threshold = EXCLUDED.threshold, empty_policy = EXCLUDED.empty_policy, active = EXCLUDED.active,
+        unsubscribed_at = CASE WHEN EXCLUDED.active THEN NULL ELSE COALESCE(digest_subscriptions.unsubscribed_at, now()) END, updated_at = now()
+     RETURNING id`,
+    { bind: [userId, workspaceId, input.cadence, input.scope, codes, input.threshold, input.emptyPolicy, input.active], type: QueryTypes.SELECT },
+  );
+  return Number(rows[0].id);
+}
+
+/** Turns a subscription off (the unsubscribe link). Returns false when there is no such subscription. */
+export async function unsubscribe(subscriptionId: number): Promise<{ found: boolean; workspaceName: string | null }> {
+  const rows = await db().query<{ name: string }>(
+    `UPDATE digest_subscriptions s SET active = false, unsubscribed_at = COALESCE(s.unsubscribed_at, now()), updated_at = now()
+       FROM workspaces w WHERE s.id = $1 AND w.id = s.workspace_id RETURNING w.name`,
+    { bind: [subscriptionId], type: QueryTypes.SELECT },
+  );
+  return { found: rows.length > 0, workspaceName: rows[0]?.name ?? null };
+}
