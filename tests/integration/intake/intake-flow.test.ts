@@ -205,6 +205,24 @@ describe("intake: boundaries and panels from upload to publication", () => {
     expect((await postPublish(jsonRequest("POST"), ctx({ slug, kind: "panel", versionId: String(version.id) }))).status).toBe(409);
   });
 
+  it.each([
+    ["a header only", Buffer.from("region,period,indicator,value\n"), /no data rows|header only|no rows/i],
+    ["UTF-16 text", Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from("region,period,indicator,value\nG1,2019,x,1\n", "utf16le")]), /UTF-16/],
+  ])("rejects %s with a sentence saying why, storing nothing", async (_label, bytes, message) => {
+    as("steward");
+    const up = await upload("panel", `odd-${Date.now()}.csv`, bytes);
+    expect(up.complete?.state).toBe("received");
+    const mapping = { layout: "long", region: "region", period: "period", indicator: "indicator", value: "value" };
+    const created = await postPanels(jsonRequest("POST", { uploadId: up.ticket.uploadId, panelId, decimal: ".", mapping, remember: false }), ctx({ slug }));
+    const version = (await created.json()) as { id: number };
+    expect(await settled("panel", version.id)).toBe("rejected");
+    expect(await observationCount(version.id)).toBe(0);
+    const detail = (await (await getVersion(new Request("http://tessera.test"), ctx({ slug, kind: "panel", versionId: String(version.id) }))).json()) as {
+      report: { errors: { message: string }[] };
+    };
+    expect(detail.report.errors.map((e) => e.message).join(" ")).toMatch(message);
+  });
+
   it("accepts semicolons with decimal commas when the steward says so", async () => {
     as("steward");
     const csv = "region;period;indicator;value\n" + Array.from({ length: 9 }, (_, i) => `G${i + 1};2019;jobless_rate;${i + 1},5`).join("\n") + "\n";
