@@ -1,6 +1,8 @@
 import type { Metadata } from "next";
+import { DigestsScreen } from "@/components/digests/digests-screen";
+import { Cautions } from "@/components/ui/cautions";
 import { Forbidden } from "@/components/ui/forbidden";
-import { LaterRelease } from "@/components/ui/later-release";
+import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
 
@@ -11,13 +13,13 @@ export default async function DigestsPage({ params }: { params: Promise<{ slug: 
   const access = await guardPage(`/w/${slug}/digests`, () => requireMember(slug, "digests.subscribe"));
   if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
   return (
-    <LaterRelease
-      title="Digests"
-      purpose="Choose which indicators you follow and receive an e-mail digest when their clustering moves significantly."
-      features={[
-          "Your subscriptions, per indicator.",
-          "A preview of the next digest before it is sent.",
-      ]}
-    />
+    <div>
+      <PageHeader title="Digests" eyebrow="Subscriptions">
+        An e-mail when the clustering of indicators you follow becomes significant, flips, or moves a lot — with a small chart per
+        indicator and links back here.
+      </PageHeader>
+      <DigestsScreen slug={access.value.workspace.slug} />
+      <Cautions className="mt-8" items={["causation", "multiple", "maup"]} />
+    </div>
   );
 }

@@ -1,0 +1,13 @@
+import { jsonError, memberRoute } from "@/lib/auth/route";
+import { enqueue } from "@/lib/jobs/enqueue";
+import { getOwnSubscription } from "@/lib/digests/queries";
+
+/** Sends the member their own digest now, through the same job as scheduled ones (one delivery per request). */
+export const POST = memberRoute({ capability: "digests.subscribe" }, async ({ member }) => {
+  const subscription = await getOwnSubscription(member.workspace.id, member.user.id);
+  if (!subscription || !subscription.active) return jsonError(409, "Subscribe first (and keep the subscription active) to receive a digest.");
+  const stamp = new Date().toISOString();
+  const idempotencyKey = `sub-${subscription.id}:manual-${stamp}`;
+  await enqueue("digest-send", { subscriptionId: subscription.id, idempotencyKey, runId: null, coverage: `requested ${stamp.slice(0, 16).replace("T", " ")} UTC` });
+  return Response.json({ idempotencyKey }, { status: 202 });
+});
