@@ -19,6 +19,7 @@ import { LoginAttempt } from "./login-attempt";
 import { Membership } from "./membership";
 import { User } from "./user";
 import { Workspace } from "./workspace";
+import { Run, RunPiece, RunResult, initRunModels } from "./run";
 
 // Columns mirror migrations/20261201000200-* onward; the schema itself is only
 // ever changed there (never sync()). A module-level flag rather than a global:
@@ -338,6 +339,8 @@ function initModels(): void {
   DigestSubscription.hasMany(DigestDelivery, { foreignKey: "subscriptionId", as: "deliveries" });
   DigestDelivery.belongsTo(DigestSubscription, { foreignKey: "subscriptionId", as: "subscription" });
 
+  initRunModels(sequelize);
+
   ready = true;
 }
 
@@ -361,11 +364,15 @@ export function models() {
     Upload,
     DigestSubscription,
     DigestDelivery,
+    Run,
+    RunPiece,
+    RunResult,
   };
 }
 
 export { AuditEvent, Invitation, LoginAttempt, Membership, User, Workspace };
 export { BoundarySet, BoundaryVersion, ColumnMappingMemory, Indicator, Panel, PanelVersion, Region, Upload };
 export { DigestDelivery, DigestSubscription };
+export { Run, RunPiece, RunResult };
 export * from "./intake-types";
 export * from "./digest-types";
