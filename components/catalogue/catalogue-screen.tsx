@@ -188,6 +188,7 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
           defaultColDef={{ sortable: true, resizable: true, suppressHeaderMenuButton: true }}
           getRowId={(p) => `${p.data.runId}|${p.data.indicator}|${p.data.period}`}
           tooltipShowDelay={300}
+          suppressColumnVirtualisation
           overlayNoRowsTemplate="No indicator-period matches these filters."
         />
       </div>

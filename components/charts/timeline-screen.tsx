@@ -81,8 +81,8 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
   const periods = pts.map((p) => p.period);
   const significant = pts.map((p) => (p.significance === "clustering" || p.significance === "dispersion" ? p.I : null));
   const option: EChartsOption = {
-    grid: { left: 64, right: 24, top: 40, bottom: 48 },
-    legend: { top: 0, right: 0, data: ["Moran's I", "E[I]", "95 % band under the null", "Significant after correction"], textStyle: { color: INK } },
+    grid: { left: 64, right: 24, top: 44, bottom: 48 },
+    legend: { top: 0, left: "center", itemGap: 18, data: ["Moran's I", "E[I]", "95 % band under the null", "Significant after correction"], textStyle: { color: INK } },
     tooltip: {
       trigger: "axis",
       valueFormatter: (v) => (typeof v === "number" ? v.toFixed(3) : String(v ?? "—")),
@@ -90,12 +90,14 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
     xAxis: { type: "category", data: periods, name: "Period (year)", nameLocation: "middle", nameGap: 30, axisLine: { lineStyle: { color: MUTED } }, axisLabel: { color: INK } },
     yAxis: { type: "value", name: "Moran's I (unitless)", nameLocation: "middle", nameGap: 48, axisLabel: { color: INK }, splitLine: { lineStyle: { color: "#eef1f6" } } },
     series: [
-      { name: "band-low", type: "line", data: pts.map((p) => p.bandLow), stack: "band", lineStyle: { opacity: 0 }, symbol: "none", tooltip: { show: false } },
+      // The band is drawn as its lower edge plus its width, stacked ("all": also across signs, since the lower edge is negative).
+      { name: "band-low", type: "line", data: pts.map((p) => p.bandLow), stack: "band", stackStrategy: "all", lineStyle: { opacity: 0 }, symbol: "none", tooltip: { show: false } },
       {
         name: "95 % band under the null",
         type: "line",
         data: pts.map((p) => (p.bandHigh !== null && p.bandLow !== null ? p.bandHigh - p.bandLow : null)),
         stack: "band",
+        stackStrategy: "all",
         lineStyle: { opacity: 0 },
         areaStyle: { color: "rgba(148,161,189,0.28)" },
         symbol: "none",
@@ -167,11 +169,12 @@ function RobustnessStrip({ slug, indicator, run, period, periods, onPeriod }: { 
     yAxis: { type: "category", data: entries.map((e) => e.rule), inverse: true, axisLabel: { color: INK }, name: "Weights rule", nameLocation: "middle", nameGap: 90 },
     xAxis: { type: "value", name: "Moran's I (unitless)", nameLocation: "middle", nameGap: 28, axisLabel: { color: INK }, splitLine: { lineStyle: { color: "#eef1f6" } } },
     series: [
-      { name: "band-low", type: "bar", stack: "b", data: entries.map((e) => e.bandLow), itemStyle: { color: "transparent" }, barWidth: 12, tooltip: { show: false } },
+      { name: "band-low", type: "bar", stack: "b", stackStrategy: "all", data: entries.map((e) => e.bandLow), itemStyle: { color: "transparent" }, barWidth: 12, tooltip: { show: false } },
       {
         name: "95 % null band",
         type: "bar",
         stack: "b",
+        stackStrategy: "all",
         data: entries.map((e) => (e.bandHigh !== null && e.bandLow !== null ? e.bandHigh - e.bandLow : null)),
         itemStyle: { color: "rgba(148,161,189,0.35)" },
         barWidth: 12,

@@ -346,7 +346,7 @@ function ScatterPanel({ map, active, onSelect, testId }: { map: MapPeriod; activ
     );
   }
   const xs = local.standardised;
-  const extent = Math.max(2, ...xs.map(Math.abs), ...local.lag.map(Math.abs)) * 1.05;
+  const extent = Math.ceil(Math.max(2, ...xs.map(Math.abs), ...local.lag.map(Math.abs)) * 1.05);
   const points = local.ids.map((id, i) => ({
     value: [xs[i], local.lag[i]],
     name: id,

@@ -5,7 +5,8 @@ import type { SignificanceClass } from "@/lib/runs/types";
 
 export function fmt(value: number | null | undefined, digits = 3): string {
   if (value === null || value === undefined || !Number.isFinite(value)) return "—";
-  return value.toFixed(digits);
+  const text = value.toFixed(digits);
+  return /^-0\.?0*$/.test(text) ? text.slice(1) : text.replace("-", "−");
 }
 
 export function fmtP(value: number | null | undefined): string {

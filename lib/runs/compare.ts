@@ -22,7 +22,7 @@ import type { LocalFields } from "./types";
 export interface PeriodComparison {
   earlier: string;
   later: string;
-  /** n regions with a value in both periods. */
+  /** n regions with a value in both periods (after the island policy when the paired test ran). */
   n: number;
   change: {
     /** Always later − earlier: a positive value is a rise. */
@@ -92,6 +92,7 @@ export function comparePeriods(
   let pairedChange: PeriodComparison["pairedChange"] = null;
   try {
     const test = pairedMoranChangeTest(geometry.baseWeights, earlier, later, options);
+    n = test.n; // after the island policy, as in every other statistic here
     pairedChange = { earlierI: test.earlierI, laterI: test.laterI, difference: test.change, pseudoP: test.permutation?.pTwoSided ?? null, note: null };
   } catch (error) {
     pairedChange = { earlierI: NaN, laterI: NaN, difference: NaN, pseudoP: null, note: `The paired test could not be computed: ${messageOf(error)}` };

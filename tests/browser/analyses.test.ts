@@ -74,16 +74,21 @@ it("an economist runs the demo panel, filters the catalogue, opens the unemploym
   // Catalogue of that run, filtered to significant clustering; the filter lives in the URL.
   await page.goto(`/w/${slug}/catalogue?run=${runId}`);
   await page.locator(".ag-row").first().waitFor();
+  const filtered = page.waitForResponse((r) => r.url().includes("/catalogue?") && r.url().includes("class=clustering"));
   await page.getByRole("button", { name: /^Clustering/ }).click();
   await page.waitForURL(/class=clustering/);
-  await page.waitForFunction(() => !document.querySelector('[data-testid="catalogue-count"]')?.textContent?.startsWith("34 "));
-  const classes = await page.locator('.ag-center-cols-container [col-id="significance"]').allInnerTexts();
+  await filtered;
+  await page.waitForFunction(() => /^\d+ indicator-period/.test(document.querySelector('[data-testid="catalogue-count"]')?.textContent ?? ""));
+  await screenshot(page, "analyses-03-catalogue-clustering");
+  const classes = await page.locator('.ag-row [role="gridcell"][col-id="significance"]').allInnerTexts();
   expect(classes.length).toBeGreaterThan(0);
   expect(new Set(classes.map((c) => c.trim()))).toEqual(new Set(["Clustering"]));
-  await screenshot(page, "analyses-03-catalogue-clustering");
 
-  // The unemployment timeline from the grid.
-  await page.locator(".ag-pinned-left-cols-container a", { hasText: "Unemployment rate" }).first().click();
+  // Narrow to unemployment by text (kept in the URL too), then open its timeline from the grid.
+  await page.getByLabel("Indicator").fill("unemployment");
+  await page.getByLabel("Indicator").press("Enter");
+  await page.waitForURL(/q=unemployment/);
+  await page.locator(".ag-row a", { hasText: /^Unemployment rate$/ }).first().click();
   await page.waitForURL(/\/timeline\?indicator=unemployment_rate/);
   await page.locator('[data-testid="timeline-moran"] svg').waitFor();
   await page.locator('[data-testid="timeline-robustness"] svg').waitFor({ timeout: 60_000 });

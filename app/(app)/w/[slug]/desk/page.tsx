@@ -56,6 +56,8 @@ export default async function DeskPage({ params }: { params: Promise<{ slug: str
             </div>
           </dl>
 
+          <DeskPanel slug={workspace.slug} />
+
           <section className="rounded-lg border border-ink-100 bg-white p-6 shadow-sm">
             <h2 className="text-base font-semibold text-ink">What Tessera does</h2>
             <div className="mt-3 space-y-3 text-sm leading-relaxed text-ink-600">
@@ -72,10 +74,9 @@ export default async function DeskPage({ params }: { params: Promise<{ slug: str
             </div>
           </section>
 
-          <DeskPanel slug={workspace.slug} />
         </div>
 
-        <Cautions />
+        <Cautions className="h-fit" />
       </div>
     </div>
   );
