@@ -5,6 +5,7 @@
  * retried piece replaces the rows of its earlier attempt (store.ts).
  */
 import { loadBoundaryTopology, loadPanelMatrix } from "@/lib/intake/queries";
+import { enqueue } from "@/lib/jobs/enqueue";
 import { buildRunGeometry, computePeriod, messageOf, withChanges, type RunGeometry } from "./compute";
 import type { ResolvedRunParams } from "./schemas";
 import { completePiece, failPiece, recordPieceProgress, startPiece } from "./store";
@@ -76,6 +77,10 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
     const outcome = await completePiece(runId, indicator, periodIndexOf, withChanges(rows));
     if (outcome.skipped) return "cancelled";
     log(`run ${runId} piece "${indicator}": ${rows.length} period(s) stored${outcome.completedRun ? "; run completed" : ""}`);
+    if (outcome.completedRun) {
+      // Digests decide whether anyone is told (lib/digests); a failure to queue must not fail the stored run.
+      await enqueue("digest-run-completed", { runId }).catch((e: unknown) => log(`run ${runId}: could not queue digest-run-completed: ${messageOf(e)}`));
+    }
     return outcome.completedRun ? "completed-run" : "completed-piece";
   } catch (error) {
     const message = messageOf(error);

@@ -13,6 +13,7 @@ import { QueryTypes } from "sequelize";
 import demo from "../../seeders/demo-accounts.json";
 import { db } from "@/lib/db";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
+import { stopBoss } from "@/lib/jobs/boss";
 import { publishedPanelVersions } from "@/lib/intake/queries";
 import { runParamsInputSchema } from "@/lib/runs/schemas";
 import { resolveRunParams } from "@/lib/runs/service";
@@ -68,6 +69,7 @@ main()
     process.exitCode = 1;
   })
   .finally(async () => {
+    await stopBoss(5_000).catch(() => undefined);
     await closeIntakePool().catch(() => undefined);
     closeS3();
     await db().close().catch(() => undefined);
