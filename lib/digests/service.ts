@@ -89,8 +89,8 @@ export async function buildDigest(subscription: SubscriptionView, options: { run
     previous = watermark ?? (await previousRunOnPanel(current));
   }
   const currentRows = current ? await digestRows(current.id) : [];
-  const sameAsBefore = current !== null && previous !== null && previous.id === current.id;
-  const previousRows = previous && !sameAsBefore ? await digestRows(previous.id) : currentRows;
+  // No baseline at all: everything significant is news. The same run as last time: nothing is.
+  const previousRows = previous === null ? [] : previous.id === current?.id ? currentRows : await digestRows(previous.id);
   const names = current ? await regionNames(current.boundaryVersionId) : new Map<string, string>();
   const content = composeDigest(previousRows, currentRows, subscription, (code) => names.get(code) ?? code);
   const labels = await indicatorLabels(workspaceId);
@@ -119,14 +119,15 @@ const defaultSender: MailSender = (mail) => sendMail(mail);
 
 async function finish(id: number, status: "sent" | "skipped" | "failed", fields: { messageId?: string; error?: string | null; summary?: object }) {
   await db().query(
-    `UPDATE digest_deliveries SET status = $2, message_id = COALESCE($3, message_id), error = $4, summary = COALESCE(CAST($5 AS jsonb), summary),
-            sent_at = CASE WHEN $2 = 'sent' THEN now() ELSE sent_at END, updated_at = now() WHERE id = $1`,
+    `UPDATE digest_deliveries SET status = CAST($2 AS varchar), message_id = COALESCE(CAST($3 AS varchar), message_id), error = CAST($4 AS text),
+            summary = COALESCE(CAST($5 AS jsonb), summary), sent_at = CASE WHEN CAST($2 AS varchar) = 'sent' THEN now() ELSE sent_at END, updated_at = now()
+      WHERE id = $1`,
     { bind: [id, status, fields.messageId ?? null, fields.error ?? null, fields.summary ? JSON.stringify(fields.summary) : null] },
   );
 }
 
 async function advanceWatermark(subscriptionId: number, runId: number | null) {
-  await db().query("UPDATE digest_subscriptions SET last_digest_at = now(), last_run_id = COALESCE($2, last_run_id), updated_at = now() WHERE id = $1", {
+  await db().query("UPDATE digest_subscriptions SET last_digest_at = now(), last_run_id = COALESCE(CAST($2 AS integer), last_run_id), updated_at = now() WHERE id = $1", {
     bind: [subscriptionId, runId],
   });
 }
@@ -143,7 +144,7 @@ export async function deliverDigest(payload: DigestSendPayload, options: { send?
   const send = options.send ?? defaultSender;
   await db().query(
     `INSERT INTO digest_deliveries (subscription_id, idempotency_key, run_id, status, attempts, created_at, updated_at)
-     SELECT $1, $2, $3, 'queued', 0, now(), now() WHERE EXISTS (SELECT 1 FROM digest_subscriptions WHERE id = $1)
+     SELECT $1, CAST($2 AS varchar), CAST($3 AS integer), 'queued', 0, now(), now() WHERE EXISTS (SELECT 1 FROM digest_subscriptions WHERE id = $1)
      ON CONFLICT (idempotency_key) DO NOTHING`,
     { bind: [payload.subscriptionId, payload.idempotencyKey, payload.runId] },
   );
