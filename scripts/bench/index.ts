@@ -1,19 +1,64 @@
 /**
- * Benchmark entry point: `npm run -s bench` prints human-readable lines;
- * `npm run -s bench -- --json` prints `{ results: [...] }` with one object per
- * case. Add further benchmarks by pushing their results below.
+ * Benchmark entry point.
+ *
+ *   npm run -s bench                      engine, intake validation, run compute (no services needed)
+ *   npm run -s bench -- --json            the same as one JSON object: engine cases in `results`
+ *                                         ({case, grid, n, links, permutations, ms}), the others under `suites`
+ *   npm run -s bench -- --only engine     one suite (engine | intake | runs | intake-ingest | runs-db)
+ *   npm run -s bench -- --services        also the suites that need PostgreSQL and S3 (ingest, runs end to end,
+ *                                         catalogue p95); start them first with `npm run services:test` and
+ *                                         export the environment it prints.
+ *   npm run -s bench -- --no-r            skip the spdep reference timing
+ *
+ * Figures are wall clock on whatever else the machine is doing; CPU time is printed
+ * beside them by the engine suite. Never run these inside the test suite.
  */
+import { spawnSync } from "node:child_process";
+import path from "node:path";
 import { runEngineBench, timeSpdep, type EngineBenchResult } from "./engine";
 
-const json = process.argv.includes("--json");
-const skipR = process.argv.includes("--no-r");
+const argv = process.argv.slice(2);
+const json = argv.includes("--json");
+const skipR = argv.includes("--no-r");
+const withServices = argv.includes("--services");
+const onlyIndex = argv.indexOf("--only");
+const only = onlyIndex >= 0 ? argv[onlyIndex + 1] : undefined;
+const SUITES = ["engine", "intake", "runs", "intake-ingest", "runs-db"] as const;
+type Suite = (typeof SUITES)[number];
+if (only !== undefined && !SUITES.includes(only as Suite)) {
+  process.stderr.write(`bench: unknown suite '${only}'; choose one of ${SUITES.join(", ")}\n`);
+  process.exit(2);
+}
+const wanted = (suite: Suite): boolean =>
+  only ? only === suite : suite === "intake-ingest" || suite === "runs-db" ? withServices : true;
 const log = json ? () => undefined : (line: string) => console.log(line);
 
-const results: EngineBenchResult[] = runEngineBench({ log });
+// Suites other than the engine run as child processes: each measures its own
+// peak memory, and a crash in one does not take the others with it.
+function child(script: string, args: string[]): unknown {
+  const tsx = path.join(process.cwd(), "node_modules", ".bin", "tsx");
+  const result = spawnSync(tsx, [path.join("scripts", "bench", script), ...args], {
+    encoding: "utf8",
+    stdio: ["ignore", "pipe", json ? "pipe" : "inherit"],
+    maxBuffer: 64 * 1024 * 1024,
+  });
+  if (result.status !== 0) return { error: `${script} exited with ${result.status}`, stderr: result.stderr?.slice(-2000) };
+  if (!json) {
+    process.stdout.write(result.stdout);
+    return null;
+  }
+  const lastLine = result.stdout.trim().split("\n").pop() ?? "";
+  try {
+    return JSON.parse(lastLine);
+  } catch {
+    return { error: `${script} printed no JSON`, output: result.stdout.slice(-2000) };
+  }
+}
 
-if (json) {
-  console.log(JSON.stringify({ results }));
-} else if (!skipR) {
+const results: EngineBenchResult[] = wanted("engine") ? runEngineBench({ log }) : [];
+const suites: Record<string, unknown> = {};
+
+if (wanted("engine") && !json && !skipR) {
   const reference = timeSpdep(100, 999);
   if (reference === null) {
     console.log("R with spdep not available: no reference timing.");
@@ -29,3 +74,23 @@ if (json) {
     );
   }
 }
+
+const jsonFlag = json ? ["--json"] : [];
+if (wanted("intake")) {
+  log("\n# intake: 1,000,000 panel rows streamed through validation");
+  suites.intake = child("intake.ts", jsonFlag);
+}
+if (wanted("runs") && !wanted("runs-db")) {
+  log("\n# runs: demo panel compute and the large synthetic global run (no database)");
+  suites.runs = child("runs.ts", [...jsonFlag, "--skip-db"]);
+}
+if (wanted("runs-db")) {
+  log("\n# runs: compute, demo run end to end through the queue, catalogue p95 over 10,000 rows");
+  suites.runs = child("runs.ts", jsonFlag);
+}
+if (wanted("intake-ingest")) {
+  log("\n# intake: 1,000,000 rows validated and COPY-ingested in one transaction");
+  suites.intakeIngest = child("intake-ingest.ts", jsonFlag);
+}
+
+if (json) console.log(JSON.stringify({ results, suites }));
