@@ -3,7 +3,6 @@ import { sendInvitationEmail } from "@/lib/auth/invitation-mail";
 import { runPiece } from "@/lib/runs/worker";
 import { runIntakeValidation } from "@/lib/intake/jobs";
 import { deliverDigest, scheduleDigestsForCadence, scheduleDigestsForRun } from "@/lib/digests/service";
-import { enqueue } from "@/lib/jobs/enqueue";
 import type { JobPayload, QueueName } from "@/lib/jobs/queues";
 
 export type JobContext = { id: string; queue: QueueName; log: (message: string) => void };
@@ -26,8 +25,6 @@ export const handlers: { [Q in QueueName]: JobHandler<Q> } = {
   "run-piece": async (payload, context) => {
     const outcome = await runPiece(payload.runId, payload.indicator, context.log);
     context.log(`run ${payload.runId} "${payload.indicator}": ${outcome}`);
-    // The piece that completes the run hands over to digests (one job per run; the digest-send keys dedupe repeats).
-    if (outcome === "completed-run") await enqueue("digest-run-completed", { runId: payload.runId }, { singletonKey: `digests-run-${payload.runId}` });
   },
   "intake-validate": async (payload, context) => {
     await runIntakeValidation(payload, context.log);
