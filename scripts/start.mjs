@@ -16,7 +16,7 @@ import { randomBytes } from "node:crypto";
 import fs from "node:fs";
 import path from "node:path";
 import { stopStalePostgres } from "./services/postgres.mjs";
-import { localServices, migrateAndSeed, startNext, startServices, startWorker } from "./services/stack.mjs";
+import { localServices, migrateAndSeed, seedDemoData, startNext, startServices, startWorker } from "./services/stack.mjs";
 import { Supervisor, installSignalHandlers, killStaleChildren } from "./services/supervisor.mjs";
 import { ROOT, UserFacingError, assertPortsFree, bold, buildIfNeeded, ensureNodeModules, green, log, readDotEnv, red } from "./services/util.mjs";
 
@@ -136,6 +136,7 @@ async function main() {
   try {
     await startServices(stack);
     await migrateAndSeed(stack);
+    await seedDemoData(stack);
     await buildIfNeeded({ env });
     await startWorker(stack);
     const { url } = await startNext(stack);

@@ -21,7 +21,7 @@ import path from "node:path";
 import { stopStalePostgres } from "./services/postgres.mjs";
 import { migrateAndSeed, startNext, startServices, startWorker } from "./services/stack.mjs";
 import { Supervisor, installSignalHandlers, killStaleChildren } from "./services/supervisor.mjs";
-import { HOST, ROOT, UserFacingError, aptInstall, assertPortsFree, bold, buildIfNeeded, ensureNodeModules, green, log, red } from "./services/util.mjs";
+import { HOST, ROOT, UserFacingError, aptInstall, assertPortsFree, bold, buildIfNeeded, ensureNodeModules, green, log, red, run } from "./services/util.mjs";
 
 const argv = process.argv.slice(2);
 const servicesOnly = argv.includes("--services-only");
@@ -120,6 +120,26 @@ async function runJest(supervisor, name, env, extraArgs) {
   const seconds = Math.round((Date.now() - stageStarted) / 1000);
   stages.push({ name, passed, failed, note, seconds });
   log("test", `${name}: ${passed} passed, ${failed} failed${note} (${seconds} s)`);
+}
+
+/** A static check (type-check, lint) counted as one test: it passes or it fails. */
+async function runCheck(name, cmd, args, env) {
+  const stageStarted = Date.now();
+  log("test", `${bold(name)}: ${[path.basename(cmd), ...args].join(" ")}`);
+  let failed = 0;
+  let note = "";
+  try {
+    await run(cmd, args, { env });
+  } catch (err) {
+    failed = 1;
+    note = ` (${(err.stdout || err.message || "").trim().split("\n").slice(0, 8).join(" | ").slice(0, 600)})`;
+    process.stderr.write(`${red(`${name} failed:`)}\n${err.stdout || ""}${err.stderr || err.message}\n`);
+  }
+  totals.passed += 1 - failed;
+  totals.failed += failed;
+  const seconds = Math.round((Date.now() - stageStarted) / 1000);
+  stages.push({ name, passed: 1 - failed, failed, note, seconds });
+  log("test", `${name}: ${failed ? "failed" : "clean"} (${seconds} s)`);
 }
 
 function stageCrashed(name, err) {
@@ -241,6 +261,14 @@ async function main() {
         `In another shell, export these and run one test file, e.g.\n\n${exports}\n\nnpx jest tests/integration/services/mail.test.ts\n\nCtrl-C here stops everything.\n`,
     );
     return new Promise(() => {}); // until a signal
+  }
+
+  // Stage 0: static checks over the whole tree (tests and scripts included).
+  if (!filters.length) {
+    await runCheck("typecheck", path.join(BIN, "tsc"), ["--noEmit", "-p", "."], env);
+    if (interrupted) return new Promise(() => {});
+    await runCheck("lint", path.join(BIN, "eslint"), [".", "--max-warnings", "0"], env);
+    if (interrupted) return new Promise(() => {});
   }
 
   // Stage 1: unit + integration.

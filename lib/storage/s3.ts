@@ -37,7 +37,6 @@ export const objectKeySchema = z
   .max(1024, "object key is longer than 1024 bytes")
   .refine((k) => !k.startsWith("/"), "object key must not start with /")
   .refine((k) => !k.split("/").includes(".."), "object key must not contain ..")
-  // eslint-disable-next-line no-control-regex
   .refine((k) => !/[\u0000-\u001f\u007f]/.test(k), "object key contains control characters");
 
 const contentTypeSchema = z.string().min(3).max(255).regex(/^[\w.+-]+\/[\w.+-]+(\s*;.*)?$/, "not a MIME type");

@@ -116,6 +116,28 @@ export async function migrateAndSeed(stack) {
   log("db", `migrate + seed took ${((Date.now() - started) / 1000).toFixed(1)} s`);
 }
 
+/**
+ * The Veldmark demo data through the real intake path, then a completed demo
+ * run, so a newcomer sees filled screens at first start. Both scripts are
+ * idempotent: on later starts they find their work done and return quickly.
+ */
+export async function seedDemoData(stack) {
+  const { env } = stack;
+  const tsx = path.join(BIN, "tsx");
+  const started = Date.now();
+  for (const [script, what] of [
+    ["scripts/demo/seed-demo-data.ts", "demo boundaries and panel"],
+    ["scripts/demo/run-demo-analysis.ts", "demo analysis run"],
+  ]) {
+    try {
+      await run(tsx, [path.join(ROOT, script)], { env });
+    } catch (err) {
+      throw new UserFacingError(`Seeding the ${what} failed (npx tsx ${script}): ${err.message}`);
+    }
+  }
+  log("db", `demo data and demo run ready in ${((Date.now() - started) / 1000).toFixed(1)} s`);
+}
+
 /** `npm run worker` equivalent. Resolves once it logged that it is ready. */
 export async function startWorker(stack, name = "worker") {
   const { env, supervisor } = stack;
