@@ -19,7 +19,7 @@ import { randomBytes } from "node:crypto";
 import fs from "node:fs";
 import path from "node:path";
 import { stopStalePostgres } from "./services/postgres.mjs";
-import { migrateAndSeed, startNext, startServices, startWorker } from "./services/stack.mjs";
+import { migrateAndSeed, seedDemoData, startNext, startServices, startWorker } from "./services/stack.mjs";
 import { Supervisor, installSignalHandlers, killStaleChildren } from "./services/supervisor.mjs";
 import { HOST, ROOT, UserFacingError, aptInstall, assertPortsFree, bold, buildIfNeeded, ensureNodeModules, green, log, red, run } from "./services/util.mjs";
 
@@ -287,6 +287,11 @@ async function main() {
   } else {
     try {
       await ensureChromium();
+      // The browser tests see the demo workspace as `npm start` leaves it: the
+      // Veldmark data published through the intake path and a completed demo run.
+      const seedStarted = Date.now();
+      await seedDemoData(stack);
+      timings.push(`demo seed ${Math.round((Date.now() - seedStarted) / 1000)} s`);
       const buildStarted = Date.now();
       const built = await buildIfNeeded({ env, tag: "build", logFile: path.join(LOG_DIR, "next-build.log") });
       timings.push(built ? `next build ${Math.round((Date.now() - buildStarted) / 1000)} s` : "next build skipped (unchanged)");
