@@ -23,6 +23,13 @@ function fmt(iso: string | null): string {
   return iso ? new Date(iso).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" }) : "—";
 }
 
+/** What a delivery covers, from its run or its idempotency key ("sub-7:manual-<iso>", "sub-7:weekly-…"). */
+function covers(runId: number | null, key: string): string {
+  if (runId) return `run ${runId}`;
+  const period = key.slice(key.indexOf(":") + 1);
+  return period.startsWith("manual-") ? "on request" : period;
+}
+
 export function DigestsScreen({ slug }: { slug: string }) {
   const client = useQueryClient();
   const own = useQuery(ownDigestQuery(slug));
@@ -55,6 +62,7 @@ export function DigestsScreen({ slug }: { slug: string }) {
   if (own.isPending) return <p className="text-ink-500">Loading your digest settings…</p>;
   if (own.isError) return <p role="alert" className="text-red-800">{own.error.message}</p>;
   const { indicators, deliveries } = own.data;
+  const labelOf = new Map(indicators.map((i) => [i.code, i.label]));
   const saveError = save.error instanceof ApiError ? save.error.message : save.error ? "Saving did not work. Try again." : null;
 
   return (
@@ -64,7 +72,7 @@ export function DigestsScreen({ slug }: { slug: string }) {
         <p className="mt-1 text-sm text-ink-500">
           {subscription
             ? subscription.active
-              ? `Active since your last change. Last digest: ${fmt(subscription.lastDigestAt)}.`
+              ? `Active. ${subscription.lastDigestAt ? `Last digest: ${fmt(subscription.lastDigestAt)}.` : "No digest sent yet."}`
               : `Unsubscribed ${fmt(subscription.unsubscribedAt)}. Save with “Receive digests” ticked to subscribe again.`
             : "You do not receive digests from this workspace yet."}
         </p>
@@ -74,7 +82,7 @@ export function DigestsScreen({ slug }: { slug: string }) {
             <div className="mt-2 grid gap-1">
               {(Object.keys(CADENCE_LABELS) as DigestCadence[]).map((c) => (
                 <label key={c} className="flex items-center gap-2 text-sm text-ink">
-                  <input type="radio" name="cadence" value={c} checked={form.cadence === c} onChange={() => setForm({ ...form, cadence: c })} />
+                  <input type="radio" className="accent-ochre-500" name="cadence" value={c} checked={form.cadence === c} onChange={() => setForm({ ...form, cadence: c })} />
                   {CADENCE_LABELS[c]}
                 </label>
               ))}
@@ -84,11 +92,11 @@ export function DigestsScreen({ slug }: { slug: string }) {
             <legend className={labelClass}>Indicators</legend>
             <div className="mt-2 grid gap-1">
               <label className="flex items-center gap-2 text-sm text-ink">
-                <input type="radio" name="scope" value="all" checked={form.scope === "all"} onChange={() => setForm({ ...form, scope: "all" })} />
+                <input type="radio" className="accent-ochre-500" name="scope" value="all" checked={form.scope === "all"} onChange={() => setForm({ ...form, scope: "all" })} />
                 All indicators
               </label>
               <label className="flex items-center gap-2 text-sm text-ink">
-                <input type="radio" name="scope" value="chosen" checked={form.scope === "chosen"} onChange={() => setForm({ ...form, scope: "chosen" })} />
+                <input type="radio" className="accent-ochre-500" name="scope" value="chosen" checked={form.scope === "chosen"} onChange={() => setForm({ ...form, scope: "chosen" })} />
                 Only the ones I choose
               </label>
             </div>
@@ -99,6 +107,7 @@ export function DigestsScreen({ slug }: { slug: string }) {
                   <label key={i.code} className="flex items-center gap-2 text-sm text-ink">
                     <input
                       type="checkbox"
+                      className="accent-ochre-500"
                       name="indicator"
                       value={i.code}
                       checked={form.indicatorCodes.includes(i.code)}
@@ -131,7 +140,7 @@ export function DigestsScreen({ slug }: { slug: string }) {
             </label>
           </div>
           <label className="flex items-center gap-2 text-sm text-ink">
-            <input type="checkbox" name="active" checked={form.active} onChange={(e) => setForm({ ...form, active: e.target.checked })} />
+            <input type="checkbox" className="accent-ochre-500" name="active" checked={form.active} onChange={(e) => setForm({ ...form, active: e.target.checked })} />
             Receive digests
           </label>
           {fieldError || saveError ? <p role="alert" className="text-sm text-red-800">{fieldError ?? saveError}</p> : null}
@@ -155,12 +164,20 @@ export function DigestsScreen({ slug }: { slug: string }) {
           {preview.isError ? <p role="alert" className="text-sm text-red-800">{preview.error.message}</p> : null}
           {preview.data ? (
             <div className="mt-2">
-              <p className="text-sm text-ink-700">
-                <span className="font-medium">Subject:</span> {preview.data.subject}
-                {preview.data.empty && form.emptyPolicy === "skip" ? " — nothing changed, so this one would not be sent." : ""}
-              </p>
-              {/* sandbox without allow-scripts: the mail's HTML cannot run anything or reach this page. */}
-              <iframe title="Digest preview" sandbox="" srcDoc={preview.data.html} className="mt-2 h-[560px] w-full max-w-3xl rounded-md border border-ink-100 bg-white" />
+              {preview.data.empty && form.emptyPolicy === "skip" ? (
+                <p className="max-w-3xl rounded-md border border-dashed border-ink-200 p-5 text-sm text-ink-500" data-testid="digest-preview-skipped">
+                  Nothing changed in the indicators you follow since your previous digest, so none would be sent. Choose “Send a short
+                  ‘nothing changed’” to receive one anyway.
+                </p>
+              ) : (
+                <>
+                  <p className="text-sm text-ink-700">
+                    <span className="font-medium">Subject:</span> {preview.data.subject}
+                  </p>
+                  {/* sandbox without allow-scripts: the mail's HTML cannot run anything or reach this page. */}
+                  <iframe title="Digest preview" sandbox="" srcDoc={preview.data.html} className="mt-2 h-[560px] w-full max-w-3xl rounded-md border border-ink-100 bg-white" />
+                </>
+              )}
             </div>
           ) : null}
         </section>
@@ -180,7 +197,7 @@ export function DigestsScreen({ slug }: { slug: string }) {
                 {deliveries.map((d) => (
                   <tr key={d.id} className="border-t border-ink-100 align-top">
                     <td className="py-1 pr-3">{fmt(d.createdAt)}</td>
-                    <td className="pr-3">{d.runId ? `run ${d.runId}` : d.idempotencyKey.split(":")[1]}</td>
+                    <td className="pr-3">{covers(d.runId, d.idempotencyKey)}</td>
                     <td className="pr-3 font-medium">{d.status}</td>
                     <td className="pr-3">{d.attempts}</td>
                     <td className="pr-3">{fmt(d.sentAt)}</td>
@@ -207,9 +224,9 @@ export function DigestsScreen({ slug }: { slug: string }) {
                 {subscribers.data.map((s) => (
                   <tr key={s.email} className="border-t border-ink-100 align-top">
                     <td className="py-1 pr-3">{s.name} <span className="text-ink-500">{s.email}</span></td>
-                    <td className="pr-3">{s.role}</td>
+                    <td className="pr-3 capitalize">{s.role}</td>
                     <td className="pr-3">{CADENCE_LABELS[s.cadence]}</td>
-                    <td className="pr-3">{s.scope === "all" ? "All" : s.indicatorCodes.join(", ")}</td>
+                    <td className="pr-3">{s.scope === "all" ? "All" : s.indicatorCodes.map((c) => labelOf.get(c) ?? c).join(", ")}</td>
                     <td className="pr-3">{THRESHOLD_LABELS[s.threshold]}</td>
                     <td>{s.active ? "active" : "unsubscribed"}</td>
                   </tr>
