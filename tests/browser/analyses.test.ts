@@ -57,6 +57,13 @@ it("an economist runs the demo panel, filters the catalogue, opens the unemploym
   await page.goto(`/w/${slug}/runs`);
   const form = page.getByRole("form", { name: "Start a run" });
   await form.waitFor();
+  // Other browser tests publish panels of their own; the newest is preselected, so pick the Veldmark one.
+  const panelSelect = page.getByLabel("Panel version");
+  const panelLabels = await panelSelect.locator("option").allInnerTexts();
+  const veldmark = panelLabels.find((label) => /Veldmark/.test(label));
+  if (!veldmark) throw new Error(`No Veldmark panel among the published versions: ${panelLabels.join("; ")}`);
+  await panelSelect.selectOption({ label: veldmark });
+  await form.getByRole("checkbox", { name: "Unemployment rate", exact: true }).waitFor();
   for (const label of await form.locator("fieldset label").allInnerTexts()) {
     const keep = /^(Unemployment rate|Broadband coverage)$/.test(label.trim());
     const box = form.getByRole("checkbox", { name: label.trim(), exact: true });
