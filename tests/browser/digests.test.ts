@@ -48,14 +48,12 @@ async function waitForRun(id: number, timeoutMs: number): Promise<string> {
 
 beforeAll(async () => {
   testServices();
-  // The demo seed publishes the Veldmark panel; load it here when this bring-up did not.
   const [ws] = await db().query<{ id: number }>("SELECT id FROM workspaces WHERE slug = $1", { bind: [slug], type: QueryTypes.SELECT });
   if (!ws) throw new Error(`The demo workspace "${slug}" is missing: the demo seeder has not run.`);
-  const published = await db().query<{ id: number }>(
-    "SELECT pv.id FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id WHERE p.workspace_id = $1 AND pv.state = 'published' ORDER BY pv.id",
-    { bind: [ws.id], type: QueryTypes.SELECT },
-  );
-  const panelVersionId = published[0]?.id ?? (await loadVeldmarkPanel(ws.id)).panelVersionId;
+  // A panel of its own (the Veldmark data, two indicators) so that no earlier run
+  // on the same panel exists: the subscriber's first digest then reports every
+  // significant result as new, whatever other tests ran before.
+  const { panelVersionId } = await loadVeldmarkPanel(ws.id, { indicators: ["unemployment_rate", "broadband_coverage"] });
   // A completed run of two indicators (the worker computes it), so the digest has results to report.
   const choice = runParamsInputSchema.parse({ seed: 20260101, permutations: 199, indicators: ["unemployment_rate", "broadband_coverage"] });
   const { runId } = await startRun({ workspaceId: ws.id, userId: null, panelVersionId, choice });
