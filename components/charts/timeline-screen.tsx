@@ -82,7 +82,7 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
   const significant = pts.map((p) => (p.significance === "clustering" || p.significance === "dispersion" ? p.I : null));
   const option: EChartsOption = {
     grid: { left: 64, right: 24, top: 44, bottom: 48 },
-    legend: { top: 0, left: "center", itemGap: 18, data: ["Moran's I", "E[I]", "95 % band under the null", "Significant after correction"], textStyle: { color: INK } },
+    legend: { top: 0, left: "center", itemGap: 30, data: ["Moran's I", "E[I]", "95 % band under the null", "Significant after correction"], textStyle: { color: INK } },
     tooltip: {
       trigger: "axis",
       valueFormatter: (v) => (typeof v === "number" ? v.toFixed(3) : String(v ?? "—")),
