@@ -158,6 +158,14 @@ function initModels(): void {
     defaultValue: "uploaded",
     validate: { isIn: [VERSION_STATES as unknown as string[]] },
   };
+  // The uploaded file behind a version (boundaries or panel).
+  const storedFile = {
+    uploadId: { type: DataTypes.UUID, allowNull: true },
+    s3Key: { type: DataTypes.STRING(512), allowNull: false },
+    fileName: { type: DataTypes.STRING(255), allowNull: false },
+    byteSize: { type: DataTypes.BIGINT, allowNull: false },
+    sha256: { type: DataTypes.STRING(64), allowNull: false },
+  };
   const versionLifecycle = {
     report: { type: DataTypes.JSONB, allowNull: true },
     diff: { type: DataTypes.JSONB, allowNull: true },
@@ -175,11 +183,7 @@ function initModels(): void {
       boundarySetId: { type: DataTypes.INTEGER, allowNull: false },
       version: { type: DataTypes.INTEGER, allowNull: false },
       state: versionState,
-      uploadId: { type: DataTypes.UUID, allowNull: true },
-      s3Key: { type: DataTypes.STRING(512), allowNull: false },
-      fileName: { type: DataTypes.STRING(255), allowNull: false },
-      byteSize: { type: DataTypes.BIGINT, allowNull: false },
-      sha256: { type: DataTypes.STRING(64), allowNull: false },
+      ...storedFile,
       format: { type: DataTypes.STRING(20), allowNull: false, validate: { isIn: [["topojson", "geojson"]] } },
       objectName: { type: DataTypes.STRING(200), allowNull: false },
       idProperty: { type: DataTypes.STRING(200), allowNull: false },
@@ -220,11 +224,7 @@ function initModels(): void {
       panelId: { type: DataTypes.INTEGER, allowNull: false },
       version: { type: DataTypes.INTEGER, allowNull: false },
       state: versionState,
-      uploadId: { type: DataTypes.UUID, allowNull: true },
-      s3Key: { type: DataTypes.STRING(512), allowNull: false },
-      fileName: { type: DataTypes.STRING(255), allowNull: false },
-      byteSize: { type: DataTypes.BIGINT, allowNull: false },
-      sha256: { type: DataTypes.STRING(64), allowNull: false },
+      ...storedFile,
       layout: { type: DataTypes.STRING(10), allowNull: false, validate: { isIn: [["long", "wide"]] } },
       decimalSeparator: { type: DataTypes.STRING(1), allowNull: false, defaultValue: "." },
       mapping: { type: DataTypes.JSONB, allowNull: false },

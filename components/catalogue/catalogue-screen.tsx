@@ -2,7 +2,7 @@
 
 import "./ag-grid-setup";
 import Link from "next/link";
-import { usePathname, useRouter, useSearchParams } from "next/navigation";
+import { useUrlParams } from "@/components/runs/use-url-params";
 import { useQuery } from "@tanstack/react-query";
 import { AgGridReact } from "ag-grid-react";
 import type { ColDef, ICellRendererParams, ValueFormatterParams } from "ag-grid-community";
@@ -31,9 +31,7 @@ const COLUMN_CHOICES = [
 const DEFAULT_HIDDEN = ["adjustedP", "gearyC", "generalG"];
 
 export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: boolean }) {
-  const router = useRouter();
-  const pathname = usePathname();
-  const params = useSearchParams();
+  const { params, setParams: update } = useUrlParams();
   const run = params.get("run") ?? "";
   const classParam = params.get("class") ?? "";
   const colsParam = params.get("cols");
@@ -52,14 +50,6 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
   const all = useQuery(catalogueQuery(slug, run ? `run=${run}` : ""));
   const runs = useQuery(runsQuery(slug));
 
-  const update = (changes: Record<string, string | null>) => {
-    const next = new URLSearchParams(params.toString());
-    for (const [k, v] of Object.entries(changes)) {
-      if (v === null || v === "") next.delete(k);
-      else next.set(k, v);
-    }
-    router.replace(`${pathname}?${next.toString()}`, { scroll: false });
-  };
   const toggleClass = (c: SignificanceClass) => {
     const set = new Set(classes);
     if (set.has(c)) set.delete(c);
@@ -272,7 +262,6 @@ function buildColumns(slug: string, hiddenKey: string): ColDef<CatalogueRow>[] {
     return defs.map((d) => ({ ...d, hide: hiddenIds.includes(d.colId ?? "") }));
   }
 }
-
 
 function searchFor(run: string, classParam: string, from: string, to: string, q: string): string {
   const s = new URLSearchParams();

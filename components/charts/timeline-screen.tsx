@@ -1,34 +1,20 @@
 "use client";
 
 import Link from "next/link";
-import { usePathname, useRouter, useSearchParams } from "next/navigation";
+import { IndicatorPicker } from "@/components/runs/indicator-picker";
+import { useIndicatorTimeline } from "@/components/runs/use-indicator-timeline";
 import { useQuery } from "@tanstack/react-query";
 import type { EChartsOption } from "echarts";
-import { inputClass, secondaryButton } from "@/components/ui/button-styles";
+import { secondaryButton } from "@/components/ui/button-styles";
 import { fmt, fmtP, fmtSigned, Notice, Panel, SignificanceBadge, weightsLabel } from "@/components/runs/format";
-import { robustnessQuery, timelineQuery } from "@/components/runs/query-options";
+import { robustnessQuery } from "@/components/runs/query-options";
 import type { Timeline } from "@/lib/runs/queries";
 import { EChart, INK, MUTED, OCHRE } from "./echart";
 
 export function TimelineScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
-  const router = useRouter();
-  const pathname = usePathname();
-  const params = useSearchParams();
-  const indicator = params.get("indicator") ?? indicators[0]?.code ?? "";
-  const runParam = params.get("run");
-  const run = runParam && /^\d+$/.test(runParam) ? Number(runParam) : null;
-  const data = useQuery(timelineQuery(slug, indicator, run));
-  const periods = data.data?.points.map((p) => p.period) ?? [];
+  const { params, setParams: set, router, indicator, run, timeline: data, periods } = useIndicatorTimeline(slug, indicators);
   const strip = params.get("period") ?? periods[periods.length - 1] ?? "";
 
-  const set = (changes: Record<string, string | null>) => {
-    const next = new URLSearchParams(params.toString());
-    for (const [k, v] of Object.entries(changes)) {
-      if (v === null || v === "") next.delete(k);
-      else next.set(k, v);
-    }
-    router.replace(`${pathname}?${next.toString()}`, { scroll: false });
-  };
   const openMap = (period: string) => {
     const runId = data.data?.run.id;
     router.push(`/w/${slug}/map?indicator=${encodeURIComponent(indicator)}${runId ? `&run=${runId}` : ""}&a=${encodeURIComponent(period)}`);
@@ -37,18 +23,7 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
   return (
     <div className="space-y-6">
       <div className="flex flex-wrap items-end gap-4">
-        <div>
-          <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="tl-indicator">
-            Indicator
-          </label>
-          <select id="tl-indicator" className={`${inputClass} mt-1 w-72`} value={indicator} onChange={(e) => set({ indicator: e.target.value, run: null, period: null })}>
-            {indicators.map((i) => (
-              <option key={i.code} value={i.code}>
-                {i.label}
-              </option>
-            ))}
-          </select>
-        </div>
+        <IndicatorPicker id="tl-indicator" value={indicator} indicators={indicators} onChange={(code) => set({ indicator: code, run: null, period: null })} />
         {data.data ? (
           <p className="pb-2 text-sm text-ink-500">
             Run {data.data.run.id} · {weightsLabel(data.data.run.params.weights, data.data.run.params.transform)} weights ·{" "}

@@ -1,52 +1,25 @@
 "use client";
 
 import Link from "next/link";
-import { usePathname, useRouter, useSearchParams } from "next/navigation";
+import { IndicatorPicker } from "@/components/runs/indicator-picker";
+import { useIndicatorTimeline } from "@/components/runs/use-indicator-timeline";
 import { useQuery } from "@tanstack/react-query";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
 import { fmt, fmtP, fmtSigned, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
-import { compareQuery, timelineQuery } from "@/components/runs/query-options";
+import { compareQuery } from "@/components/runs/query-options";
 
 export function CompareScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
-  const router = useRouter();
-  const pathname = usePathname();
-  const params = useSearchParams();
-  const indicator = params.get("indicator") ?? indicators[0]?.code ?? "";
-  const runParam = params.get("run");
-  const run = runParam && /^\d+$/.test(runParam) ? Number(runParam) : null;
-  const timeline = useQuery(timelineQuery(slug, indicator, run));
-  const periods = timeline.data?.points.map((p) => p.period) ?? [];
-  const runId = timeline.data?.run.id ?? run;
+  const { params, setParams: set, indicator, periods, runId } = useIndicatorTimeline(slug, indicators);
   const a = params.get("a") ?? periods[0] ?? "";
   const b = params.get("b") ?? periods[periods.length - 1] ?? "";
   const data = useQuery(compareQuery(slug, indicator, runId, a, b));
   const c = data.data?.comparison;
   const label = indicators.find((i) => i.code === indicator)?.label ?? indicator;
 
-  const set = (changes: Record<string, string | null>) => {
-    const next = new URLSearchParams(params.toString());
-    for (const [k, v] of Object.entries(changes)) {
-      if (v === null || v === "") next.delete(k);
-      else next.set(k, v);
-    }
-    router.replace(`${pathname}?${next.toString()}`, { scroll: false });
-  };
-
   return (
     <div className="space-y-6">
       <div className="flex flex-wrap items-end gap-4">
-        <div>
-          <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="cmp-indicator">
-            Indicator
-          </label>
-          <select id="cmp-indicator" className={`${inputClass} mt-1 w-72`} value={indicator} onChange={(e) => set({ indicator: e.target.value, run: null })}>
-            {indicators.map((i) => (
-              <option key={i.code} value={i.code}>
-                {i.label}
-              </option>
-            ))}
-          </select>
-        </div>
+        <IndicatorPicker id="cmp-indicator" value={indicator} indicators={indicators} onChange={(code) => set({ indicator: code, run: null })} />
         {(["a", "b"] as const).map((key) => (
           <div key={key}>
             <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor={`cmp-${key}`}>

@@ -1,7 +1,8 @@
 "use client";
 
 import Link from "next/link";
-import { usePathname, useRouter, useSearchParams } from "next/navigation";
+import { IndicatorPicker } from "@/components/runs/indicator-picker";
+import { useIndicatorTimeline } from "@/components/runs/use-indicator-timeline";
 import { useQuery } from "@tanstack/react-query";
 import { scaleSequential } from "d3-scale";
 import { interpolateYlOrBr } from "d3-scale-chromatic";
@@ -10,7 +11,7 @@ import { useMemo, useState } from "react";
 import { EChart, INK, MUTED } from "@/components/charts/echart";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
 import { CLUSTER_COLOURS, CLUSTER_LABELS, CLUSTER_SHORT, fmt, fmtP, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
-import { compareQuery, geometryQuery, mapQuery, timelineQuery } from "@/components/runs/query-options";
+import { compareQuery, geometryQuery, mapQuery } from "@/components/runs/query-options";
 import type { ClusterClass } from "@/lib/spatial";
 import type { MapPeriod } from "@/lib/runs/on-demand";
 import { RegionMap, useRegionFeatures } from "./region-map";
@@ -18,15 +19,7 @@ import { RegionMap, useRegionFeatures } from "./region-map";
 const CLASSES: ClusterClass[] = ["HH", "LL", "HL", "LH", "not-significant", "no-neighbours"];
 
 export function MapScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
-  const router = useRouter();
-  const pathname = usePathname();
-  const params = useSearchParams();
-  const indicator = params.get("indicator") ?? indicators[0]?.code ?? "";
-  const runParam = params.get("run");
-  const run = runParam && /^\d+$/.test(runParam) ? Number(runParam) : null;
-  const timeline = useQuery(timelineQuery(slug, indicator, run));
-  const periods = timeline.data?.points.map((p) => p.period) ?? [];
-  const runId = timeline.data?.run.id ?? run;
+  const { params, setParams: set, indicator, timeline, periods, runId } = useIndicatorTimeline(slug, indicators);
   const a = params.get("a") ?? periods[0] ?? "";
   const defaultB = periods.length ? (a === periods[periods.length - 1] ? periods[0] : periods[periods.length - 1]) : "";
   const b = params.get("b") ?? defaultB;
@@ -39,15 +32,6 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
   const [selected, setSelected] = useState<string | null>(null);
   const active = hovered ?? selected;
   const unit = mapA.data?.indicator.unit ?? "";
-
-  const set = (changes: Record<string, string | null>) => {
-    const next = new URLSearchParams(params.toString());
-    for (const [k, v] of Object.entries(changes)) {
-      if (v === null || v === "") next.delete(k);
-      else next.set(k, v);
-    }
-    router.replace(`${pathname}?${next.toString()}`, { scroll: false });
-  };
 
   // One colour scale for both periods, so the same colour means the same value.
   const scale = useMemo(() => {
@@ -63,18 +47,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
   return (
     <div className="space-y-6">
       <div className="flex flex-wrap items-end gap-4">
-        <div>
-          <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="map-indicator">
-            Indicator
-          </label>
-          <select id="map-indicator" className={`${inputClass} mt-1 w-72`} value={indicator} onChange={(e) => set({ indicator: e.target.value, run: null })}>
-            {indicators.map((i) => (
-              <option key={i.code} value={i.code}>
-                {i.label}
-              </option>
-            ))}
-          </select>
-        </div>
+        <IndicatorPicker id="map-indicator" value={indicator} indicators={indicators} onChange={(code) => set({ indicator: code, run: null })} />
         <div>
           <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="map-a">
             Period A

@@ -1,5 +1,6 @@
 import type { z } from "zod";
 import { errorResponse, invalidBody, jsonError } from "@/lib/auth/route";
+import { resolveRunForIndicator, type RunSummary } from "./queries";
 import { RunInputError } from "./service";
 import { searchObject } from "./schemas";
 
@@ -21,4 +22,24 @@ export function parseSearch<S extends z.ZodType>(request: Request, schema: S): {
 /** A positive integer route parameter, or null. */
 export function idParam(value: string | string[] | undefined): number | null {
   return typeof value === "string" && /^\d{1,9}$/.test(value) ? Number(value) : null;
+}
+
+/**
+ * Resolves the run that analysed `indicator` (the given one, or the latest
+ * completed) and answers with `respond(run)`; 404 when there is none, and
+ * errors mapped by {@link runsError}.
+ */
+export async function withIndicatorRun(
+  workspaceId: number,
+  indicator: string,
+  runId: number | null,
+  respond: (run: RunSummary) => Promise<Response>,
+): Promise<Response> {
+  try {
+    const run = await resolveRunForIndicator(workspaceId, indicator, runId);
+    if (!run) return jsonError(404, `No completed run has analysed "${indicator}" yet.`);
+    return await respond(run);
+  } catch (error) {
+    return runsError(error);
+  }
 }

@@ -1,7 +1,6 @@
 import { jsonError, memberRoute } from "@/lib/auth/route";
-import { parseSearch, runsError } from "@/lib/runs/http";
+import { parseSearch, withIndicatorRun } from "@/lib/runs/http";
 import { comparison } from "@/lib/runs/on-demand";
-import { resolveRunForIndicator } from "@/lib/runs/queries";
 import { compareQuerySchema } from "@/lib/runs/schemas";
 
 export const dynamic = "force-dynamic";
@@ -11,12 +10,8 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
   if (!search.ok) return search.response;
   const { indicator, run: runId, a, b } = search.value;
   if (a === b) return jsonError(400, "Choose two different periods to compare.", { field: "b" });
-  try {
-    const run = await resolveRunForIndicator(member.workspace.id, indicator, runId);
-    if (!run) return jsonError(404, `No completed run has analysed "${indicator}" yet.`);
+  return withIndicatorRun(member.workspace.id, indicator, runId, async (run) => {
     const [earlier, later] = run.params.periods.indexOf(a) <= run.params.periods.indexOf(b) ? [a, b] : [b, a];
     return Response.json({ runId: run.id, comparison: await comparison(run, indicator, earlier, later) });
-  } catch (error) {
-    return runsError(error);
-  }
+  });
 });

@@ -1,0 +1,20 @@
+"use client";
+
+import { useQuery } from "@tanstack/react-query";
+import { timelineQuery } from "./query-options";
+import { useUrlParams } from "./use-url-params";
+
+/**
+ * The indicator and run chosen in the URL (`indicator`, `run`), the run's
+ * timeline and its periods — shared by the timeline, map and comparison
+ * screens. Without `run`, the latest completed run of the indicator is used.
+ */
+export function useIndicatorTimeline(slug: string, indicators: { code: string; label: string }[]) {
+  const url = useUrlParams();
+  const indicator = url.params.get("indicator") ?? indicators[0]?.code ?? "";
+  const runParam = url.params.get("run");
+  const run = runParam && /^\d+$/.test(runParam) ? Number(runParam) : null;
+  const timeline = useQuery(timelineQuery(slug, indicator, run));
+  const periods = timeline.data?.points.map((p) => p.period) ?? [];
+  return { ...url, indicator, run, timeline, periods, runId: timeline.data?.run.id ?? run };
+}
