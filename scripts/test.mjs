@@ -14,6 +14,7 @@
 //                                    variables to export, stay up until Ctrl-C
 //
 // Ports: TEST_APP_PORT (3100), TEST_PG_PORT (55433), TEST_S3_PORT (4669), TEST_SMTP_PORT (2625).
+// Data: TESSERA_TEST_DIR (storage/test).
 // .env is ignored.
 import { randomBytes } from "node:crypto";
 import fs from "node:fs";
@@ -30,10 +31,12 @@ const unknownFlags = argv.filter((a) => a.startsWith("--") && !["--services-only
 const filters = argv.filter((a) => !a.startsWith("--"));
 
 const STORAGE = path.join(ROOT, "storage");
-const TEST_DIR = path.join(STORAGE, "test");
+// TESSERA_TEST_DIR lets two suites run side by side in one checkout (each with
+// its own TEST_* ports); the default is storage/test.
+const TEST_DIR = process.env.TESSERA_TEST_DIR ? path.resolve(process.env.TESSERA_TEST_DIR) : path.join(STORAGE, "test");
 const LOG_DIR = path.join(TEST_DIR, "logs");
 const RESULTS_DIR = path.join(TEST_DIR, "results");
-const PID_FILE = path.join(STORAGE, ".test-pids");
+const PID_FILE = process.env.TESSERA_TEST_DIR ? `${TEST_DIR}.pids` : path.join(STORAGE, ".test-pids");
 const BIN = path.join(ROOT, "node_modules", ".bin");
 
 /** Totals over every stage; a stage that crashes counts as one failure. */
