@@ -5,5 +5,7 @@ const nextConfig = {
   poweredByHeader: false,
   typescript: { tsconfigPath: "tsconfig.build.json" },
   reactStrictMode: true,
+  // forbidden() from next/navigation, so a member whose role is too small gets a real 403 page.
+  experimental: { authInterrupts: true },
 };
 export default nextConfig;
