@@ -1,7 +1,6 @@
 import type { ComponentType, ReactNode } from "react";
 import { Suspense } from "react";
 import { Cautions } from "@/components/ui/cautions";
-import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
@@ -31,8 +30,7 @@ export async function AnalysedIndicatorPage({
     const member = await requireMember(slug, "results.view");
     return { member, indicators: await analysedIndicators(member.workspace.id) };
   });
-  if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
-  const { member, indicators } = access.value;
+  const { member, indicators } = access;
   return (
     <div>
       <PageHeader title={title} eyebrow="Analyses">

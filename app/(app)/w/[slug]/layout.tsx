@@ -10,8 +10,7 @@ export const dynamic = "force-dynamic";
 export default async function WorkspaceLayout({ children, params }: { children: React.ReactNode; params: Promise<{ slug: string }> }) {
   const { slug } = await params;
   const shell = await guardPage(`/w/${slug}/desk`, () => getShell(slug));
-  if (!shell.ok) return children;
-  const { value } = shell;
+  const value = shell;
   return (
     <div className="flex min-h-screen flex-col">
       <TopBar slug={value.workspace.slug} nav={value.nav} role={value.role} userName={value.user.name} workspaces={value.workspaces} />

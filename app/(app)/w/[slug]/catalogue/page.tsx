@@ -2,7 +2,6 @@ import type { Metadata } from "next";
 import { Suspense } from "react";
 import { CatalogueScreen } from "@/components/catalogue/catalogue-screen";
 import { Cautions } from "@/components/ui/cautions";
-import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
@@ -13,14 +12,13 @@ export const metadata: Metadata = { title: "Catalogue" };
 export default async function CataloguePage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
   const access = await guardPage(`/w/${slug}/catalogue`, () => requireMember(slug, "results.view"));
-  if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
   return (
     <div>
       <PageHeader title="Catalogue" eyebrow="Analyses">
         Every analysed indicator and period in one grid. Open an indicator for its timeline, or a period for its region map.
       </PageHeader>
       <Suspense fallback={<p className="text-sm text-ink-500">Loading the catalogue…</p>}>
-        <CatalogueScreen slug={access.value.workspace.slug} canExport={can(access.value.role, "runs.manage")} />
+        <CatalogueScreen slug={access.workspace.slug} canExport={can(access.role, "runs.manage")} />
       </Suspense>
       <Cautions className="mt-8" />
     </div>

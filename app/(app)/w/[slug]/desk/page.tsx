@@ -2,7 +2,6 @@ import type { Metadata } from "next";
 import Link from "next/link";
 import { DeskPanel } from "@/components/runs/desk-panel";
 import { Cautions } from "@/components/ui/cautions";
-import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
 import { guardPage } from "@/lib/auth/page";
 import { getDesk } from "@/lib/auth/queries";
@@ -13,8 +12,7 @@ export const metadata: Metadata = { title: "Desk" };
 export default async function DeskPage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
   const desk = await guardPage(`/w/${slug}/desk`, () => getDesk(slug));
-  if (!desk.ok) return <Forbidden message={desk.message} backHref="/" />;
-  const { workspace, role, user, memberCount } = desk.value;
+  const { workspace, role, user, memberCount } = desk;
   const firstName = user.name.split(" ")[0] || user.name;
 
   return (

@@ -1,6 +1,5 @@
 import type { Metadata } from "next";
 import { IntakeScreen } from "@/components/intake/intake-screen";
-import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
@@ -9,8 +8,7 @@ export const metadata: Metadata = { title: "Intake" };
 
 export default async function IntakePage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
-  const access = await guardPage(`/w/${slug}/intake`, () => requireMember(slug, "data.view-unpublished"));
-  if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
+  await guardPage(`/w/${slug}/intake`, () => requireMember(slug, "data.view-unpublished"));
   // The screen belongs to stewards and managers (DESIGN.md §Roles); the published
   // data it curates reaches everyone else through the analyses screens.
   return (

@@ -1,7 +1,6 @@
 import type { Metadata } from "next";
 import Link from "next/link";
 import { notFound } from "next/navigation";
-import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
@@ -20,8 +19,7 @@ export default async function OutboxPage({ params }: { params: Promise<{ slug: s
     await requireMember(slug, "team.manage");
     return listCapturedMail({ limit: 100 });
   });
-  if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
-  const mails = access.value;
+  const mails = access;
   return (
     <div>
       <PageHeader title="Outbox" eyebrow="Development only">

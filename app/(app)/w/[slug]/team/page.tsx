@@ -2,7 +2,6 @@ import type { Metadata } from "next";
 import { AuditTrail } from "@/components/team/audit-trail";
 import { InvitationsPanel } from "@/components/team/invitations-panel";
 import { MembersTable } from "@/components/team/members-table";
-import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
 import { guardPage } from "@/lib/auth/page";
 import { getTeam } from "@/lib/auth/queries";
@@ -12,8 +11,7 @@ export const metadata: Metadata = { title: "Team" };
 export default async function TeamPage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
   const team = await guardPage(`/w/${slug}/team`, () => getTeam(slug));
-  if (!team.ok) return <Forbidden message={team.message} backHref={`/w/${slug}/desk`} />;
-  const { workspace, me, members, invitations, auditTrail } = team.value;
+  const { workspace, me, members, invitations, auditTrail } = team;
   return (
     <div>
       <PageHeader title="Team" eyebrow={workspace.name}>

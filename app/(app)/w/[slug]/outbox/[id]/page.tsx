@@ -1,7 +1,6 @@
 import type { Metadata } from "next";
 import Link from "next/link";
 import { notFound } from "next/navigation";
-import { Forbidden } from "@/components/ui/forbidden";
 import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
@@ -17,8 +16,7 @@ export default async function OutboxMessagePage({ params }: { params: Promise<{ 
     await requireMember(slug, "team.manage");
     return getCapturedMail(id);
   });
-  if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
-  const mail = access.value;
+  const mail = access;
   if (!mail) notFound();
   return (
     <div>

@@ -1,7 +1,6 @@
 import type { Metadata } from "next";
 import { notFound } from "next/navigation";
 import { VersionScreen } from "@/components/intake/version-screen";
-import { Forbidden } from "@/components/ui/forbidden";
 import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
 import { can } from "@/lib/auth/roles";
@@ -12,8 +11,7 @@ export const metadata: Metadata = { title: "Boundary version" };
 export default async function VersionPage({ params }: { params: Promise<{ slug: string; versionId: string }> }) {
   const { slug, versionId } = await params;
   const access = await guardPage(`/w/${slug}/intake/boundaries/${versionId}`, () => requireMember(slug, "data.view-unpublished"));
-  if (!access.ok) return <Forbidden message={access.message} backHref={`/w/${slug}/desk`} />;
   const id = Number(versionId);
-  if (!Number.isInteger(id) || id <= 0 || !(await versionDetail(access.value.workspace.id, "boundaries", id, can(access.value.role, "data.view-unpublished")))) notFound();
-  return <VersionScreen slug={slug} kind="boundaries" versionId={id} canCurate={can(access.value.role, "data.curate")} />;
+  if (!Number.isInteger(id) || id <= 0 || !(await versionDetail(access.workspace.id, "boundaries", id, can(access.role, "data.view-unpublished")))) notFound();
+  return <VersionScreen slug={slug} kind="boundaries" versionId={id} canCurate={can(access.role, "data.curate")} />;
 }
