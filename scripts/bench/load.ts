@@ -1,0 +1,248 @@
+/**
+ * Load benchmark (not a test): concurrent signed-in clients drive the
+ * catalogue and timeline APIs of a running Tessera for a bounded time and the
+ * script prints requests per second, p50/p95/p99 latency and the error count.
+ *
+ *   npm start                                   # in another shell: the app with the demo seeded
+ *   npm run -s load                             # 30 s, 16 connections, against NEXTAUTH_URL from .env
+ *   npm run -s load -- --duration 60 --connections 32 --url http://127.0.0.1:3000
+ *   npm run -s load -- --catalogue-rows 0       # no synthetic 10,000-row run, demo data only
+ *
+ * Three phases share the duration: the catalogue over a synthetic 10,000-row
+ * run (DESIGN.md §Performance: p95 under 200 ms), timelines of the demo
+ * indicators, and the two mixed. The synthetic run is written straight into
+ * DATABASE_URL (state "completed", origin "benchmark") before the phases and
+ * deleted afterwards, also on Ctrl-C. Clients sign in as the four demo
+ * accounts through next-auth's credentials endpoint, so every request passes
+ * the real session and role checks. Exit status 1 when any request failed.
+ */
+import autocannon from "autocannon";
+import { config as loadDotenv } from "dotenv";
+import { readFileSync } from "node:fs";
+import path from "node:path";
+import { z } from "zod";
+
+loadDotenv({ quiet: true });
+const ROOT = process.cwd();
+
+const argsSchema = z.object({
+  url: z.string().url("--url must be an http(s) URL such as http://127.0.0.1:3000"),
+  duration: z.coerce.number().int().min(3, "--duration must be at least 3 seconds").max(600, "--duration is capped at 600 seconds"),
+  connections: z.coerce.number().int().min(1).max(256, "--connections is capped at 256"),
+  workspace: z.string().regex(/^[a-z0-9-]+$/, "--workspace must be a workspace slug"),
+  catalogueRows: z.coerce.number().int().min(0).max(10_000, "--catalogue-rows is at most 10,000 (200 indicators × 50 periods)"),
+});
+type Args = z.infer<typeof argsSchema>;
+
+function parseArgs(argv: string[]): Args {
+  const demo = JSON.parse(readFileSync(path.join(ROOT, "seeders", "demo-accounts.json"), "utf8")) as { workspace: { slug: string } };
+  const raw: Record<string, string> = {
+    url: process.env.NEXTAUTH_URL ?? "http://127.0.0.1:3000",
+    duration: "30",
+    connections: "16",
+    workspace: demo.workspace.slug,
+    catalogueRows: "10000",
+  };
+  const names: Record<string, keyof typeof raw> = { "--url": "url", "--duration": "duration", "--connections": "connections", "--workspace": "workspace", "--catalogue-rows": "catalogueRows" };
+  for (let i = 0; i < argv.length; i++) {
+    const key = names[argv[i]];
+    if (!key || argv[i + 1] === undefined) fail(`unknown or incomplete option "${argv[i]}"; use ${Object.keys(names).join(", ")} followed by a value`);
+    raw[key] = argv[++i];
+  }
+  const parsed = argsSchema.safeParse(raw);
+  if (!parsed.success) fail(parsed.error.issues.map((i) => i.message).join("; "));
+  return parsed.data;
+}
+
+function fail(message: string): never {
+  process.stderr.write(`load: ${message}\n`);
+  process.exit(2);
+}
+
+type Account = { email: string; password: string; role: string };
+
+/** Signs in through next-auth's credentials endpoint and returns the session cookie. */
+async function signIn(base: string, account: Account): Promise<string> {
+  const csrf = await fetch(`${base}/api/auth/csrf`);
+  if (!csrf.ok) throw new Error(`GET ${base}/api/auth/csrf answered ${csrf.status}`);
+  const { csrfToken } = (await csrf.json()) as { csrfToken: string };
+  const csrfCookie = csrf.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+  const response = await fetch(`${base}/api/auth/callback/credentials`, {
+    method: "POST",
+    redirect: "manual",
+    headers: { "content-type": "application/x-www-form-urlencoded", cookie: csrfCookie },
+    body: new URLSearchParams({ csrfToken, email: account.email, password: account.password, callbackUrl: base, json: "true" }),
+  });
+  const session = response.headers.getSetCookie().find((c) => /^(__Secure-)?next-auth\.session-token=/.test(c));
+  if (!session) throw new Error(`signing in as ${account.email} gave no session cookie (status ${response.status}); is the demo seeded, or is sign-in throttled after failed attempts?`);
+  return session.split(";")[0];
+}
+
+type Phase = { name: string; paths: string[]; target?: { p95Ms: number } };
+
+type PhaseResult = { name: string; requests: number; rps: number; p50: number; p95: number; p99: number; max: number; errors: number; non2xx: number; target?: { p95Ms: number } };
+
+function percentile(sorted: number[], q: number): number {
+  if (sorted.length === 0) return NaN;
+  return sorted[Math.min(sorted.length - 1, Math.floor(q * (sorted.length - 1)))];
+}
+
+async function runPhase(base: string, cookies: string[], phase: Phase, seconds: number, connections: number): Promise<PhaseResult> {
+  const latencies: number[] = [];
+  let next = 0;
+  const result = await new Promise<autocannon.Result>((resolve, reject) => {
+    const instance = autocannon(
+      {
+        url: base,
+        connections,
+        duration: seconds,
+        timeout: 10,
+        // Each connection is one signed-in client; they take the demo accounts in turn.
+        setupClient: (client) => {
+          client.setHeaders({ cookie: cookies[next++ % cookies.length], accept: "application/json" });
+        },
+        requests: phase.paths.map((p) => ({ method: "GET" as const, path: p })),
+      },
+      (error: Error | null, finished: autocannon.Result) => (error ? reject(error) : resolve(finished)),
+    );
+    instance.on("response", (_client, _status, _bytes, responseTime) => latencies.push(responseTime));
+  });
+  latencies.sort((a, b) => a - b);
+  return {
+    name: phase.name,
+    requests: result.requests.total,
+    rps: result.requests.total / (result.duration || seconds),
+    p50: percentile(latencies, 0.5),
+    p95: percentile(latencies, 0.95),
+    p99: percentile(latencies, 0.99),
+    max: latencies[latencies.length - 1] ?? NaN,
+    errors: result.errors + result.timeouts,
+    non2xx: result.non2xx,
+    target: phase.target,
+  };
+}
+
+/** A completed synthetic run with `rows` results (up to 200 indicators × 50 periods) in the workspace; returns its id and a remover. */
+async function syntheticRun(slug: string, rows: number): Promise<{ id: number; remove: () => Promise<void> }> {
+  const { db } = await import("../../lib/db");
+  const { QueryTypes } = await import("sequelize");
+  const [pv] = await db().query<{ id: number; boundary_version_id: number; workspace_id: number }>(
+    `SELECT pv.id, pv.boundary_version_id, p.workspace_id FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
+       JOIN workspaces w ON w.id = p.workspace_id WHERE w.slug = $1 AND pv.state = 'published' ORDER BY pv.id LIMIT 1`,
+    { bind: [slug], type: QueryTypes.SELECT },
+  );
+  if (!pv) throw new Error(`workspace "${slug}" has no published panel version to hang a synthetic run on (is the demo seeded?)`);
+  const periods = Array.from({ length: 50 }, (_, i) => String(1975 + i));
+  const indicators = Array.from({ length: Math.ceil(rows / periods.length) }, (_, i) => `load_indicator_${String(i).padStart(3, "0")}`);
+  const params = { weights: "queen", transform: "row-standardised", islandPolicy: "exclude", permutations: 999, seed: 1, alpha: 0.05, correction: "fdr", indicators, periods, local: false, panelVersionId: pv.id, boundaryVersionId: pv.boundary_version_id, method: "tessera-runs/1" };
+  const [run] = await db().query<{ id: number }>(
+    `INSERT INTO runs (workspace_id, panel_version_id, boundary_version_id, origin, params, seed, state, progress, pieces_total, pieces_done, results_total, started_at, finished_at, created_at, updated_at)
+     VALUES ($1, $2, $3, 'benchmark', $4::jsonb, 1, 'running', 0, $5, 0, 0, now(), NULL, now(), now()) RETURNING id`,
+    { bind: [pv.workspace_id, pv.id, pv.boundary_version_id, JSON.stringify(params), indicators.length], type: QueryTypes.SELECT },
+  );
+  const remove = async () => {
+    await db().query("DELETE FROM runs WHERE id = $1", { bind: [run.id] });
+  };
+  try {
+    // Rows go in while the run is still "running" and it is completed last, so
+    // the run is never a finished run whose results change.
+    await db().query(
+      `INSERT INTO run_pieces (run_id, indicator_code, state, attempts, periods_total, periods_done, created_at, updated_at)
+       SELECT $1, c, 'completed', 1, 50, 50, now(), now() FROM unnest($2::text[]) AS c`,
+      { bind: [run.id, indicators] },
+    );
+    await db().query(
+      `INSERT INTO run_results (run_id, indicator_code, period_key, period_index, status, n, regions_in_boundaries, exclusions, i, expected_i,
+                                z_randomisation, p_randomisation, perm_p, adjusted_p, significance, delta_i, geary_c, general_g, created_at)
+       SELECT $1, ind.c, per.p, per.o - 1, 'computed', 240, 240, '{}'::jsonb, s.v, -1.0/239, s.v * 20, 0.5 * (1 - s.v), 0.001 + (1 - abs(s.v)) * 0.5,
+              0.001 + (1 - abs(s.v)) * 0.6, CASE WHEN s.v > 0.3 THEN 'clustering' WHEN s.v < -0.3 THEN 'dispersion' ELSE 'not-significant' END,
+              s.v / 10, 1 - s.v, 0.02, now()
+         FROM unnest($2::text[]) AS ind(c) CROSS JOIN unnest($3::text[]) WITH ORDINALITY AS per(p, o)
+         CROSS JOIN LATERAL (SELECT sin(length(ind.c) * per.o + ascii(right(ind.c, 1))) AS v) s
+        LIMIT $4`,
+      { bind: [run.id, indicators, periods, rows] },
+    );
+    await db().query(
+      `UPDATE runs SET state = 'completed', progress = 1, pieces_done = pieces_total, results_total = $2, finished_at = now() WHERE id = $1`,
+      { bind: [run.id, rows] },
+    );
+    await db().query("ANALYZE run_results");
+  } catch (error) {
+    await remove();
+    throw error;
+  }
+  return { id: run.id, remove };
+}
+
+function format(results: PhaseResult[]): string {
+  const head = ["phase", "requests", "req/s", "p50 ms", "p95 ms", "p99 ms", "max ms", "errors", "non-2xx", "target"];
+  const lines = results.map((r) => [
+    r.name,
+    String(r.requests),
+    r.rps.toFixed(0),
+    r.p50.toFixed(1),
+    r.p95.toFixed(1),
+    r.p99.toFixed(1),
+    r.max.toFixed(0),
+    String(r.errors),
+    String(r.non2xx),
+    r.target ? `p95 < ${r.target.p95Ms} ms: ${r.p95 < r.target.p95Ms ? "met" : "MISSED"}` : "—",
+  ]);
+  const widths = head.map((h, i) => Math.max(h.length, ...lines.map((l) => l[i].length)));
+  return [head, ...lines].map((cols) => cols.map((c, i) => (i === 0 ? c.padEnd(widths[i]) : c.padStart(widths[i]))).join("  ")).join("\n");
+}
+
+async function main(): Promise<void> {
+  const args = parseArgs(process.argv.slice(2));
+  const base = args.url.replace(/\/$/, "");
+  try {
+    await fetch(`${base}/api/auth/csrf`);
+  } catch {
+    fail(`no Tessera app answers at ${base}; start it with \`npm start\` (or pass --url)`);
+  }
+  const demo = JSON.parse(readFileSync(path.join(ROOT, "seeders", "demo-accounts.json"), "utf8")) as { accounts: Account[] };
+  const cookies = await Promise.all(demo.accounts.map((a) => signIn(base, a)));
+  const api = `/api/w/${args.workspace}`;
+
+  const catalogue = await fetch(`${base}${api}/catalogue`, { headers: { cookie: cookies[0] } });
+  if (!catalogue.ok) fail(`GET ${api}/catalogue answered ${catalogue.status}: ${(await catalogue.text()).slice(0, 200)}`);
+  const demoRows = ((await catalogue.json()) as { rows: { indicator: string; runId: number }[] }).rows;
+  const indicators = [...new Set(demoRows.map((r) => r.indicator))];
+  if (indicators.length === 0) fail(`workspace "${args.workspace}" has no analysed indicator; run the demo analysis (npm start seeds one)`);
+  const timelinePaths = indicators.map((code) => `${api}/timeline?indicator=${encodeURIComponent(code)}`);
+
+  let synthetic: { id: number; remove: () => Promise<void> } | null = null;
+  const cleanUp = async () => {
+    if (synthetic) await synthetic.remove().catch((e: unknown) => process.stderr.write(`load: could not delete synthetic run ${synthetic?.id}: ${String(e)}\n`));
+    synthetic = null;
+  };
+  process.once("SIGINT", () => void cleanUp().finally(() => process.exit(130)));
+  try {
+    if (args.catalogueRows > 0) synthetic = await syntheticRun(args.workspace, args.catalogueRows);
+    const cataloguePaths = synthetic
+      ? [`${api}/catalogue?run=${synthetic.id}`, `${api}/catalogue?run=${synthetic.id}&class=clustering`, `${api}/catalogue?run=${synthetic.id}&from=2000&to=2010&q=indicator_1`]
+      : [`${api}/catalogue`, `${api}/catalogue?class=clustering`];
+    const phases: Phase[] = [
+      { name: synthetic ? `catalogue (${args.catalogueRows.toLocaleString("en")}-row run)` : "catalogue (demo)", paths: cataloguePaths, target: { p95Ms: 200 } },
+      { name: `timeline (${indicators.length} indicators)`, paths: timelinePaths },
+      { name: "mixed", paths: [...cataloguePaths, ...timelinePaths] },
+    ];
+    const seconds = Math.max(1, Math.floor(args.duration / phases.length));
+    console.log(`load: ${base}, ${args.connections} signed-in connections (${demo.accounts.length} accounts), ${seconds} s per phase`);
+    const results: PhaseResult[] = [];
+    for (const phase of phases) results.push(await runPhase(base, cookies, phase, seconds, args.connections));
+    console.log(format(results));
+    const failed = results.reduce((s, r) => s + r.errors + r.non2xx, 0);
+    console.log(failed === 0 ? "errors: 0" : `errors: ${failed} request(s) failed or answered non-2xx`);
+    process.exitCode = failed === 0 ? 0 : 1;
+  } finally {
+    await cleanUp();
+    const { db } = await import("../../lib/db");
+    await db().close().catch(() => undefined);
+  }
+}
+
+main().catch((error: unknown) => {
+  process.stderr.write(`load: ${error instanceof Error ? error.message : String(error)}\n`);
+  process.exit(1);
+});
