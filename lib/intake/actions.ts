@@ -238,7 +238,14 @@ export async function completeUpload(member: MemberContext, uploadId: string): P
   const head = await headObject(upload.s3Key);
   const declared = Number(upload.declaredSize);
   if (!head) return fail("The file never reached storage (the upload was interrupted or blocked). Upload it again.", false);
-  if (head.size !== declared) {
+  // Decided from HEAD alone: an object larger than declared (or than the limit) is never read.
+  if (head.size > declared) {
+    return fail(
+      `The stored file has ${head.size.toLocaleString("en")} bytes, more than the ${declared.toLocaleString("en")} declared when the upload started, so it was refused unread. Upload the file again.`,
+      true,
+    );
+  }
+  if (head.size < declared) {
     return fail(
       `Only ${head.size.toLocaleString("en")} of ${declared.toLocaleString("en")} bytes arrived: the upload was interrupted half-way. Upload the file again.`,
       true,

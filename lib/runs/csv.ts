@@ -1,18 +1,21 @@
 /**
  * CSV export with spreadsheet formula injection neutralised (OWASP "CSV
- * injection"): a text cell that starts with =, +, -, @, a tab or a carriage
- * return is prefixed with a single quote, so a spreadsheet shows it as text
- * instead of evaluating it. Numbers are written as numbers (a negative number
- * is data, not a formula) and never prefixed.
+ * injection"): a text cell that starts with =, +, -, @, a tab, a carriage
+ * return or a line feed (also after leading spaces, which spreadsheets skip)
+ * is prefixed with a single quote, so a spreadsheet shows it as text instead
+ * of evaluating it. Numbers are written as numbers (a negative number is data,
+ * not a formula) and never prefixed, whether they arrive as numbers or as
+ * text such as "-0.123" or "+1e-5".
  */
 
 export type CsvCell = string | number | boolean | null | undefined;
 
-const DANGEROUS_START = /^[=+\-@\t\r]/;
+const DANGEROUS_START = /^(?:[\t\r\n]| *[=+\-@])/;
+const PLAIN_NUMBER = /^ *[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)? *$/;
 
 /** A text cell made safe to open in a spreadsheet. */
 export function neutraliseCell(text: string): string {
-  return DANGEROUS_START.test(text) ? `'${text}` : text;
+  return DANGEROUS_START.test(text) && !PLAIN_NUMBER.test(text) ? `'${text}` : text;
 }
 
 /** One cell, neutralised and quoted as RFC 4180 requires. */
