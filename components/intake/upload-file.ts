@@ -8,6 +8,19 @@ export async function sha256OfFile(file: Blob): Promise<string> {
   return Array.from(new Uint8Array(digest), (b) => b.toString(16).padStart(2, "0")).join("");
 }
 
+/**
+ * What the upload screen says when the browser's PUT to the file store fails:
+ * no answer at all (`"network"`: the store is down or the connection dropped),
+ * a 5xx (the store is up but failing), or another refusal.
+ */
+export function putFailureMessage(outcome: number | "network"): string {
+  if (outcome === "network") {
+    return "The file store did not answer, so the file was not uploaded (the store may be unavailable, or the connection dropped). Nothing was recorded; try again in a few minutes.";
+  }
+  if (outcome >= 500) return `The file store is unavailable (HTTP ${outcome}), so the file was not uploaded. Nothing was recorded; try again in a few minutes.`;
+  return `The file store refused the file (HTTP ${outcome}). Upload it again; if it keeps happening, tell your manager.`;
+}
+
 /** PUTs `file` to a presigned URL, reporting the fraction sent; rejects with a sentence on network errors or a non-2xx answer. */
 export function putWithProgress(url: string, file: Blob, contentType: string, onProgress: (fraction: number) => void, signal?: AbortSignal): Promise<void> {
   return new Promise((resolve, reject) => {
@@ -21,9 +34,9 @@ export function putWithProgress(url: string, file: Blob, contentType: string, on
       if (xhr.status >= 200 && xhr.status < 300) {
         onProgress(1);
         resolve();
-      } else reject(new Error(`Storage refused the file (HTTP ${xhr.status}). Try again; if it keeps happening, tell your manager.`));
+      } else reject(new Error(putFailureMessage(xhr.status)));
     };
-    xhr.onerror = () => reject(new Error("The upload was interrupted (network error). Check the connection and upload again."));
+    xhr.onerror = () => reject(new Error(putFailureMessage("network")));
     xhr.onabort = () => reject(new Error("The upload was cancelled."));
     signal?.addEventListener("abort", () => xhr.abort());
     xhr.send(file);

@@ -1,4 +1,7 @@
 import type { z } from "zod";
+import { isDatabaseUnavailable } from "@/lib/db";
+import { UNAVAILABLE_MESSAGES } from "@/lib/service-unavailable";
+import { StorageUnavailableError } from "@/lib/storage/errors";
 import { AccessError, ConflictError, NotFoundError } from "./errors";
 import { requireMember, type MemberContext } from "./guard";
 import type { Capability } from "./roles";
@@ -35,6 +38,12 @@ export function invalidBody(error: z.ZodError): Response {
 export function errorResponse(error: unknown): Response {
   if (error instanceof AccessError) return jsonError(error.status, error.message);
   if (error instanceof ConflictError || error instanceof NotFoundError) return jsonError(error.status, error.message);
+  // Outages pass: 503 with a plain sentence; the log keeps one line, not a stack per request.
+  const outage = error instanceof StorageUnavailableError ? error.message : isDatabaseUnavailable(error) ? UNAVAILABLE_MESSAGES.database : null;
+  if (outage) {
+    console.warn(`[tessera] service unavailable: ${error instanceof StorageUnavailableError ? error.detail : String(error)}`);
+    return jsonError(503, outage, { retryable: true });
+  }
   console.error("[tessera] route handler failed", error);
   return jsonError(500, "Something went wrong on our side. Try again; if it keeps happening, tell your manager.");
 }

@@ -3,6 +3,7 @@ import { getSignedUrl } from "@aws-sdk/s3-request-presigner";
 import type { Readable } from "node:stream";
 import { z } from "zod";
 import { env } from "@/lib/config/env";
+import { StorageUnavailableError, isStorageOutage } from "./errors";
 
 const globalForS3 = globalThis as unknown as { tesseraS3?: S3Client };
 
@@ -21,6 +22,9 @@ export function s3Client(): S3Client {
       credentials: { accessKeyId: e.S3_ACCESS_KEY_ID, secretAccessKey: e.S3_SECRET_ACCESS_KEY },
       requestChecksumCalculation: "WHEN_REQUIRED",
       responseChecksumValidation: "WHEN_REQUIRED",
+      // Without a connect timeout a store that drops packets hangs the request for minutes;
+      // socketTimeout ends a stalled transfer (large streamed GETs keep the socket busy, so it does not fire on them).
+      requestHandler: { connectionTimeout: 5_000, socketTimeout: 60_000 },
     });
   }
   return globalForS3.tesseraS3;
@@ -52,19 +56,47 @@ function where(k: string): string {
   return `s3://${bucket()}/${k} at ${env().S3_ENDPOINT}`;
 }
 
-function wrap(action: string, k: string, err: unknown): Error {
-  const reason = err instanceof Error ? `${err.name}: ${err.message}` : String(err);
-  return new Error(`S3 ${action} ${where(k)} failed: ${reason}`);
+type Action = "PUT" | "GET" | "HEAD" | "DELETE";
+const WHAT_FAILED: Record<Action, string> = { PUT: "the file could not be stored", GET: "the file could not be read", HEAD: "the file could not be checked", DELETE: "the file could not be removed" };
+
+/**
+ * An outage (refused, timed out, 5xx) becomes a StorageUnavailableError whose
+ * message is fit for the user (routes answer 503 with it); anything else keeps
+ * the technical detail for the log.
+ */
+function wrap(action: Action, k: string, err: unknown): Error {
+  const reason = err instanceof Error ? `${err.name}: ${err.message || ("code" in err ? String(err.code) : "")}` : String(err);
+  const detail = `S3 ${action} ${where(k)} failed: ${reason}`;
+  if (isStorageOutage(err)) {
+    return new StorageUnavailableError(`The file store (S3 bucket "${bucket()}") is unavailable, so ${WHAT_FAILED[action]}. Try again in a few minutes.`, detail);
+  }
+  return new Error(detail);
+}
+
+/**
+ * Signing is local, so a URL for a store that is down would only fail later in
+ * the browser. One HEAD of the key first (any answer, even 403 or 404, means the
+ * store is up) turns an outage into a StorageUnavailableError before the
+ * caller records anything.
+ */
+async function assertStoreAnswers(k: string): Promise<void> {
+  try {
+    await s3Client().send(new HeadObjectCommand({ Bucket: bucket(), Key: k }));
+  } catch (err) {
+    if (isStorageOutage(err)) throw wrap("PUT", k, err);
+  }
 }
 
 /**
  * A presigned PUT URL. The browser must send exactly `contentType` as its
- * Content-Type header (it is part of the signature).
+ * Content-Type header (it is part of the signature). Throws
+ * StorageUnavailableError when the store does not answer.
  */
 export async function presignPut(objectKey: string, contentType: string, options: { expiresInSeconds?: number } = {}): Promise<string> {
   const k = key(objectKey);
   const type = contentTypeSchema.parse(contentType);
   const expiresIn = expiresSchema.parse(options.expiresInSeconds ?? 900);
+  await assertStoreAnswers(k);
   // Sign the Content-Type header too, so an upload with any other type is refused.
   return getSignedUrl(s3Client(), new PutObjectCommand({ Bucket: bucket(), Key: k, ContentType: type }), {
     expiresIn,

@@ -16,7 +16,7 @@ function requireVar(name: string): string {
   return value;
 }
 
-function canConnect(host: string, port: number, timeoutMs = 1_500): Promise<boolean> {
+export function canConnect(host: string, port: number, timeoutMs = 1_500): Promise<boolean> {
   return new Promise((resolve) => {
     const socket = net.connect({ host, port });
     const done = (ok: boolean) => {
