@@ -1,0 +1,262 @@
+import { readdirSync, readFileSync } from "node:fs";
+import path from "node:path";
+import { ACCESS_MESSAGES } from "@/lib/auth/errors";
+import { CAPABILITIES, ROLES, can } from "@/lib/auth/roles";
+import { getSessionUser, type SessionUser } from "@/lib/auth/session";
+import { closeIntakePool } from "@/lib/intake/ingest-db";
+import { closeConnections } from "@/tests/helpers/teardown";
+import { requireTestServices } from "@/tests/helpers/env";
+import { buildWorld, CALLERS, type Caller, type World } from "./fixtures-world";
+import {
+  DESIGN_ROLES,
+  METHODS,
+  PUBLIC_ROWS,
+  SERVER_ACTION_FILES,
+  WORKSPACE_ROWS,
+  urlOf,
+  type Call,
+  type Method,
+  type PublicRow,
+  type WorkspaceRow,
+} from "./route-matrix";
+import type { Handler } from "./route-matrix-public";
+
+// Every route handler, called in-process with a real Request as each role,
+// as a manager of another workspace and signed out, against the real
+// PostgreSQL, S3 and job queue. Only "who is signed in" is stood in for.
+jest.mock("@/lib/auth/session", () => ({ getSessionUser: jest.fn() }));
+const sessionMock = getSessionUser as jest.MockedFunction<typeof getSessionUser>;
+
+jest.setTimeout(120_000);
+
+const ROOT = process.cwd();
+const ROWS: (WorkspaceRow | PublicRow)[] = [...WORKSPACE_ROWS, ...PUBLIC_ROWS];
+let world: World;
+
+beforeAll(async () => {
+  await requireTestServices();
+  world = await buildWorld();
+});
+afterAll(async () => {
+  await closeIntakePool();
+  await closeConnections();
+});
+
+function signedInAs(user: { id: number; email: string; name: string } | null): void {
+  sessionMock.mockResolvedValue(user ? ({ id: user.id, email: user.email, name: user.name } satisfies SessionUser) : null);
+}
+
+function signInCaller(caller: Caller): void {
+  if (caller === "signed-out") signedInAs(null);
+  else if (caller === "outsider") signedInAs(world.outsider);
+  else signedInAs(world.users[caller]);
+}
+
+/** Files under `dir` (relative to the project root) whose names match `pattern`. */
+function filesUnder(dir: string, pattern: RegExp): string[] {
+  const absolute = path.join(ROOT, dir);
+  return (readdirSync(absolute, { recursive: true, withFileTypes: true }) as import("node:fs").Dirent[])
+    .filter((entry) => entry.isFile() && pattern.test(entry.name))
+    .map((entry) => path.relative(ROOT, path.join(entry.parentPath, entry.name)).split(path.sep).join("/"))
+    .sort();
+}
+
+const modules = new Map<string, Record<string, unknown>>();
+async function routeModule(route: string): Promise<Record<string, unknown>> {
+  let loaded = modules.get(route);
+  if (!loaded) {
+    loaded = (await import(path.join(ROOT, route))) as Record<string, unknown>;
+    modules.set(route, loaded);
+  }
+  return loaded;
+}
+
+async function handlerOf(route: string, method: Method): Promise<Handler> {
+  const handler = (await routeModule(route))[method];
+  if (typeof handler !== "function") throw new Error(`${route} exports no ${method} handler`);
+  return handler as Handler;
+}
+
+function requestFor(row: WorkspaceRow, call: Call, rawBody?: string): Request {
+  const url = `http://tessera.test${urlOf(row.route).replace(/\[(\w+)\]/g, (_, name: string) => call.params[name] ?? name)}${call.search !== undefined ? `?${call.search}` : ""}`;
+  const body = rawBody ?? (call.body === undefined ? undefined : JSON.stringify(call.body));
+  return new Request(url, { method: row.method, headers: body === undefined ? {} : { "content-type": "application/json" }, body });
+}
+
+async function send(row: WorkspaceRow, call: Call, rawBody?: string): Promise<Response> {
+  const handler = await handlerOf(row.route, row.method);
+  return handler(requestFor(row, call, rawBody), { params: Promise.resolve(call.params) });
+}
+
+function expectedStatus(row: WorkspaceRow, caller: Caller): number {
+  if (caller === "signed-out") return 401;
+  if (caller === "outsider") return 404;
+  return DESIGN_ROLES[row.capability].includes(caller) ? row.ok : 403;
+}
+
+const CALLER_LABELS: Record<Caller, string> = {
+  manager: "manager",
+  steward: "steward",
+  economist: "economist",
+  subscriber: "subscriber",
+  outsider: "manager of another workspace",
+  "signed-out": "signed-out visitor",
+};
+
+/** The body of a response, as JSON when it is JSON; for messages in failures. */
+async function bodyOf(response: Response): Promise<unknown> {
+  const text = await response.text();
+  try {
+    return JSON.parse(text);
+  } catch {
+    return text.slice(0, 300);
+  }
+}
+
+describe("the matrix lists every route handler and server action", () => {
+  it("has a row for every (route file, exported method) pair and none for a pair that is gone", async () => {
+    const discovered: string[] = [];
+    for (const file of filesUnder("app", /^route\.(ts|tsx|js)$/)) {
+      const mod = await routeModule(file);
+      for (const method of METHODS) if (typeof mod[method] === "function") discovered.push(`${method} ${file}`);
+    }
+    const listed = new Set(ROWS.map((r) => `${r.method} ${r.route}`));
+    const missing = discovered.filter((pair) => !listed.has(pair));
+    const stale = [...listed].filter((pair) => !discovered.includes(pair));
+    expect(discovered.length).toBeGreaterThan(30);
+    if (missing.length) {
+      throw new Error(
+        `The access matrix has no row for:\n  ${missing.join("\n  ")}\nAdd a row for each to tests/integration/security/route-matrix.ts (workspace routes) or route-matrix-public.ts (routes outside workspaces): the capability it needs, how to build its params for a fresh fixture, and a valid body.`,
+      );
+    }
+    if (stale.length) throw new Error(`The access matrix has rows for routes that no longer exist:\n  ${stale.join("\n  ")}\nRemove them from tests/integration/security/route-matrix*.ts.`);
+  });
+
+  it("lists every file with a \"use server\" directive (server actions), and no file that lost it", () => {
+    const directive = /^\s*(["'])use server\1\s*;?\s*$/m;
+    const found = ["app", "lib", "components"]
+      .flatMap((dir) => filesUnder(dir, /\.(ts|tsx|js|jsx|mjs)$/))
+      .filter((file) => directive.test(readFileSync(path.join(ROOT, file), "utf8")));
+    const listed = SERVER_ACTION_FILES.map((s) => s.file);
+    const unlisted = found.filter((f) => !listed.includes(f));
+    if (unlisted.length) {
+      throw new Error(`Server actions not in the access matrix:\n  ${unlisted.join("\n  ")}\nList each in SERVER_ACTION_FILES in tests/integration/security/route-matrix.ts and add rows that call its actions as every role.`);
+    }
+    expect(listed.filter((f) => !found.includes(f))).toEqual([]);
+  });
+
+  it("authorises every workspace route through memberRoute with the capability its row names", () => {
+    const wrong: string[] = [];
+    for (const row of WORKSPACE_ROWS) {
+      const source = readFileSync(path.join(ROOT, row.route), "utf8");
+      const match = new RegExp(`export const ${row.method} = memberRoute\\(\\s*\\{([^}]*)\\}`).exec(source);
+      const capability = match ? /capability:\s*"([^"]+)"/.exec(match[1])?.[1] : undefined;
+      if (capability !== row.capability) wrong.push(`${row.method} ${row.route}: code says ${capability ?? "(no memberRoute)"}, the matrix ${row.capability}`);
+      const hasBodySchema = match ? /\bbody:/.test(match[1]) : false;
+      if (hasBodySchema !== Boolean(row.invalidBody)) wrong.push(`${row.method} ${row.route}: ${hasBodySchema ? "has a body schema but its row no invalidBody case" : "its row has an invalidBody case but memberRoute has no body schema"}`);
+    }
+    expect(wrong).toEqual([]);
+  });
+
+  it("lets no route handler read the request body itself, unless its row says why and tests a schema-invalid body", () => {
+    const reads = /\b(request|req)\s*\.\s*(json|text|formData|arrayBuffer|blob|body)\b/;
+    const offenders: string[] = [];
+    for (const file of filesUnder("app", /^route\.(ts|tsx|js)$/)) {
+      if (!reads.test(readFileSync(path.join(ROOT, file), "utf8"))) continue;
+      const rows = PUBLIC_ROWS.filter((r) => r.route === file);
+      const documented = rows.some((r) => r.readsBodyItself && r.cases.some((c) => c.invalidBody));
+      if (!documented) offenders.push(file);
+    }
+    // next-auth reads its body inside the library; its row documents that too.
+    for (const row of PUBLIC_ROWS.filter((r) => r.readsBodyItself)) {
+      expect(row.cases.some((c) => c.invalidBody)).toBe(true);
+    }
+    if (offenders.length) {
+      throw new Error(`These route handlers read the request body themselves instead of through memberRoute's \`body\` schema:\n  ${offenders.join("\n  ")}\nUse memberRoute({ capability, body: schema }), or document why in the row (readsBodyItself) and add a schema-invalid body case.`);
+    }
+  });
+
+  it("has lib/auth/roles.ts grant exactly the capabilities of DESIGN.md §Roles", () => {
+    for (const capability of CAPABILITIES) {
+      expect(ROLES.filter((role) => can(role, capability))).toEqual(DESIGN_ROLES[capability]);
+    }
+  });
+});
+
+for (const row of WORKSPACE_ROWS) {
+  const where = `${row.method} ${urlOf(row.route)}`;
+  describe(`${where} needs ${row.capability}: ${row.does}`, () => {
+    for (const caller of CALLERS) {
+      const expected = expectedStatus(row, caller);
+      it(`${CALLER_LABELS[caller]} gets ${expected} from ${where}`, async () => {
+        const call = await row.prepare(world, caller);
+        const before = expected >= 400 && row.effect ? await row.effect(world, call) : undefined;
+        signInCaller(caller);
+        const response = await send(row, call);
+        const body = await bodyOf(response);
+        if (response.status !== expected) throw new Error(`${CALLER_LABELS[caller]} got ${response.status} from ${where}, expected ${expected}: ${JSON.stringify(body)}`);
+        if (expected === 401 || expected === 403) expect(body).toEqual({ error: ACCESS_MESSAGES[expected] });
+        if (expected === 404) {
+          // Indistinguishable from a workspace that does not exist.
+          const missing = await send(row, { ...call, params: { ...call.params, slug: `no-such-workspace-${Date.now().toString(36)}` } });
+          expect(missing.status).toBe(404);
+          expect(body).toEqual(await bodyOf(missing));
+        }
+        if (before !== undefined) expect(await row.effect?.(world, call)).toEqual(before);
+      });
+    }
+
+    const invalidBody = row.invalidBody;
+    if (invalidBody) {
+      const allowed = DESIGN_ROLES[row.capability][0] as Caller;
+      it(`${allowed} gets 400 for malformed JSON sent to ${where}`, async () => {
+        const call = await row.prepare(world, allowed);
+        signInCaller(allowed);
+        const response = await send(row, call, '{"not json"');
+        expect(response.status).toBe(400);
+        expect(await response.json()).toEqual({ error: "The request body is not valid JSON.", field: null });
+      });
+      it(`${allowed} gets 400 naming "${invalidBody.field}" for a schema-invalid body sent to ${where}`, async () => {
+        const call = await row.prepare(world, allowed);
+        const before = row.effect ? await row.effect(world, call) : undefined;
+        signInCaller(allowed);
+        const response = await send(row, { ...call, body: invalidBody.body });
+        const body = (await response.json()) as { field: string; error: string };
+        expect(response.status).toBe(400);
+        expect(body.field).toBe(invalidBody.field);
+        expect(body.error.startsWith(`${invalidBody.field}: `)).toBe(true);
+        if (row.effect) expect(await row.effect(world, call)).toEqual(before);
+      });
+    }
+
+    const invalidQuery = row.invalidQuery;
+    if (invalidQuery) {
+      const allowed = DESIGN_ROLES[row.capability].at(-1) as Caller;
+      it(`${allowed} gets 400 naming "${invalidQuery.field}" for a bad query string on ${where}`, async () => {
+        const call = await row.prepare(world, allowed);
+        signInCaller(allowed);
+        const response = await send(row, { ...call, search: invalidQuery.search(world) });
+        const body = (await response.json()) as { field: string; error: string };
+        expect(response.status).toBe(400);
+        expect(body.field).toBe(invalidQuery.field);
+        expect(body.error).toContain(invalidQuery.field);
+      });
+    }
+  });
+}
+
+for (const row of PUBLIC_ROWS) {
+  const where = `${row.method} ${urlOf(row.route)}`;
+  describe(`${where} (outside workspaces): ${row.rule}`, () => {
+    for (const c of row.cases) {
+      it(`${where}: ${c.name}`, async () => {
+        signedInAs(null);
+        const handler = await handlerOf(row.route, row.method);
+        const response = await c.run({ handler, world, signInAs: signedInAs });
+        if (response.status !== c.status) throw new Error(`${where} answered ${response.status}, expected ${c.status}: ${JSON.stringify(await bodyOf(response.clone()))}`);
+        expect(response.status).toBeLessThan(500);
+        await c.check?.(response, world);
+      });
+    }
+  });
+}

@@ -1,0 +1,415 @@
+import { randomBytes } from "node:crypto";
+import { NextRequest } from "next/server";
+import { QueryTypes } from "sequelize";
+import { db } from "@/lib/db";
+import { signUnsubscribeToken } from "@/lib/digests/token";
+import { makeUser, PASSWORD } from "@/tests/integration/auth/fixtures";
+import { callInRequestScope, cookieHeader, setCookies } from "./fixtures-next";
+import { extraMember, pendingInvitation, subscriptionFor, type World } from "./fixtures-world";
+import type { Method } from "./route-matrix";
+
+// Rows of the access matrix for the routes that belong to no workspace. Each
+// has its own rule (a token is the credential, or next-auth's own protocol)
+// and is checked case by case; none may ever answer 5xx to bad input.
+
+type SessionLike = { id: number; email: string; name: string };
+export type Handler = (request: Request, context: { params: Promise<Record<string, string | string[]>> }) => Promise<Response>;
+
+export interface PublicCase {
+  name: string;
+  status: number;
+  /** The case showing that a body this handler reads itself is checked against a schema. */
+  invalidBody?: boolean;
+  run: (t: { handler: Handler; world: World; signInAs: (user: SessionLike | null) => void }) => Promise<Response>;
+  check?: (response: Response, world: World) => Promise<void>;
+}
+
+export interface PublicRow {
+  kind: "public";
+  route: string;
+  method: Method;
+  /** The access rule of this route, in words. */
+  rule: string;
+  /** Why the handler reads the request body itself instead of through memberRoute, and which schema applies. */
+  readsBodyItself?: string;
+  cases: PublicCase[];
+}
+
+const BASE = "http://tessera.test";
+
+async function subscriptionActive(id: number): Promise<boolean | null> {
+  const rows = await db().query<{ active: boolean }>("SELECT active FROM digest_subscriptions WHERE id = $1", { bind: [id], type: QueryTypes.SELECT });
+  return rows[0]?.active ?? null;
+}
+
+async function attemptsFor(email: string): Promise<number> {
+  const rows = await db().query<{ n: number }>("SELECT count(*)::int AS n FROM login_attempts WHERE email = $1", { bind: [email], type: QueryTypes.SELECT });
+  return rows[0]?.n ?? 0;
+}
+
+async function roleOf(world: World, email: string): Promise<string | null> {
+  const rows = await db().query<{ role: string }>(
+    "SELECT m.role FROM memberships m JOIN users u ON u.id = m.user_id WHERE m.workspace_id = $1 AND u.email = $2",
+    { bind: [world.workspace.id, email], type: QueryTypes.SELECT },
+  );
+  return rows[0]?.role ?? null;
+}
+
+/** A fresh member with an active subscription, and a signed unsubscribe token for it. */
+async function subscribedMember(world: World, options: { ttlSeconds?: number } = {}) {
+  const member = await extraMember(world, "subscriber");
+  const subscriptionId = await subscriptionFor(world, member.id);
+  return { subscriptionId, token: signUnsubscribeToken(subscriptionId, { ttlSeconds: options.ttlSeconds }) };
+}
+
+function jsonPost(body: string): Request {
+  return new Request(`${BASE}/api/invitations/accept`, { method: "POST", headers: { "content-type": "application/json" }, body });
+}
+
+const accept = (handler: Handler, body: unknown) => handler(jsonPost(JSON.stringify(body)), { params: Promise.resolve({}) });
+const neverIssuedToken = () => randomBytes(32).toString("base64url");
+
+// ——— next-auth
+
+const AUTH_PAGE = "/api/auth/[...nextauth]/route";
+const clientIp = () => `203.0.113.${1 + Math.floor(Math.random() * 250)}`;
+
+function authRequest(action: string[], init: { method?: string; cookies?: Record<string, string>; form?: Record<string, string>; ip?: string } = {}): NextRequest {
+  const headers: Record<string, string> = { "x-forwarded-for": init.ip ?? clientIp() };
+  if (init.cookies) headers.cookie = cookieHeader(init.cookies);
+  if (init.form) headers["content-type"] = "application/x-www-form-urlencoded";
+  return new NextRequest(`${process.env.NEXTAUTH_URL ?? BASE}/api/auth/${action.join("/")}`, {
+    method: init.method ?? "GET",
+    headers,
+    body: init.form ? new URLSearchParams(init.form).toString() : undefined,
+  });
+}
+
+const callAuth = (handler: Handler, action: string[], init: Parameters<typeof authRequest>[1] = {}) =>
+  callInRequestScope(handler, authRequest(action, init), AUTH_PAGE, { nextauth: action });
+
+/** A CSRF token and its cookie, from next-auth's own csrf endpoint (the GET handler). */
+async function csrf(): Promise<{ token: string; cookies: Record<string, string> }> {
+  const { GET } = (await import("@/app/api/auth/[...nextauth]/route")) as unknown as { GET: Handler };
+  const response = await callAuth(GET, ["csrf"]);
+  const { csrfToken } = (await response.json()) as { csrfToken: string };
+  return { token: csrfToken, cookies: setCookies(response).values };
+}
+
+async function signIn(handler: Handler, form: Record<string, string>, withCsrf = true): Promise<Response> {
+  const c = await csrf();
+  return callAuth(handler, ["callback", "credentials"], {
+    method: "POST",
+    cookies: withCsrf ? c.cookies : {},
+    form: { ...form, ...(withCsrf ? { csrfToken: c.token } : {}), json: "true" },
+  });
+}
+
+const SESSION_COOKIE = "next-auth.session-token";
+
+export const PUBLIC_ROWS: PublicRow[] = [
+  {
+    kind: "public",
+    route: "app/api/auth/[...nextauth]/route.ts",
+    method: "GET",
+    rule: "next-auth's own endpoints (providers, csrf, session): public by design; a session is whatever the signed JWT cookie says",
+    cases: [
+      {
+        name: "a signed-out visitor gets 200 and an empty session",
+        status: 200,
+        run: ({ handler }) => callAuth(handler, ["session"]),
+        check: async (response) => expect(await response.json()).toEqual({}),
+      },
+      {
+        name: "the providers list offers e-mail and password only",
+        status: 200,
+        run: ({ handler }) => callAuth(handler, ["providers"]),
+        check: async (response) => expect(Object.keys((await response.json()) as object)).toEqual(["credentials"]),
+      },
+      {
+        name: "the CSRF token comes with an HttpOnly, SameSite=Lax cookie",
+        status: 200,
+        run: ({ handler }) => callAuth(handler, ["csrf"]),
+        check: async (response) => {
+          const csrfLine = setCookies(response).lines.find((l) => l.startsWith("next-auth.csrf-token="));
+          expect(csrfLine).toMatch(/HttpOnly/);
+          expect(csrfLine).toMatch(/SameSite=Lax/);
+        },
+      },
+      {
+        name: "an unknown action gets a 4xx, never a 5xx",
+        status: 400,
+        run: ({ handler }) => callAuth(handler, ["no-such-action"]),
+      },
+    ],
+  },
+  {
+    kind: "public",
+    route: "app/api/auth/[...nextauth]/route.ts",
+    method: "POST",
+    rule: "sign-in with e-mail and password: needs next-auth's CSRF token; wrong or malformed credentials get no session; attempts are recorded and throttled (lib/auth/credentials)",
+    readsBodyItself:
+      "next-auth parses its own form-encoded body; Tessera's part, the credentials, is parsed with signInSchema (lib/auth/schemas.ts) in lib/auth/options.ts authorize()",
+    cases: [
+      {
+        name: "the right password with the CSRF token gets a session cookie (HttpOnly) naming the user",
+        status: 200,
+        run: async ({ handler }) => {
+          const user = await makeUser("matrix-signin");
+          const response = await signIn(handler, { email: user.email, password: PASSWORD });
+          const cookie = setCookies(response);
+          expect(cookie.lines.find((l) => l.startsWith(`${SESSION_COOKIE}=`))).toMatch(/HttpOnly/);
+          const { GET } = (await import("@/app/api/auth/[...nextauth]/route")) as unknown as { GET: Handler };
+          const session = await callAuth(GET, ["session"], { cookies: { [SESSION_COOKIE]: cookie.values[SESSION_COOKIE] } });
+          expect(((await session.json()) as { user?: { email?: string; id?: number } }).user).toMatchObject({ email: user.email, id: user.id });
+          return response;
+        },
+      },
+      {
+        name: "a wrong password gets 401, no session and the CredentialsSignin error",
+        status: 401,
+        run: async ({ handler }) => {
+          const user = await makeUser("matrix-wrong");
+          const response = await signIn(handler, { email: user.email, password: "not the password at all" });
+          expect(await attemptsFor(user.email)).toBe(1);
+          return response;
+        },
+        check: async (response) => {
+          expect(setCookies(response).values[SESSION_COOKIE]).toBeUndefined();
+          expect(((await response.json()) as { url: string }).url).toContain("error=CredentialsSignin");
+        },
+      },
+      {
+        name: "a schema-invalid body (no password) gets 401, no session and the CredentialsSignin error, never a 5xx",
+        status: 401,
+        invalidBody: true,
+        run: async ({ handler }) => {
+          const user = await makeUser("matrix-empty");
+          const response = await signIn(handler, { email: user.email, password: "" });
+          // Refused by signInSchema before any password check: no attempt is recorded.
+          expect(await attemptsFor(user.email)).toBe(0);
+          return response;
+        },
+        check: async (response) => {
+          expect(setCookies(response).values[SESSION_COOKIE]).toBeUndefined();
+          expect(((await response.json()) as { url: string }).url).toContain("error=CredentialsSignin");
+        },
+      },
+      {
+        name: "the right password without the CSRF token gets no session (sent back to sign in)",
+        status: 200,
+        run: async ({ handler }) => {
+          const user = await makeUser("matrix-nocsrf");
+          return signIn(handler, { email: user.email, password: PASSWORD }, false);
+        },
+        check: async (response) => {
+          expect(setCookies(response).values[SESSION_COOKIE]).toBeUndefined();
+          expect(((await response.json()) as { url: string }).url).toContain("csrf=true");
+        },
+      },
+    ],
+  },
+  {
+    kind: "public",
+    route: "app/api/invitations/accept/route.ts",
+    method: "POST",
+    rule: "the invitation token is the credential; a new address may accept signed out (creating the account), an existing account must be signed in as the invited address",
+    readsBodyItself: "there is no workspace membership yet for memberRoute to check; the body is parsed with acceptInvitationSchema (lib/auth/schemas.ts)",
+    cases: [
+      {
+        name: "a token that was never issued gets 410, never a 5xx",
+        status: 410,
+        run: ({ handler }) => accept(handler, { token: neverIssuedToken(), name: "Nobody", password: "long enough password" }),
+      },
+      {
+        name: "malformed JSON gets 400",
+        status: 400,
+        run: ({ handler }) => handler(jsonPost("{token:"), { params: Promise.resolve({}) }),
+        check: async (response) => expect(await response.json()).toMatchObject({ error: "The request body is not valid JSON." }),
+      },
+      {
+        name: "a body without a token gets 400 naming the field token",
+        status: 400,
+        invalidBody: true,
+        run: ({ handler }) => accept(handler, { name: "No Token" }),
+        check: async (response) => expect(await response.json()).toMatchObject({ field: "token" }),
+      },
+      {
+        name: "a new address accepts signed out (by design): 200, an account and the invited role",
+        status: 200,
+        run: async ({ handler, world }) => {
+          const invitation = await pendingInvitation(world);
+          const response = await accept(handler, { token: invitation.token, name: "New Colleague", password: "a long new password" });
+          expect(await roleOf(world, invitation.email)).toBe("economist");
+          return response;
+        },
+        check: async (response) => expect(await response.json()).toMatchObject({ createdAccount: true }),
+      },
+      {
+        name: "a token used once gets 410 the second time",
+        status: 410,
+        run: async ({ handler, world }) => {
+          const invitation = await pendingInvitation(world);
+          expect((await accept(handler, { token: invitation.token, name: "Once", password: "a long new password" })).status).toBe(200);
+          return accept(handler, { token: invitation.token, name: "Twice", password: "a long new password" });
+        },
+      },
+      {
+        name: "an existing account signed out gets 401 and no membership",
+        status: 401,
+        run: async ({ handler, world }) => {
+          const user = await makeUser("matrix-existing");
+          const invitation = await pendingInvitation(world, user.email);
+          const response = await accept(handler, { token: invitation.token });
+          expect(await roleOf(world, user.email)).toBeNull();
+          return response;
+        },
+      },
+      {
+        name: "an existing account's invitation, signed in as someone else, gets 403 and no membership",
+        status: 403,
+        run: async ({ handler, world, signInAs }) => {
+          const user = await makeUser("matrix-invited");
+          const invitation = await pendingInvitation(world, user.email);
+          signInAs(world.outsider);
+          const response = await accept(handler, { token: invitation.token });
+          expect(await roleOf(world, user.email)).toBeNull();
+          expect(await roleOf(world, world.outsider.email)).toBeNull();
+          return response;
+        },
+      },
+      {
+        name: "an existing account signed in as the invited address gets 200 and the invited role",
+        status: 200,
+        run: async ({ handler, world, signInAs }) => {
+          const user = await makeUser("matrix-joins");
+          const invitation = await pendingInvitation(world, user.email);
+          signInAs(user);
+          const response = await accept(handler, { token: invitation.token });
+          expect(await roleOf(world, user.email)).toBe("economist");
+          return response;
+        },
+      },
+    ],
+  },
+  {
+    kind: "public",
+    route: "app/api/digests/unsubscribe/route.ts",
+    method: "GET",
+    rule: "the signed token in the link is the credential (no session needed); GET only shows a confirmation and never changes anything, because mail scanners follow links",
+    cases: [
+      {
+        name: "a valid token, signed out, gets 200 and the subscription stays active",
+        status: 200,
+        run: async ({ handler, world }) => {
+          const s = await subscribedMember(world);
+          const response = await handler(new Request(`${BASE}/api/digests/unsubscribe?token=${s.token}`), { params: Promise.resolve({}) });
+          expect(await subscriptionActive(s.subscriptionId)).toBe(true);
+          return response;
+        },
+      },
+      {
+        name: "a tampered token gets 400 and changes nothing",
+        status: 400,
+        run: async ({ handler, world }) => {
+          const s = await subscribedMember(world);
+          const response = await handler(new Request(`${BASE}/api/digests/unsubscribe?token=${s.token.slice(0, -2)}xx`), { params: Promise.resolve({}) });
+          expect(await subscriptionActive(s.subscriptionId)).toBe(true);
+          return response;
+        },
+      },
+      {
+        name: "no token at all gets 400",
+        status: 400,
+        run: ({ handler }) => handler(new Request(`${BASE}/api/digests/unsubscribe`), { params: Promise.resolve({}) }),
+      },
+    ],
+  },
+  {
+    kind: "public",
+    route: "app/api/digests/unsubscribe/route.ts",
+    method: "POST",
+    rule: "one-click unsubscribe (RFC 8058): the signed token is the credential, from the link or a form field; a bad, expired or forged token changes nothing",
+    readsBodyItself:
+      "RFC 8058 mail clients POST form-encoded `List-Unsubscribe=One-Click`, not JSON; the only field read is `token`, which verifyUnsubscribeToken (lib/digests/token.ts) checks for shape, HMAC signature and expiry",
+    cases: [
+      {
+        name: "a valid token in the link (one-click form body), signed out, gets 200 and stops the subscription",
+        status: 200,
+        run: async ({ handler, world }) => {
+          const s = await subscribedMember(world);
+          const response = await handler(
+            new Request(`${BASE}/api/digests/unsubscribe?token=${s.token}`, {
+              method: "POST",
+              headers: { "content-type": "application/x-www-form-urlencoded" },
+              body: "List-Unsubscribe=One-Click",
+            }),
+            { params: Promise.resolve({}) },
+          );
+          expect(await subscriptionActive(s.subscriptionId)).toBe(false);
+          return response;
+        },
+      },
+      {
+        name: "a valid token as a form field gets 200 and stops the subscription",
+        status: 200,
+        run: async ({ handler, world }) => {
+          const s = await subscribedMember(world);
+          const response = await handler(
+            new Request(`${BASE}/api/digests/unsubscribe`, {
+              method: "POST",
+              headers: { "content-type": "application/x-www-form-urlencoded" },
+              body: new URLSearchParams({ token: s.token }).toString(),
+            }),
+            { params: Promise.resolve({}) },
+          );
+          expect(await subscriptionActive(s.subscriptionId)).toBe(false);
+          return response;
+        },
+      },
+      {
+        name: "a form body with a forged token gets 400 and changes nothing",
+        status: 400,
+        invalidBody: true,
+        run: async ({ handler, world }) => {
+          const s = await subscribedMember(world);
+          const forged = signUnsubscribeToken(s.subscriptionId, { secret: "not the server's secret" });
+          const response = await handler(
+            new Request(`${BASE}/api/digests/unsubscribe`, {
+              method: "POST",
+              headers: { "content-type": "application/x-www-form-urlencoded" },
+              body: new URLSearchParams({ token: forged }).toString(),
+            }),
+            { params: Promise.resolve({}) },
+          );
+          expect(await subscriptionActive(s.subscriptionId)).toBe(true);
+          return response;
+        },
+      },
+      {
+        name: "an expired token gets 400 and changes nothing",
+        status: 400,
+        run: async ({ handler, world }) => {
+          const s = await subscribedMember(world, { ttlSeconds: -60 });
+          const response = await handler(new Request(`${BASE}/api/digests/unsubscribe?token=${s.token}`, { method: "POST" }), { params: Promise.resolve({}) });
+          expect(await subscriptionActive(s.subscriptionId)).toBe(true);
+          return response;
+        },
+      },
+      {
+        name: "a correctly signed token for a subscription that does not exist gets 404",
+        status: 404,
+        run: ({ handler }) =>
+          handler(new Request(`${BASE}/api/digests/unsubscribe?token=${signUnsubscribeToken(2_000_000_000)}`, { method: "POST" }), { params: Promise.resolve({}) }),
+      },
+      {
+        name: "a JSON body instead of a form gets 400 (no token), never a 5xx",
+        status: 400,
+        run: ({ handler }) =>
+          handler(new Request(`${BASE}/api/digests/unsubscribe`, { method: "POST", headers: { "content-type": "application/json" }, body: '{"token":' }), {
+            params: Promise.resolve({}),
+          }),
+      },
+    ],
+  },
+];
