@@ -3,6 +3,7 @@
  * the same path), delivering it exactly once per idempotency key, scheduling
  * after runs and by calendar, saving and unsubscribing.
  */
+import { createHash } from "node:crypto";
 import { QueryTypes } from "sequelize";
 import { can, isRole } from "@/lib/auth/roles";
 import { env } from "@/lib/config/env";
@@ -37,6 +38,8 @@ export interface OutgoingMail {
   subject: string;
   text: string;
   html: string;
+  /** The same on every attempt at one digest (digestMessageId). */
+  messageId: string;
   headers: Record<string, string>;
 }
 /** Sends one mail and returns its Message-ID (default: lib/mail/send over SMTP). */
@@ -117,27 +120,56 @@ export type DeliveryOutcome = "sent" | "skipped" | "duplicate";
 
 const defaultSender: MailSender = (mail) => sendMail(mail);
 
-async function finish(id: number, status: "sent" | "skipped" | "failed", fields: { messageId?: string; error?: string | null; summary?: object }) {
+type Transaction = import("sequelize").Transaction;
+
+async function finish(id: number, status: "sent" | "skipped" | "failed", fields: { messageId?: string; error?: string | null; summary?: object }, transaction: Transaction) {
   await db().query(
     `UPDATE digest_deliveries SET status = CAST($2 AS varchar), message_id = COALESCE(CAST($3 AS varchar), message_id), error = CAST($4 AS text),
             summary = COALESCE(CAST($5 AS jsonb), summary), sent_at = CASE WHEN CAST($2 AS varchar) = 'sent' THEN now() ELSE sent_at END, updated_at = now()
       WHERE id = $1`,
-    { bind: [id, status, fields.messageId ?? null, fields.error ?? null, fields.summary ? JSON.stringify(fields.summary) : null] },
+    { bind: [id, status, fields.messageId ?? null, fields.error ?? null, fields.summary ? JSON.stringify(fields.summary) : null], transaction },
   );
 }
 
-async function advanceWatermark(subscriptionId: number, runId: number | null) {
+async function advanceWatermark(subscriptionId: number, runId: number | null, transaction: Transaction) {
   await db().query("UPDATE digest_subscriptions SET last_digest_at = now(), last_run_id = COALESCE(CAST($2 AS integer), last_run_id), updated_at = now() WHERE id = $1", {
     bind: [subscriptionId, runId],
+    transaction,
   });
 }
 
 /**
- * The digest-send job. Inserts the delivery row with its unique key first and
- * claims it; a row that is already sent, skipped or being sent makes this a
- * no-op ("duplicate"), so a retried or repeated job never sends twice. A
- * failed send is recorded (status failed, attempts, error) and rethrown so
- * pg-boss retries it with backoff.
+ * The Message-ID of one digest to one subscriber, the same on every attempt:
+ * if a copy is ever sent twice (see deliverDigest), mail clients that group
+ * by Message-ID show it once.
+ */
+export function digestMessageId(idempotencyKey: string): string {
+  const domain = /@([^>\s]+)>?\s*$/.exec(env().MAIL_FROM)?.[1] ?? "tessera.invalid";
+  return `<digest.${createHash("sha256").update(idempotencyKey).digest("hex").slice(0, 32)}@${domain}>`;
+}
+
+/** Longest a repeated job waits for another attempt at the same digest to finish (SMTP timeouts are 10 s + 30 s). */
+const LOCK_WAIT = "2min";
+
+type Attempt = { outcome: DeliveryOutcome } | { outcome: "failed"; reason: string };
+
+/**
+ * The digest-send job: at most one mail per idempotency key (one digest to
+ * one subscriber), however often the job runs.
+ *
+ * The delivery row (unique key) is created first, then locked FOR UPDATE for
+ * the whole attempt: a repeated job waits for the lock and then finds the row
+ * sent (a no-op, "duplicate"). The SMTP send happens while the lock is held and
+ * the row is marked sent in the same transaction, committed as soon as the
+ * server has accepted the message. A refused or unreachable server is recorded
+ * (status failed, attempts, error), committed, and rethrown so pg-boss retries
+ * with backoff. A worker that dies mid-attempt leaves nothing behind (its
+ * transaction rolls back and the lock goes with its connection), so the retry
+ * after the job expires sends.
+ *
+ * The one window left: the server accepted the mail but the commit that
+ * records it did not happen (the database went away, or the worker died in
+ * between). The retry then sends a second copy, with the same Message-ID.
  */
 export async function deliverDigest(payload: DigestSendPayload, options: { send?: MailSender; log?: (m: string) => void } = {}): Promise<DeliveryOutcome> {
   const log = options.log ?? (() => undefined);
@@ -148,57 +180,67 @@ export async function deliverDigest(payload: DigestSendPayload, options: { send?
      ON CONFLICT (idempotency_key) DO NOTHING`,
     { bind: [payload.subscriptionId, payload.idempotencyKey, payload.runId] },
   );
-  // A "sending" row older than 15 minutes belongs to a worker that died mid-send.
-  const claimed = await db().query<{ id: string; attempts: number }>(
-    `UPDATE digest_deliveries SET status = 'sending', attempts = attempts + 1, updated_at = now()
-      WHERE idempotency_key = $1 AND subscription_id = $2
-        AND (status IN ('queued','failed') OR (status = 'sending' AND updated_at < now() - interval '15 minutes'))
-      RETURNING id, attempts`,
-    { bind: [payload.idempotencyKey, payload.subscriptionId], type: QueryTypes.SELECT },
-  );
-  if (!claimed[0]) {
-    log(`digest ${payload.idempotencyKey}: already delivered, skipped or in progress; nothing sent`);
-    return "duplicate";
-  }
-  const deliveryId = Number(claimed[0].id);
-  const subscription = await getSubscriptionById(payload.subscriptionId);
-  if (!subscription || !subscription.active) {
-    await finish(deliveryId, "skipped", { error: "The subscription was cancelled (unsubscribed) before sending." });
-    return "skipped";
-  }
-  const built = await buildDigest(subscription, { runId: payload.runId, coverage: payload.coverage });
-  if (!built) {
-    await finish(deliveryId, "skipped", { error: "The subscriber is no longer a member of the workspace." });
-    log(`digest ${payload.idempotencyKey}: user ${subscription.userId} is no longer a member of workspace ${subscription.workspaceId}; skipped`);
-    return "skipped";
-  }
-  const summary = { ...summariseDigest(built.content), runId: built.current?.id ?? null, previousRunId: built.previousRunId, subject: built.rendered.subject };
-  if (built.content.empty && subscription.emptyPolicy === "skip") {
-    await finish(deliveryId, "skipped", { error: "Nothing changed, and the subscriber chose to skip empty digests.", summary });
-    await advanceWatermark(subscription.id, built.current?.id ?? null);
-    return "skipped";
-  }
-  try {
-    const messageId = await send({
-      to: built.recipient.email,
-      subject: built.rendered.subject,
-      text: built.rendered.text,
-      html: built.rendered.html,
-      headers: {
-        "List-Unsubscribe": `<${built.unsubscribeUrl}>`,
-        "List-Unsubscribe-Post": "List-Unsubscribe=One-Click",
-        "X-Tessera-Digest": payload.idempotencyKey,
-      },
-    });
-    await finish(deliveryId, "sent", { messageId, error: null, summary });
-    await advanceWatermark(subscription.id, built.current?.id ?? null);
+  const attempt = await db().transaction(async (transaction): Promise<Attempt> => {
+    await db().query(`SET LOCAL lock_timeout = '${LOCK_WAIT}'`, { transaction });
+    const rows = await db().query<{ id: string; status: string; attempts: number }>(
+      "SELECT id, status, attempts FROM digest_deliveries WHERE idempotency_key = $1 AND subscription_id = $2 FOR UPDATE",
+      { bind: [payload.idempotencyKey, payload.subscriptionId], type: QueryTypes.SELECT, transaction },
+    );
+    const row = rows[0];
+    if (!row) {
+      log(`digest ${payload.idempotencyKey}: subscription ${payload.subscriptionId} no longer exists; nothing sent`);
+      return { outcome: "skipped" };
+    }
+    if (row.status === "sent" || row.status === "skipped") {
+      log(`digest ${payload.idempotencyKey}: already ${row.status}; nothing sent`);
+      return { outcome: "duplicate" };
+    }
+    const deliveryId = Number(row.id);
+    const attempts = row.attempts + 1;
+    await db().query("UPDATE digest_deliveries SET status = 'sending', attempts = $2, updated_at = now() WHERE id = $1", { bind: [deliveryId, attempts], transaction });
+    const subscription = await getSubscriptionById(payload.subscriptionId);
+    if (!subscription || !subscription.active) {
+      await finish(deliveryId, "skipped", { error: "The subscription was cancelled (unsubscribed) before sending." }, transaction);
+      return { outcome: "skipped" };
+    }
+    const built = await buildDigest(subscription, { runId: payload.runId, coverage: payload.coverage });
+    if (!built) {
+      await finish(deliveryId, "skipped", { error: "The subscriber is no longer a member of the workspace." }, transaction);
+      log(`digest ${payload.idempotencyKey}: user ${subscription.userId} is no longer a member of workspace ${subscription.workspaceId}; skipped`);
+      return { outcome: "skipped" };
+    }
+    const summary = { ...summariseDigest(built.content), runId: built.current?.id ?? null, previousRunId: built.previousRunId, subject: built.rendered.subject };
+    if (built.content.empty && subscription.emptyPolicy === "skip") {
+      await finish(deliveryId, "skipped", { error: "Nothing changed, and the subscriber chose to skip empty digests.", summary }, transaction);
+      await advanceWatermark(subscription.id, built.current?.id ?? null, transaction);
+      return { outcome: "skipped" };
+    }
+    let messageId: string;
+    try {
+      messageId = await send({
+        to: built.recipient.email,
+        subject: built.rendered.subject,
+        text: built.rendered.text,
+        html: built.rendered.html,
+        messageId: digestMessageId(payload.idempotencyKey),
+        headers: {
+          "List-Unsubscribe": `<${built.unsubscribeUrl}>`,
+          "List-Unsubscribe-Post": "List-Unsubscribe=One-Click",
+          "X-Tessera-Digest": payload.idempotencyKey,
+        },
+      });
+    } catch (error) {
+      const reason = error instanceof Error ? error.message : String(error);
+      await finish(deliveryId, "failed", { error: `Attempt ${attempts} failed: ${reason}`, summary }, transaction);
+      return { outcome: "failed", reason };
+    }
+    await finish(deliveryId, "sent", { messageId, error: null, summary }, transaction);
+    await advanceWatermark(subscription.id, built.current?.id ?? null, transaction);
     log(`digest ${payload.idempotencyKey}: sent ${messageId} to ${built.recipient.email}`);
-    return "sent";
-  } catch (error) {
-    const reason = error instanceof Error ? error.message : String(error);
-    await finish(deliveryId, "failed", { error: `Attempt ${claimed[0].attempts} failed: ${reason}`, summary });
-    throw new Error(`digest ${payload.idempotencyKey} for subscription ${payload.subscriptionId}: ${reason}`);
-  }
+    return { outcome: "sent" };
+  });
+  if (attempt.outcome === "failed") throw new Error(`digest ${payload.idempotencyKey} for subscription ${payload.subscriptionId}: ${attempt.reason}`);
+  return attempt.outcome;
 }
 
 /** ISO 8601 week key, e.g. "2026-W49". */
@@ -215,25 +257,38 @@ export function monthKey(date: Date): string {
   return `${date.getUTCFullYear()}-${String(date.getUTCMonth() + 1).padStart(2, "0")}`;
 }
 
+/** The digest-send payloads owed after a completed run: one per after-run subscriber of its workspace. */
+export async function digestJobsForRun(runId: number): Promise<DigestSendPayload[]> {
+  const rows = await db().query<{ workspace_id: number }>("SELECT workspace_id FROM runs WHERE id = $1 AND state = 'completed'", { bind: [runId], type: QueryTypes.SELECT });
+  if (!rows[0]) return [];
+  const subscriptions = await activeSubscriptions(Number(rows[0].workspace_id), "after_run");
+  return subscriptions.map((s) => ({ subscriptionId: s.id, idempotencyKey: `sub-${s.id}:run-${runId}`, runId, coverage: `results of run ${runId}` }));
+}
+
+/**
+ * The digest-send payloads owed for the week or month containing `now`: one per
+ * subscriber with that cadence (all workspaces, or only `workspaceId`). The key
+ * names the period, so scheduling the same period twice owes nothing new.
+ */
+export async function digestJobsForCadence(cadence: Exclude<DigestCadence, "after_run">, now = new Date(), workspaceId: number | null = null): Promise<DigestSendPayload[]> {
+  const period = cadence === "weekly" ? isoWeekKey(now) : monthKey(now);
+  const subscriptions = await activeSubscriptions(workspaceId, cadence);
+  return subscriptions.map((s) => ({ subscriptionId: s.id, idempotencyKey: `sub-${s.id}:${cadence}-${period}`, runId: null, coverage: `${cadence === "weekly" ? "week" : "month"} ${period}` }));
+}
+
+async function enqueueAll(payloads: DigestSendPayload[]): Promise<number> {
+  for (const payload of payloads) await enqueue("digest-send", payload);
+  return payloads.length;
+}
+
 /** After a run completes: one digest-send job per after-run subscriber of its workspace. Returns how many were enqueued. */
 export async function scheduleDigestsForRun(runId: number): Promise<number> {
-  const rows = await db().query<{ workspace_id: number }>("SELECT workspace_id FROM runs WHERE id = $1 AND state = 'completed'", { bind: [runId], type: QueryTypes.SELECT });
-  if (!rows[0]) return 0;
-  const subscriptions = await activeSubscriptions(Number(rows[0].workspace_id), "after_run");
-  for (const s of subscriptions) {
-    await enqueue("digest-send", { subscriptionId: s.id, idempotencyKey: `sub-${s.id}:run-${runId}`, runId, coverage: `results of run ${runId}` });
-  }
-  return subscriptions.length;
+  return enqueueAll(await digestJobsForRun(runId));
 }
 
 /** Weekly or monthly: one digest-send job per subscriber with that cadence (all workspaces). */
 export async function scheduleDigestsForCadence(cadence: Exclude<DigestCadence, "after_run">, now = new Date()): Promise<number> {
-  const period = cadence === "weekly" ? isoWeekKey(now) : monthKey(now);
-  const subscriptions = await activeSubscriptions(null, cadence);
-  for (const s of subscriptions) {
-    await enqueue("digest-send", { subscriptionId: s.id, idempotencyKey: `sub-${s.id}:${cadence}-${period}`, runId: null, coverage: `${cadence === "weekly" ? "week" : "month"} ${period}` });
-  }
-  return subscriptions.length;
+  return enqueueAll(await digestJobsForCadence(cadence, now));
 }
 
 /** Creates or updates the member's own subscription (re-subscribing clears unsubscribed_at). */

@@ -14,6 +14,11 @@ export const sendMailSchema = z
     text: z.string().max(1_000_000).optional(),
     html: z.string().max(2_000_000).optional(),
     headers: z.record(z.string(), z.string()).optional(),
+    /** A Message-ID chosen by the caller ("<local@domain>"), so a resend of the same mail carries the same one; default: nodemailer makes one. */
+    messageId: z
+      .string()
+      .regex(/^<[^<>@\s]+@[^<>@\s]+>$/, "must look like <local-part@domain>")
+      .optional(),
   })
   .refine((m) => m.text !== undefined || m.html !== undefined, { message: "a mail needs text or html", path: ["text"] });
 
@@ -62,6 +67,7 @@ export async function sendMail(input: SendMailInput): Promise<string> {
       text: mail.text,
       html: mail.html,
       headers: mail.headers,
+      messageId: mail.messageId,
     });
     return String(info.messageId);
   } catch (err) {
