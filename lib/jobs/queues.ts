@@ -48,8 +48,8 @@ export const queueSettings: Partial<Record<QueueName, QueueSettings>> = {
   "run-piece": { retryLimit: 2, retryDelay: 2, retryBackoff: false, expireInSeconds: 30 * 60 },
   // A million-row panel takes well under a minute; retries only matter if a worker dies mid-ingest.
   "intake-validate": { retryLimit: 2, retryDelay: 5, expireInSeconds: 30 * 60 },
-  // SMTP refusals are retried 5 times with exponential backoff from 10 s (10, 20, 40, 80, 160 s); every attempt is recorded in digest_deliveries.
-  "digest-send": { retryLimit: 5, retryDelay: 10, retryBackoff: true, expireInSeconds: 5 * 60 },
+  // SMTP refusals are retried 10 times, the wait doubling from 10–20 s (pg-boss adds up to 100 % jitter): an SMTP outage of up to about 3 hours still delivers. Every attempt is recorded in digest_deliveries.
+  "digest-send": { retryLimit: 10, retryDelay: 10, retryBackoff: true, expireInSeconds: 5 * 60 },
   "digest-run-completed": { retryLimit: 3, retryDelay: 5, retryBackoff: true, expireInSeconds: 5 * 60 },
   "digest-weekly": { retryLimit: 3, retryDelay: 30, retryBackoff: true, expireInSeconds: 15 * 60 },
   "digest-monthly": { retryLimit: 3, retryDelay: 30, retryBackoff: true, expireInSeconds: 15 * 60 },
