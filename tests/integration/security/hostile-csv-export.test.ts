@@ -71,14 +71,23 @@ function parseCsv(text: string): string[][] {
   let quoted = false;
   for (let i = 0; i < text.length; i++) {
     const c = text[i];
-    if (quoted) {
-      if (c === '"' && text[i + 1] === '"') (cell += '"'), i++;
-      else if (c === '"') quoted = false;
-      else cell += c;
-    } else if (c === '"') quoted = true;
-    else if (c === ",") row.push(cell), (cell = "");
-    else if (c === "\r" && text[i + 1] === "\n") row.push(cell), rows.push(row), (row = []), (cell = ""), i++;
-    else cell += c;
+    if (quoted && c === '"' && text[i + 1] === '"') {
+      cell += '"';
+      i++;
+    } else if (c === '"') {
+      quoted = !quoted;
+    } else if (!quoted && c === ",") {
+      row.push(cell);
+      cell = "";
+    } else if (!quoted && c === "\r" && text[i + 1] === "\n") {
+      row.push(cell);
+      rows.push(row);
+      row = [];
+      cell = "";
+      i++;
+    } else {
+      cell += c;
+    }
   }
   return rows;
 }
