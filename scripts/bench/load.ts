@@ -80,7 +80,19 @@ async function signIn(base: string, account: Account): Promise<string> {
 
 type Phase = { name: string; paths: string[]; target?: { p95Ms: number } };
 
-type PhaseResult = { name: string; requests: number; rps: number; p50: number; p95: number; p99: number; max: number; errors: number; non2xx: number; target?: { p95Ms: number } };
+type PhaseResult = {
+  name: string;
+  requests: number;
+  rps: number;
+  p50: number;
+  p95: number;
+  p99: number;
+  max: number;
+  errors: number;
+  non2xx: number;
+  statuses: Record<string, number>;
+  target?: { p95Ms: number };
+};
 
 function percentile(sorted: number[], q: number): number {
   if (sorted.length === 0) return NaN;
@@ -97,11 +109,21 @@ async function runPhase(base: string, cookies: string[], phase: Phase, seconds: 
         connections,
         duration: seconds,
         timeout: 10,
-        // Each connection is one signed-in client; they take the demo accounts in turn.
-        setupClient: (client) => {
-          client.setHeaders({ cookie: cookies[next++ % cookies.length], accept: "application/json" });
-        },
-        requests: phase.paths.map((p) => ({ method: "GET" as const, path: p })),
+        // Each connection is a signed-in client. autocannon's setHeaders only
+        // touches the current request of a sequence, so the session cookie is
+        // put on every request from the connection's context instead (the
+        // context is reset when a sequence restarts: accounts rotate per cycle).
+        requests: phase.paths.map(
+          (p, index): autocannon.Request => ({
+            method: "GET",
+            path: p,
+            setupRequest: (request: autocannon.Request, context: object) => {
+              const client = context as { cookie?: string };
+              if (index === 0 || client.cookie === undefined) client.cookie = cookies[next++ % cookies.length];
+              return { ...request, headers: { ...request.headers, accept: "application/json", cookie: client.cookie } };
+            },
+          }),
+        ),
       },
       (error: Error | null, finished: autocannon.Result) => (error ? reject(error) : resolve(finished)),
     );
@@ -118,6 +140,7 @@ async function runPhase(base: string, cookies: string[], phase: Phase, seconds: 
     max: latencies[latencies.length - 1] ?? NaN,
     errors: result.errors + result.timeouts,
     non2xx: result.non2xx,
+    statuses: Object.fromEntries(Object.entries(result.statusCodeStats ?? {}).map(([code, stat]) => [code, stat.count ?? 0])),
     target: phase.target,
   };
 }
@@ -232,6 +255,10 @@ async function main(): Promise<void> {
     const results: PhaseResult[] = [];
     for (const phase of phases) results.push(await runPhase(base, cookies, phase, seconds, args.connections));
     console.log(format(results));
+    for (const r of results) {
+      const odd = Object.entries(r.statuses).filter(([code]) => !code.startsWith("2"));
+      if (odd.length > 0) console.log(`${r.name}: status counts ${odd.map(([code, n]) => `${code}×${n}`).join(", ")}`);
+    }
     const failed = results.reduce((s, r) => s + r.errors + r.non2xx, 0);
     console.log(failed === 0 ? "errors: 0" : `errors: ${failed} request(s) failed or answered non-2xx`);
     process.exitCode = failed === 0 ? 0 : 1;
