@@ -224,6 +224,7 @@ interface BoundaryVersionRow {
   version: number;
   state: string;
   s3_key: string;
+  sha256: string;
   object_name: string;
   id_property: string;
   name_property: string | null;
@@ -247,35 +248,46 @@ export function topologyKeyFor(uploadKey: string): string {
  */
 export async function ingestBoundaryVersion(versionId: number, options: { text?: string } = {}): Promise<BoundaryIngestOutcome> {
   const { rows } = await intakePool().query<BoundaryVersionRow>(
-    "SELECT id, boundary_set_id, version, state, s3_key, object_name, id_property, name_property FROM boundary_versions WHERE id = $1",
+    "SELECT id, boundary_set_id, version, state, s3_key, sha256, object_name, id_property, name_property FROM boundary_versions WHERE id = $1",
     [versionId],
   );
   const version = rows[0];
   if (!version) return { state: "skipped", reason: `boundary version ${versionId} does not exist` };
   if (version.state !== "uploaded") return { state: "skipped", reason: `boundary version ${versionId} is already ${version.state}` };
 
-  let text: string;
-  try {
-    text = options.text ?? (await getObjectBytes(version.s3_key)).toString("utf8");
-  } catch (err) {
+  const fail = async (message: string): Promise<BoundaryIngestOutcome> => {
     const report = emptyReport(version.object_name, version.id_property, version.name_property);
-    report.errors.push({ feature: null, region: null, message: `the boundary file could not be read from storage: ${err instanceof Error ? err.message : String(err)}` });
+    report.errors.push({ feature: null, region: null, message });
     report.errorCount = 1;
     await markRejected(versionId, report);
     return { state: "rejected", report };
+  };
+  let text: string;
+  try {
+    if (options.text !== undefined) text = options.text;
+    else {
+      // The upload's presigned PUT URL outlives the checksum check, so what is read now must still be what was checked.
+      const bytes = await getObjectBytes(version.s3_key);
+      const actual = createHash("sha256").update(bytes).digest("hex");
+      if (actual !== version.sha256) {
+        return fail(`the stored file changed after its upload was checked (checksum ${actual.slice(0, 12)}… instead of ${version.sha256.slice(0, 12)}…); upload it again`);
+      }
+      text = bytes.toString("utf8");
+    }
+  } catch (err) {
+    return fail(`the boundary file could not be read from storage: ${err instanceof Error ? err.message : String(err)}`);
   }
   const checked = checkBoundaryText(text, version.object_name, version.id_property, version.name_property);
   if (!checked.report.ok || !checked.topology) {
     await markRejected(versionId, checked.report);
     return { state: "rejected", report: checked.report };
   }
-  // Converted GeoJSON is stored as TopoJSON before the transaction; if the
-  // transaction then fails, the orphan object is harmless and overwritten on retry.
-  let topologyKey = version.s3_key;
-  if (checked.report.sourceFormat === "geojson") {
-    topologyKey = topologyKeyFor(version.s3_key);
-    await putObject(topologyKey, JSON.stringify(checked.topology), "application/json");
-  }
+  // The version keeps its own copy (GeoJSON converted to TopoJSON) under a key
+  // no URL was ever signed for, so a late PUT to the upload's URL cannot change
+  // published boundaries. Stored before the transaction; if the transaction
+  // then fails, the orphan object is harmless and overwritten on retry.
+  const topologyKey = topologyKeyFor(version.s3_key);
+  await putObject(topologyKey, checked.report.sourceFormat === "geojson" ? JSON.stringify(checked.topology) : text, "application/json");
   try {
     const diff = await inTransaction(async (client) => {
       const locked = await client.query<{ state: string }>("SELECT state FROM boundary_versions WHERE id = $1 FOR UPDATE", [versionId]);
