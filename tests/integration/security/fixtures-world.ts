@@ -66,10 +66,10 @@ export async function completeRunInProcess(runId: number, indicators: readonly s
 }
 
 /** A run over `panelVersionId`, stored but not queued (state queued), so nothing else picks it up. */
-export async function queuedRun(world: Pick<World, "workspace" | "users">, panelVersionId: number, indicators = WORLD_INDICATORS, periods = WORLD_PERIODS): Promise<number> {
+export async function queuedRun(workspaceId: number, createdBy: number, panelVersionId: number, indicators = WORLD_INDICATORS, periods = WORLD_PERIODS): Promise<number> {
   const choice = runParamsInputSchema.parse({ seed: 7, permutations: 99, indicators, periods, local: true });
-  const params = await resolveRunParams(world.workspace.id, panelVersionId, choice);
-  return insertRun({ workspaceId: world.workspace.id, params, createdBy: world.users.economist.id, origin: "user" });
+  const params = await resolveRunParams(workspaceId, panelVersionId, choice);
+  return insertRun({ workspaceId, params, createdBy, origin: "user" });
 }
 
 export async function buildWorld(): Promise<World> {
@@ -83,7 +83,7 @@ export async function buildWorld(): Promise<World> {
     type: QueryTypes.SELECT,
   });
   const partial = { workspace, users };
-  const runId = await queuedRun(partial, panel.panelVersionId);
+  const runId = await queuedRun(workspace.id, users.economist.id, panel.panelVersionId);
   await completeRunInProcess(runId, WORLD_INDICATORS);
   const receivedPanelUpload = await receivedUpload(partial, "panel", panelCsv(panel, 1));
   return {

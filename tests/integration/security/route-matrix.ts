@@ -345,7 +345,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
     capability: "runs.manage",
     ok: 200,
     does: "cancels a queued or running run",
-    prepare: async (w) => ({ params: { ...ws(w), runId: String(await queuedRun(w, w.panel.panelVersionId)) } }),
+    prepare: async (w) => ({ params: { ...ws(w), runId: String(await queuedRun(w.workspace.id, w.users.economist.id, w.panel.panelVersionId)) } }),
     effect: (_w, call) => scalar("SELECT state AS v FROM runs WHERE id = $1", [Number(call.params.runId)]),
   },
   {
