@@ -1,15 +1,33 @@
 import PgBoss from "pg-boss";
+import { z } from "zod";
 import { env } from "@/lib/config/env";
 import { DEFAULT_QUEUE_SETTINGS, QUEUE_NAMES, QUEUE_SCHEDULES, queueSettings } from "@/lib/jobs/queues";
 
 export type BossRole = "sender" | "worker";
+
+const jobsSchemaSchema = z
+  .string()
+  .regex(/^[a-z_][a-z0-9_]{0,49}$/, "must be a lower-case PostgreSQL name of at most 50 characters (letters, digits, _)")
+  .default("pgboss");
+
+/**
+ * The PostgreSQL schema holding pg-boss's tables: JOBS_SCHEMA, default
+ * `pgboss`. The web app and the workers that share jobs must use the same
+ * one; a separate schema is a separate set of queues on the same database
+ * (tests use one to own every worker that serves their jobs).
+ */
+export function jobsSchema(): string {
+  const parsed = jobsSchemaSchema.safeParse(process.env.JOBS_SCHEMA || undefined);
+  if (!parsed.success) throw new Error(`JOBS_SCHEMA "${process.env.JOBS_SCHEMA}": ${parsed.error.issues[0]?.message}`);
+  return parsed.data;
+}
 
 type BossState = { boss?: PgBoss; starting?: Promise<PgBoss>; role?: BossRole };
 const globalForBoss = globalThis as unknown as { tesseraBoss?: BossState };
 const state: BossState = (globalForBoss.tesseraBoss ??= {});
 
 /**
- * The process-wide pg-boss instance on the app database (schema `pgboss`),
+ * The process-wide pg-boss instance on the app database (schema jobsSchema()),
  * started and with every queue of queues.ts created (pg-boss 10 requires
  * createQueue before send/work; createQueue is idempotent).
  *
@@ -23,7 +41,7 @@ export async function getBoss(role: BossRole = "sender"): Promise<PgBoss> {
     state.starting = (async () => {
       const boss = new PgBoss({
         connectionString: env().DATABASE_URL,
-        schema: "pgboss",
+        schema: jobsSchema(),
         application_name: `tessera-${role}`,
         max: role === "worker" ? 4 : 2,
         supervise: role === "worker",

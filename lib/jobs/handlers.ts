@@ -1,11 +1,12 @@
 import { sendMail } from "@/lib/mail/send";
 import { sendInvitationEmail } from "@/lib/auth/invitation-mail";
-import { runPiece } from "@/lib/runs/worker";
+import { abandonPiece, runPiece } from "@/lib/runs/worker";
 import { runIntakeValidation } from "@/lib/intake/jobs";
 import { deliverDigest, scheduleDigestsForCadence, scheduleDigestsForRun } from "@/lib/digests/service";
 import type { JobPayload, QueueName } from "@/lib/jobs/queues";
 
-export type JobContext = { id: string; queue: QueueName; log: (message: string) => void };
+/** `worker` is the label of the worker process running the job (WORKER_LABEL, else host:pid). */
+export type JobContext = { id: string; queue: QueueName; worker: string; log: (message: string) => void };
 export type JobHandler<Q extends QueueName> = (payload: JobPayload<Q>, context: JobContext) => Promise<void>;
 
 /**
@@ -23,7 +24,7 @@ export const handlers: { [Q in QueueName]: JobHandler<Q> } = {
     context.log(`sent invitation ${payload.invitationId} as ${messageId}`);
   },
   "run-piece": async (payload, context) => {
-    const outcome = await runPiece(payload.runId, payload.indicator, context.log);
+    const outcome = await runPiece(payload.runId, payload.indicator, context.log, context.worker);
     context.log(`run ${payload.runId} "${payload.indicator}": ${outcome}`);
   },
   "intake-validate": async (payload, context) => {
@@ -43,4 +44,13 @@ export const handlers: { [Q in QueueName]: JobHandler<Q> } = {
     const outcome = await deliverDigest(payload, { log: context.log });
     context.log(`digest ${payload.idempotencyKey}: ${outcome}`);
   },
+};
+
+/**
+ * What to record when a job's last attempt died with its worker, so no
+ * handler ran to the end to say so (lib/jobs/lease.ts hands such a job to
+ * pg-boss, which marks it failed). Queues absent here need nothing recorded.
+ */
+export const abandonedHandlers: { [Q in QueueName]?: (payload: JobPayload<Q>, message: string) => Promise<void> } = {
+  "run-piece": (payload, message) => abandonPiece(payload.runId, payload.indicator, message),
 };

@@ -2,11 +2,19 @@
  * Writes of runs, pieces and results. Server-only; no authorisation here (the
  * route handlers and the worker decide who may call these).
  *
- * A piece writes all its rows in one transaction: delete its earlier rows (a
- * retried attempt) and insert the new ones, mark the piece completed only if
- * it was not already, and count it on the run. The piece that completes the
- * run also classes every row of the run (the run-wide correction) in the same
- * transaction, so a run is never "completed" with unclassified rows.
+ * A piece writes all its rows in one transaction, at its end: delete any
+ * rows of the piece (none are left by an attempt that died, since rows are
+ * only written here) and insert the new ones, mark the piece completed and
+ * count it on the run. A piece already completed is left as it is: when two
+ * attempts overlap (a worker presumed dead that was only slow, a job
+ * delivered twice) the first to finish stores the rows and the other stores
+ * nothing. The piece that completes the run also classes every row of the run
+ * (the run-wide correction) in the same transaction, so a run is never
+ * "completed" with unclassified rows.
+ *
+ * Attempts are numbered (run_pieces.attempts); progress and failures are
+ * recorded only by the newest attempt, so an overlapping older one cannot
+ * reset or fail a piece that a newer attempt is running.
  */
 import { QueryTypes, type Transaction } from "sequelize";
 import { db } from "@/lib/db";
@@ -188,10 +196,11 @@ export interface PieceStart {
 }
 
 /**
- * Claims a piece for an attempt: counts the attempt, marks the piece (and a
- * queued run) running. Returns null when the run or piece does not exist.
+ * Claims a piece for an attempt by `worker` (a label): counts the attempt,
+ * marks the piece (and a queued run) running. Returns null when the run or
+ * piece does not exist.
  */
-export async function startPiece(runId: number, indicator: string): Promise<PieceStart | null> {
+export async function startPiece(runId: number, indicator: string, worker: string): Promise<PieceStart | null> {
   return db().transaction(async (transaction) => {
     const runs = await db().query<{ state: RunState; params: ResolvedRunParams }>("SELECT state, params FROM runs WHERE id = $1 FOR UPDATE", {
       bind: [runId],
@@ -210,8 +219,9 @@ export async function startPiece(runId: number, indicator: string): Promise<Piec
       return { runState: run.state, pieceState: piece.state, attempts: piece.attempts, params: run.params };
     }
     await db().query(
-      "UPDATE run_pieces SET state = 'running', attempts = attempts + 1, periods_done = 0, error = NULL, started_at = now(), updated_at = now() WHERE run_id = $1 AND indicator_code = $2",
-      { bind: [runId, indicator], transaction },
+      `UPDATE run_pieces SET state = 'running', attempts = attempts + 1, periods_done = 0, error = NULL, worker_label = $3, started_at = now(), updated_at = now()
+        WHERE run_id = $1 AND indicator_code = $2`,
+      { bind: [runId, indicator, worker], transaction },
     );
     if (run.state === "queued") {
       await db().query("UPDATE runs SET state = 'running', started_at = now(), updated_at = now() WHERE id = $1", { bind: [runId], transaction });
@@ -220,11 +230,12 @@ export async function startPiece(runId: number, indicator: string): Promise<Piec
   });
 }
 
-/** Records how many periods of a piece are done and refreshes the run's progress; returns the run's state. */
-export async function recordPieceProgress(runId: number, indicator: string, periodsDone: number): Promise<RunState | null> {
-  await db().query("UPDATE run_pieces SET periods_done = $3, updated_at = now() WHERE run_id = $1 AND indicator_code = $2 AND state = 'running'", {
-    bind: [runId, indicator, periodsDone],
-  });
+/** Records how many periods attempt `attempt` of a piece has done and refreshes the run's progress; returns the run's state. */
+export async function recordPieceProgress(runId: number, indicator: string, attempt: number, periodsDone: number): Promise<RunState | null> {
+  await db().query(
+    "UPDATE run_pieces SET periods_done = $4, updated_at = now() WHERE run_id = $1 AND indicator_code = $2 AND attempts = $3 AND state = 'running'",
+    { bind: [runId, indicator, attempt, periodsDone] },
+  );
   const rows = await db().query<{ state: RunState }>(
     `UPDATE runs SET progress = LEAST(1, (SELECT COALESCE(SUM(CASE WHEN state = 'completed' THEN periods_total ELSE periods_done END), 0)::double precision
                                             / GREATEST(1, SUM(periods_total)) FROM run_pieces WHERE run_id = $1)), updated_at = now()
@@ -236,13 +247,22 @@ export async function recordPieceProgress(runId: number, indicator: string, peri
   return current[0]?.state ?? null;
 }
 
+/** What storing a piece came to. */
+export type PieceCompletion = "completed-run" | "completed-piece" | "already-completed" | "run-closed";
+
 /**
- * Stores a piece's rows (replacing any from an earlier attempt), marks it
- * completed and, when it is the last piece, classes the whole run and marks
- * it completed. Returns whether this call completed the run. A cancelled or
- * failed run is left alone (its rows are not written).
+ * Stores a piece's rows (replacing any left over), marks it completed by
+ * `worker` and, when it is the last piece, classes the whole run and marks it
+ * completed. A piece already completed by an overlapping attempt, or a run
+ * that is cancelled, failed or completed, is left alone (nothing is written).
  */
-export async function completePiece(runId: number, indicator: string, periodIndexOf: ReadonlyMap<string, number>, rows: readonly PeriodResult[]): Promise<{ completedRun: boolean; skipped: boolean }> {
+export async function completePiece(
+  runId: number,
+  indicator: string,
+  worker: string,
+  periodIndexOf: ReadonlyMap<string, number>,
+  rows: readonly PeriodResult[],
+): Promise<PieceCompletion> {
   return db().transaction(async (transaction) => {
     // Lock the run row first: it serialises completions of the pieces of one run.
     const runs = await db().query<{ state: RunState; params: ResolvedRunParams }>("SELECT state, params FROM runs WHERE id = $1 FOR UPDATE", {
@@ -251,15 +271,22 @@ export async function completePiece(runId: number, indicator: string, periodInde
       transaction,
     });
     const run = runs[0];
-    if (!run || run.state === "cancelled" || run.state === "failed" || run.state === "completed") return { completedRun: false, skipped: true };
+    if (!run || run.state === "cancelled" || run.state === "failed" || run.state === "completed") return "run-closed";
+    const pieces = await db().query<{ state: RunState }>("SELECT state FROM run_pieces WHERE run_id = $1 AND indicator_code = $2", {
+      bind: [runId, indicator],
+      type: QueryTypes.SELECT,
+      transaction,
+    });
+    const piece = pieces[0];
+    if (!piece || piece.state === "cancelled") return "run-closed";
+    if (piece.state === "completed") return "already-completed";
     await db().query("DELETE FROM run_results WHERE run_id = $1 AND indicator_code = $2", { bind: [runId, indicator], transaction });
     await insertResultRows(runId, periodIndexOf, rows, transaction);
-    const marked = await db().query<{ id: number }>(
-      `UPDATE run_pieces SET state = 'completed', periods_done = periods_total, finished_at = now(), updated_at = now(), error = NULL
-        WHERE run_id = $1 AND indicator_code = $2 AND state <> 'completed' RETURNING id`,
-      { bind: [runId, indicator], type: QueryTypes.SELECT, transaction },
+    await db().query(
+      `UPDATE run_pieces SET state = 'completed', periods_done = periods_total, worker_label = $3, finished_at = now(), updated_at = now(), error = NULL
+        WHERE run_id = $1 AND indicator_code = $2`,
+      { bind: [runId, indicator, worker], transaction },
     );
-    if (marked.length === 0) return { completedRun: false, skipped: false };
     const [counts] = await db().query<{ pieces_done: number; pieces_total: number }>(
       "UPDATE runs SET pieces_done = pieces_done + 1, updated_at = now() WHERE id = $1 RETURNING pieces_done, pieces_total",
       { bind: [runId], type: QueryTypes.SELECT, transaction },
@@ -270,10 +297,10 @@ export async function completePiece(runId: number, indicator: string, periodInde
                                                / GREATEST(1, SUM(periods_total)) FROM run_pieces WHERE run_id = $1)) WHERE id = $1`,
         { bind: [runId], transaction },
       );
-      return { completedRun: false, skipped: false };
+      return "completed-piece";
     }
     await finaliseRun(runId, run.params, transaction);
-    return { completedRun: true, skipped: false };
+    return "completed-run";
   });
 }
 
@@ -328,15 +355,21 @@ async function finaliseRun(runId: number, params: ResolvedRunParams, transaction
   );
 }
 
-/** Records a failed attempt; after the last attempt the piece and the run fail with the message. */
-export async function failPiece(runId: number, indicator: string, message: string, finalAttempt: boolean): Promise<void> {
+/**
+ * Records a failed attempt; after the last attempt the piece and the run fail
+ * with the message. `attempt` is the failing attempt's number: an older
+ * attempt than the piece's newest records nothing. Null records the failure
+ * whatever attempt is current (a job abandoned by a dead worker).
+ */
+export async function failPiece(runId: number, indicator: string, attempt: number | null, message: string, finalAttempt: boolean): Promise<void> {
   await db().transaction(async (transaction) => {
-    await db().query(
-      `UPDATE run_pieces SET state = $3, error = $4, updated_at = now(), finished_at = CASE WHEN $3 = 'failed' THEN now() ELSE finished_at END
-        WHERE run_id = $1 AND indicator_code = $2 AND state <> 'completed'`,
-      { bind: [runId, indicator, finalAttempt ? "failed" : "queued", message], transaction },
+    const updated = await db().query<{ id: number }>(
+      // $4 is cast: used both as a column value and in a comparison, PostgreSQL would deduce two types for it and refuse the statement.
+      `UPDATE run_pieces SET state = $4::varchar, error = $5, updated_at = now(), finished_at = CASE WHEN $4::varchar = 'failed' THEN now() ELSE finished_at END
+        WHERE run_id = $1 AND indicator_code = $2 AND state IN ('queued','running') AND ($3::int IS NULL OR attempts = $3::int) RETURNING id`,
+      { bind: [runId, indicator, attempt, finalAttempt ? "failed" : "queued", message], type: QueryTypes.SELECT, transaction },
     );
-    if (finalAttempt) {
+    if (finalAttempt && updated.length > 0) {
       await db().query(
         `UPDATE runs SET state = 'failed', error = $2, finished_at = now(), updated_at = now() WHERE id = $1 AND state IN ('queued','running')`,
         { bind: [runId, `Indicator "${indicator}": ${message}`], transaction },

@@ -1,9 +1,12 @@
 /**
  * The pg-boss handler of one run piece (one indicator of a run). Several
  * workers take pieces of the same run at once. Safe to repeat: a piece that
- * is already completed, or whose run was cancelled or failed, is skipped; a
- * retried piece replaces the rows of its earlier attempt (store.ts).
+ * is already completed, or whose run was cancelled or failed, is skipped; an
+ * attempt stores its rows only at its end, in one transaction, so a worker
+ * killed mid-piece leaves nothing behind and the retry starts afresh; when
+ * two attempts overlap the first to finish stores the rows (store.ts).
  */
+import os from "node:os";
 import { loadBoundaryTopology, loadPanelMatrix } from "@/lib/intake/queries";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { buildRunGeometry, computePeriod, messageOf, withChanges, type RunGeometry } from "./compute";
@@ -34,13 +37,16 @@ export async function geometryFor(params: Pick<ResolvedRunParams, "boundaryVersi
 
 export type PieceOutcome = "completed-run" | "completed-piece" | "skipped" | "cancelled";
 
+/** Who runs a piece when it is not a queue worker (the demo script, tests): this process. */
+const IN_PROCESS = `${os.hostname()}:${process.pid}`;
+
 /**
- * Computes and stores one piece. Throws (so pg-boss retries) when something
- * unexpected fails; after the last attempt the run is marked failed with the
- * message.
+ * Computes and stores one piece; `worker` (a label) is recorded on the piece.
+ * Throws (so pg-boss retries) when something unexpected fails; after the last
+ * attempt the run is marked failed with the message.
  */
-export async function runPiece(runId: number, indicator: string, log: (message: string) => void = () => undefined): Promise<PieceOutcome> {
-  const start = await startPiece(runId, indicator);
+export async function runPiece(runId: number, indicator: string, log: (message: string) => void = () => undefined, worker = IN_PROCESS): Promise<PieceOutcome> {
+  const start = await startPiece(runId, indicator, worker);
   if (!start) {
     log(`run ${runId} or its piece "${indicator}" no longer exists; nothing to do`);
     return "skipped";
@@ -66,7 +72,7 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
       const now = Date.now();
       if (now - lastReport > 250 || index === params.periods.length - 1) {
         lastReport = now;
-        const state = await recordPieceProgress(runId, indicator, index + 1);
+        const state = await recordPieceProgress(runId, indicator, start.attempts, index + 1);
         if (state === "cancelled" || state === "failed") {
           log(`run ${runId} is ${state}; piece "${indicator}" stops after ${index + 1} period(s) without storing`);
           return "cancelled";
@@ -74,18 +80,31 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
       }
     }
     const periodIndexOf = new Map(params.periods.map((p, i) => [p, i]));
-    const outcome = await completePiece(runId, indicator, periodIndexOf, withChanges(rows));
-    if (outcome.skipped) return "cancelled";
-    log(`run ${runId} piece "${indicator}": ${rows.length} period(s) stored${outcome.completedRun ? "; run completed" : ""}`);
-    if (outcome.completedRun) {
+    const outcome = await completePiece(runId, indicator, worker, periodIndexOf, withChanges(rows));
+    if (outcome === "run-closed") return "cancelled";
+    if (outcome === "already-completed") {
+      log(`run ${runId} piece "${indicator}": another attempt stored it first; this attempt stores nothing`);
+      return "skipped";
+    }
+    log(`run ${runId} piece "${indicator}": ${rows.length} period(s) stored${outcome === "completed-run" ? "; run completed" : ""}`);
+    if (outcome === "completed-run") {
       // Digests decide whether anyone is told (lib/digests); a failure to queue must not fail the stored run.
       await enqueue("digest-run-completed", { runId }).catch((e: unknown) => log(`run ${runId}: could not queue digest-run-completed: ${messageOf(e)}`));
     }
-    return outcome.completedRun ? "completed-run" : "completed-piece";
+    return outcome;
   } catch (error) {
     const message = messageOf(error);
     const finalAttempt = start.attempts >= PIECE_ATTEMPTS;
-    await failPiece(runId, indicator, message, finalAttempt).catch((e: unknown) => log(`could not record the failure: ${messageOf(e)}`));
+    await failPiece(runId, indicator, start.attempts, message, finalAttempt).catch((e: unknown) => log(`could not record the failure: ${messageOf(e)}`));
     throw new Error(`run ${runId} piece "${indicator}" attempt ${start.attempts} of ${PIECE_ATTEMPTS} failed: ${message}`);
   }
+}
+
+/**
+ * A piece's job ran out of attempts because its worker died each time (no
+ * attempt reached the end to record a failure): the piece and its run fail
+ * with `message`, unless the piece was completed meanwhile.
+ */
+export async function abandonPiece(runId: number, indicator: string, message: string): Promise<void> {
+  await failPiece(runId, indicator, null, message, true);
 }

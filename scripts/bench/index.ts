@@ -4,10 +4,12 @@
  *   npm run -s bench                      engine, intake validation, run compute (no services needed)
  *   npm run -s bench -- --json            the same as one JSON object: engine cases in `results`
  *                                         ({case, grid, n, links, permutations, ms}), the others under `suites`
- *   npm run -s bench -- --only engine     one suite (engine | intake | runs | intake-ingest | runs-db)
+ *   npm run -s bench -- --only engine     one suite (engine | intake | runs | intake-ingest | runs-db | workers)
  *   npm run -s bench -- --services        also the suites that need PostgreSQL and S3 (ingest, runs end to end,
  *                                         catalogue p95); start them first with `npm run services:test` and
  *                                         export the environment it prints.
+ *   npm run -s bench -- --only workers    one large run with 1 and with 2 worker processes: both wall times
+ *                                         and the speed-up (needs the test services; also part of --services)
  *   npm run -s bench -- --no-r            skip the spdep reference timing
  *
  * Figures are wall clock on whatever else the machine is doing; CPU time is printed
@@ -23,14 +25,14 @@ const skipR = argv.includes("--no-r");
 const withServices = argv.includes("--services");
 const onlyIndex = argv.indexOf("--only");
 const only = onlyIndex >= 0 ? argv[onlyIndex + 1] : undefined;
-const SUITES = ["engine", "intake", "runs", "intake-ingest", "runs-db"] as const;
+const SUITES = ["engine", "intake", "runs", "intake-ingest", "runs-db", "workers"] as const;
 type Suite = (typeof SUITES)[number];
 if (only !== undefined && !SUITES.includes(only as Suite)) {
   process.stderr.write(`bench: unknown suite '${only}'; choose one of ${SUITES.join(", ")}\n`);
   process.exit(2);
 }
 const wanted = (suite: Suite): boolean =>
-  only ? only === suite : suite === "intake-ingest" || suite === "runs-db" ? withServices : true;
+  only ? only === suite : suite === "intake-ingest" || suite === "runs-db" || suite === "workers" ? withServices : true;
 const log = json ? () => undefined : (line: string) => console.log(line);
 
 // Suites other than the engine run as child processes: each measures its own
@@ -91,6 +93,10 @@ if (wanted("runs-db")) {
 if (wanted("intake-ingest")) {
   log("\n# intake: 1,000,000 rows validated and COPY-ingested in one transaction");
   suites.intakeIngest = child("intake-ingest.ts", jsonFlag);
+}
+if (wanted("workers")) {
+  log("\n# workers: one large run with 1 and with 2 worker processes, enqueue → every result stored");
+  suites.workers = child("workers.ts", jsonFlag);
 }
 
 if (json) console.log(JSON.stringify({ results, suites }));
