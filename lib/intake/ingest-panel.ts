@@ -9,6 +9,7 @@
  * rolled back and nothing is left behind; the version is then marked
  * `rejected` with its report in a second, tiny transaction.
  */
+import { createHash, type Hash } from "node:crypto";
 import { once } from "node:events";
 import type { Readable } from "node:stream";
 import { from as copyFrom } from "pg-copy-streams";
@@ -48,6 +49,7 @@ interface VersionRow {
   version: number;
   state: string;
   s3_key: string;
+  sha256: string;
   layout: "long" | "wide";
   decimal_separator: "." | ",";
   mapping: unknown;
@@ -106,7 +108,7 @@ class CopyWriter {
 
 async function loadVersion(client: pg.PoolClient, versionId: number, lock: boolean): Promise<VersionRow | null> {
   const { rows } = await client.query<VersionRow>(
-    `SELECT pv.id, pv.panel_id, pv.version, pv.state, pv.s3_key, pv.layout, pv.decimal_separator, pv.mapping,
+    `SELECT pv.id, pv.panel_id, pv.version, pv.state, pv.s3_key, pv.sha256, pv.layout, pv.decimal_separator, pv.mapping,
             pv.boundary_version_id, p.workspace_id
        FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
       WHERE pv.id = $1 ${lock ? "FOR UPDATE OF pv" : ""}`,
@@ -219,7 +221,9 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
       const { rows: regionRows } = await client.query<{ code: string }>("SELECT code FROM regions WHERE boundary_version_id = $1 ORDER BY id", [
         version.boundary_version_id,
       ]);
-      const source: AsyncIterable<Uint8Array> = options.source ?? ((await getObjectStream(version.s3_key)) as Readable);
+      // The upload's presigned PUT URL outlives the checksum check, so what is read now must still be what was checked.
+      const checksum = options.source ? null : createHash("sha256");
+      const source: AsyncIterable<Uint8Array> = options.source ?? hashing((await getObjectStream(version.s3_key)) as Readable, checksum as Hash);
       const writer = new CopyWriter(client);
       const iterator = validatePanelStream({
         source,
@@ -243,6 +247,11 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
         writer.abort();
         await iterator.return(undefined as never).catch(() => undefined);
         throw err;
+      }
+      const actual = checksum && report.ok ? checksum.digest("hex") : null;
+      if (actual !== null && actual !== version.sha256) {
+        writer.abort();
+        throw new Error(`the stored file changed after its upload was checked (checksum ${actual.slice(0, 12)}… instead of ${version.sha256.slice(0, 12)}…); upload it again`);
       }
       if (!report.ok) {
         writer.abort();
@@ -275,6 +284,13 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
     return { state: "rejected", report };
   }
   return outcome;
+}
+
+async function* hashing(stream: AsyncIterable<Uint8Array>, hash: Hash): AsyncGenerator<Uint8Array> {
+  for await (const chunk of stream) {
+    hash.update(chunk);
+    yield chunk;
+  }
 }
 
 class RejectedPanel extends Error {

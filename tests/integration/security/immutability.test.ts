@@ -296,6 +296,25 @@ describe("an upload's presigned URL, still valid after the upload was checked, c
   });
 });
 
+describe("an upload's presigned URL, still valid after the upload was checked, cannot change what a panel version stores", () => {
+  it("panel bytes swapped after the check but before validation are rejected with a message naming the checksum, and no observations are stored", async () => {
+    const ticket = await ticketThroughRoutes(slug, "panel", "swapped.csv", longPanel({ size: SIZE, indicators: ["swap_test"] }));
+    const swapped = longPanel({ size: SIZE, indicators: ["swap_test"], shift: { region: "G2", year: 2019, by: 100 } });
+    const put = await fetch(ticket.url, { method: "PUT", headers: { "Content-Type": ticket.contentType }, body: swapped });
+    expect(put.ok).toBe(true);
+    const response = await postPanels(jsonRequest("POST", { uploadId: ticket.uploadId, panelId: panel.panelId, decimal: ".", mapping: LONG_MAPPING }), ctx({ slug }));
+    expect(response.status).toBe(202);
+    const { id } = (await response.json()) as { id: number };
+    expect(await settled("panel", id)).toBe("rejected");
+    const row = await one<{ report: { errors: { message: string }[] }; observations: number }>(
+      "SELECT report, (SELECT count(*)::int FROM observations WHERE panel_version_id = $1) AS observations FROM panel_versions WHERE id = $1",
+      [id],
+    );
+    expect(row.observations).toBe(0);
+    expect(row.report.errors[0]?.message).toMatch(/the stored file changed after its upload was checked \(checksum [0-9a-f]{12}… instead of [0-9a-f]{12}…\); upload it again$/);
+  });
+});
+
 // ——— the same in SQL: the triggers of migration 20261207000300
 
 class RolledBack extends Error {}
