@@ -1,5 +1,6 @@
 import type { Metadata } from "next";
 import localFont from "next/font/local";
+import { connection } from "next/server";
 import "./globals.css";
 
 // Shipped with the app: no web-font download at build or run time.
@@ -18,7 +19,11 @@ export const metadata: Metadata = {
   description: "A data room for regional economists: spatial clustering of regional indicators over time.",
 };
 
-export default function RootLayout({ children }: { children: React.ReactNode }) {
+export default async function RootLayout({ children }: { children: React.ReactNode }) {
+  // Every page renders per request so Next.js can stamp the CSP nonce from
+  // proxy.ts on its scripts; a page prerendered at build time (the not-found
+  // page was) would carry scripts the policy blocks.
+  await connection();
   return (
     <html lang="en" className={tesseraFont.variable}>
       <body className="min-h-screen font-sans antialiased">{children}</body>

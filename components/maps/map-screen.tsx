@@ -14,6 +14,7 @@ import { CLUSTER_COLOURS, CLUSTER_LABELS, CLUSTER_SHORT, fmt, fmtP, Notice, Pane
 import { compareQuery, geometryQuery, mapQuery } from "@/components/runs/query-options";
 import type { ClusterClass } from "@/lib/spatial";
 import type { MapPeriod } from "@/lib/runs/on-demand";
+import { escapeHtml } from "@/lib/security/html";
 import { RegionMap, useRegionFeatures } from "./region-map";
 
 const CLASSES: ClusterClass[] = ["HH", "LL", "HL", "LH", "not-significant", "no-neighbours"];
@@ -332,7 +333,8 @@ function ScatterPanel({ map, active, onSelect, testId }: { map: MapPeriod; activ
   }));
   const option: EChartsOption = {
     grid: { left: 60, right: 20, top: 20, bottom: 50 },
-    tooltip: { trigger: "item", formatter: (p) => (Array.isArray(p) ? "" : `${p.name}`) },
+    // ECharts inserts a formatter's string as HTML; region codes come from uploaded files.
+    tooltip: { trigger: "item", formatter: (p) => (Array.isArray(p) ? "" : escapeHtml(String(p.name ?? ""))) },
     xAxis: { type: "value", min: -extent, max: extent, name: "Standardised value z (sd units)", nameLocation: "middle", nameGap: 30, axisLabel: { color: INK }, splitLine: { show: false } },
     yAxis: { type: "value", min: -extent, max: extent, name: "Spatial lag of z (sd units)", nameLocation: "middle", nameGap: 40, axisLabel: { color: INK }, splitLine: { show: false } },
     series: [
