@@ -77,10 +77,8 @@ export class WorkerLease {
 
   private async connect(): Promise<void> {
     const client = new Client({ connectionString: env().DATABASE_URL, application_name: `tessera-worker-lease-${this.id}` });
-    client.on("error", (err: Error) => {
-      if (this.client === client) this.client = null;
-      this.options.log(`lease connection lost (${err.message}); reconnecting at the next heartbeat`);
-    });
+    client.on("error", (err: Error) => this.drop(client, err.message));
+    client.on("end", () => this.drop(client, "closed"));
     await client.connect();
     const { rows } = await client.query<{ locked: boolean }>("SELECT pg_try_advisory_lock($1, $2) AS locked", [LOCK_NAMESPACE, this.id]);
     if (!rows[0]?.locked) {
@@ -88,6 +86,14 @@ export class WorkerLease {
       throw new Error(`worker lease ${this.id} (${this.label}): its advisory lock is held by another session`);
     }
     this.client = client;
+  }
+
+  /** Forgets a broken lease connection; the next heartbeat opens a new one and takes the lock again. */
+  private drop(client: Client, reason: string): void {
+    if (this.client !== client) return;
+    this.client = null;
+    client.end().catch(() => undefined);
+    if (!this.stopped) this.options.log(`lease connection lost (${reason}); reconnecting at the next heartbeat`);
   }
 
   /** Heartbeats (and reaps, through `onTick`) every heartbeatSeconds until stop(). */
@@ -112,10 +118,12 @@ export class WorkerLease {
     }
     const client = this.client;
     if (!client) return;
-    const { rows } = await client.query<{ stop_reason: string | null }>(
-      "UPDATE job_workers SET heartbeat_at = now() WHERE id = $1 RETURNING stop_reason",
-      [this.id],
-    );
+    const { rows } = await client
+      .query<{ stop_reason: string | null }>("UPDATE job_workers SET heartbeat_at = now() WHERE id = $1 RETURNING stop_reason", [this.id])
+      .catch((err: Error) => {
+        this.drop(client, err.message);
+        throw err;
+      });
     if (rows[0]?.stop_reason) {
       // Another worker presumed us dead and handed our jobs back; they will run again elsewhere (harmless: handlers are idempotent).
       this.options.log(`lease: another worker presumed this one dead (${rows[0].stop_reason}); working on`);
