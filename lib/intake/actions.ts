@@ -167,7 +167,7 @@ export async function createUpload(member: MemberContext, input: CreateUploadInp
   const s3Key = `workspaces/${member.workspace.id}/uploads/${id}/${safeFileName(input.fileName)}`;
   const contentType = CONTENT_TYPES[input.kind];
   const expiresAt = new Date(Date.now() + UPLOAD_URL_SECONDS * 1000);
-  const url = await presignPut(s3Key, contentType, { expiresInSeconds: UPLOAD_URL_SECONDS });
+  const url = await presignPut(s3Key, contentType, { expiresInSeconds: UPLOAD_URL_SECONDS, contentLength: input.size });
   await Upload.create({
     id,
     workspaceId: member.workspace.id,

@@ -92,15 +92,17 @@ async function assertStoreAnswers(k: string): Promise<void> {
  * Content-Type header (it is part of the signature). Throws
  * StorageUnavailableError when the store does not answer.
  */
-export async function presignPut(objectKey: string, contentType: string, options: { expiresInSeconds?: number } = {}): Promise<string> {
+export async function presignPut(objectKey: string, contentType: string, options: { expiresInSeconds?: number; contentLength?: number } = {}): Promise<string> {
   const k = key(objectKey);
   const type = contentTypeSchema.parse(contentType);
   const expiresIn = expiresSchema.parse(options.expiresInSeconds ?? 900);
+  const length = options.contentLength === undefined ? undefined : z.number().int().min(0).parse(options.contentLength);
   await assertStoreAnswers(k);
-  // Sign the Content-Type header too, so an upload with any other type is refused.
-  return getSignedUrl(s3Client(), new PutObjectCommand({ Bucket: bucket(), Key: k, ContentType: type }), {
+  // Sign the Content-Type header too, so an upload with any other type is refused; with a
+  // length, Content-Length as well, so S3 refuses a body of any other size before storing it.
+  return getSignedUrl(s3Client(), new PutObjectCommand({ Bucket: bucket(), Key: k, ContentType: type, ContentLength: length }), {
     expiresIn,
-    signableHeaders: new Set(["content-type"]),
+    signableHeaders: new Set(length === undefined ? ["content-type"] : ["content-type", "content-length"]),
   });
 }
 

@@ -87,6 +87,16 @@ describe("oversized uploads", () => {
     expect(JSON.stringify(await response.json())).toMatch(/size/);
   });
 
+  it("binds the presigned PUT to the declared size: Content-Length is among the signed headers, so S3 refuses any other length", async () => {
+    const bytes = Buffer.from(longPanel({ years: [2002] }));
+    const response = await postUpload(jsonRequest("POST", { kind: "panel", fileName: "bound.csv", size: bytes.length, sha256: sha256(bytes) }), ctx({ slug }));
+    expect(response.status).toBe(201);
+    const ticket = (await response.json()) as { url: string };
+    const signed = new URL(ticket.url).searchParams.get("X-Amz-SignedHeaders")?.split(";") ?? [];
+    expect(signed).toEqual(expect.arrayContaining(["content-length", "content-type", "host"]));
+    // s3rver does not check signatures (a real S3 does), so what it stores here says nothing; the signature is the guarantee.
+  });
+
   it("refuses at completion an object larger than declared, from its stored size alone: never read, deleted, and no version can use it", async () => {
     const declared = Buffer.from(longPanel({ years: [2001] }));
     const ticketResponse = await postUpload(jsonRequest("POST", { kind: "panel", fileName: "small-declared.csv", size: declared.length, sha256: sha256(declared) }), ctx({ slug }));
