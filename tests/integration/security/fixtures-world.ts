@@ -137,6 +137,29 @@ export async function versionIn(world: Pick<World, "workspace">, state: VersionS
   return loadVeldmarkPanel(world.workspace.id, { state, indicators: ["unemployment_rate"], periods: ["2012"] });
 }
 
+/** Validated (unpublished) boundaries: a new set whose version copies the world's published regions and stored topology. */
+export async function validatedBoundaries(world: Pick<World, "workspace" | "panel">): Promise<number> {
+  return db().transaction(async (transaction) => {
+    const q = <T extends object>(sql: string, bind: unknown[]) => db().query<T>(sql, { bind, type: QueryTypes.SELECT, transaction });
+    const [set] = await q<{ id: number }>("INSERT INTO boundary_sets (workspace_id, name, created_at, updated_at) VALUES ($1, $2, now(), now()) RETURNING id", [
+      world.workspace.id,
+      `Unpublished districts ${tag()}`,
+    ]);
+    const [version] = await q<{ id: number }>(
+      `INSERT INTO boundary_versions (boundary_set_id, version, state, s3_key, file_name, byte_size, sha256, format, object_name, id_property,
+                                      name_property, region_count, validated_at, created_at, updated_at)
+       SELECT $1, 1, 'validated', s3_key, file_name, byte_size, $2, format, object_name, id_property, name_property, region_count, now(), now(), now()
+         FROM boundary_versions WHERE id = $3 RETURNING id`,
+      [set.id, randomBytes(32).toString("hex"), world.panel.boundaryVersionId],
+    );
+    await db().query("INSERT INTO regions (boundary_version_id, code, name, attributes) SELECT $1, code, name, attributes FROM regions WHERE boundary_version_id = $2 ORDER BY id", {
+      bind: [version.id, world.panel.boundaryVersionId],
+      transaction,
+    });
+    return version.id;
+  });
+}
+
 /** A new member with `role`, for calls that change or remove a member. */
 export async function extraMember(world: Pick<World, "workspace">, role: Role = "economist"): Promise<UserRow> {
   const user = await makeUser(`extra-${role}`);

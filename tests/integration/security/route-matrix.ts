@@ -5,6 +5,7 @@ import { db } from "@/lib/db";
 import { uniqueAddress } from "@/tests/helpers/env";
 import { unique } from "@/tests/integration/auth/fixtures";
 import {
+  validatedBoundaries,
   extraMember,
   panelCsv,
   pendingInvitation,
@@ -56,6 +57,14 @@ export interface WorkspaceRow {
   capability: Capability;
   /** The status an allowed role gets. */
   ok: number;
+  /**
+   * A second row for the same route and method, on other data, names what differs
+   * (e.g. "an unpublished version"). Its capability is the one the data needs,
+   * which the handler checks after memberRoute's guard.
+   */
+  variant?: string;
+  /** The status a member whose role is too small gets: 403, or 404 where the data does not exist for them (DESIGN.md §Roles). */
+  refused?: 403 | 404;
   /** What the call does, for the reader of the matrix. */
   does: string;
   /** Builds the call for `caller`; rows that consume something (publish, cancel, remove …) make it fresh here. */
@@ -170,6 +179,17 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
+    route: `${INTAKE}/versions/[kind]/[versionId]/route.ts`,
+    method: "GET",
+    variant: "an unpublished (validated) version",
+    capability: "data.view-unpublished",
+    refused: 404,
+    ok: 200,
+    does: "an unpublished version and its validation report do not exist for economists and subscribers",
+    prepare: async (w) => ({ params: { ...ws(w), kind: "panel", versionId: String((await versionIn(w, "validated")).panelVersionId) } }),
+  },
+  {
+    kind: "workspace",
     route: `${INTAKE}/versions/[kind]/[versionId]/publish/route.ts`,
     method: "POST",
     capability: "data.curate",
@@ -196,6 +216,28 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
     ok: 200,
     does: "the stored TopoJSON of published boundaries",
     prepare: async (w) => ({ params: { ...ws(w), versionId: String(w.panel.boundaryVersionId) } }),
+  },
+  {
+    kind: "workspace",
+    route: `${INTAKE}/boundaries/[versionId]/topology/route.ts`,
+    method: "GET",
+    variant: "unpublished (validated) boundaries",
+    capability: "data.view-unpublished",
+    refused: 404,
+    ok: 200,
+    does: "unpublished boundaries do not exist for economists and subscribers",
+    prepare: async (w) => ({ params: { ...ws(w), versionId: String(await validatedBoundaries(w)) } }),
+  },
+  {
+    kind: "workspace",
+    route: `${INTAKE}/boundaries/[versionId]/weights/route.ts`,
+    method: "GET",
+    variant: "unpublished (validated) boundaries",
+    capability: "data.view-unpublished",
+    refused: 404,
+    ok: 200,
+    does: "neighbours of unpublished boundaries: they do not exist for economists and subscribers",
+    prepare: async (w) => ({ params: { ...ws(w), versionId: String(await validatedBoundaries(w)) }, search: "rule=queen" }),
   },
   {
     kind: "workspace",
