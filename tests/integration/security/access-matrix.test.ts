@@ -176,6 +176,11 @@ describe("the matrix lists every route handler and server action", () => {
     }
   });
 
+  it("has a bad-query-string case for every workspace route that reads search parameters", () => {
+    const unchecked = WORKSPACE_ROWS.filter((row) => !row.variant && /searchParams|parseSearch\(/.test(readFileSync(path.join(ROOT, row.route), "utf8")) && !row.invalidQuery);
+    expect(unchecked.map((row) => `${row.method} ${row.route}`)).toEqual([]);
+  });
+
   it("has lib/auth/roles.ts grant exactly the capabilities of DESIGN.md §Roles", () => {
     for (const capability of CAPABILITIES) {
       expect(ROLES.filter((role) => can(role, capability))).toEqual(DESIGN_ROLES[capability]);
