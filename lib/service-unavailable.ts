@@ -9,6 +9,11 @@ export type UnavailableService = "database" | "file-store";
 
 const PREFIX = "tessera-unavailable:";
 
+export const UNAVAILABLE_TITLES: Record<UnavailableService, string> = {
+  database: "Tessera cannot reach its database",
+  "file-store": "Tessera cannot reach its file store",
+};
+
 export const UNAVAILABLE_MESSAGES: Record<UnavailableService, string> = {
   database: "The database is not answering (it may be restarting). Try again in a moment; if it keeps happening, tell your manager.",
   "file-store": "The file store is not answering. Try again in a few minutes; if it keeps happening, tell your manager.",
