@@ -58,6 +58,9 @@ function field(value: string): string {
   return /[",\r\n]/.test(value) ? `"${value.replace(/"/g, '""')}"` : value;
 }
 
+/** One value per grid square, all distinct (so no two points of a scatter plot cover each other), rising from one corner. */
+const BASE = [1.0, 2.7, 3.1, 4.9, 5.3, 6.8, 7.2, 8.6, 9.9];
+
 /**
  * A long panel over the grid: each hostile indicator for 2019–2021, values
  * rising from one corner (clustered), with a jitter from `tag` so every call
@@ -69,9 +72,7 @@ export function hostilePanel(tag: string): string {
   HOSTILE_INDICATORS.forEach((indicator, k) => {
     for (const year of [2019, 2020, 2021]) {
       HOSTILE_REGION_CODES.forEach((region, i) => {
-        const row = Math.floor(i / 3);
-        const col = i % 3;
-        const value = (row + col) * (k + 1) + (year - 2019) * 0.5 + ((i * 7) % 3) * 0.1 + jitter;
+        const value = BASE[i] * (k + 1) + (year - 2019) * 0.5 + jitter;
         lines.push([field(region), String(year), field(indicator), value.toFixed(3)].join(","));
       });
     }
