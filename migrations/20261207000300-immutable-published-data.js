@@ -24,39 +24,42 @@
 
 const PROTECTED = "('published','archived')";
 
+/**
+ * A statement-level guard for rows that belong to a version: refuses the
+ * statement when any row it touches belongs to a published or archived one.
+ */
+function versionRowsGuard({ fn, versions, fk, parents, parentFk, what, parentLabel, versionLabel }) {
+  const hit = (rows) =>
+    `SELECT v.id, v.version, v.state, parent.name INTO hit FROM ${versions} v JOIN ${parents} parent ON parent.id = v.${parentFk}
+     WHERE v.state IN ${PROTECTED} AND v.id IN (${rows}) LIMIT 1;`;
+  return `CREATE OR REPLACE FUNCTION ${fn}() RETURNS trigger LANGUAGE plpgsql AS $$
+DECLARE hit record;
+BEGIN
+  IF TG_OP = 'UPDATE' THEN
+    ${hit(`SELECT ${fk} FROM old_rows UNION SELECT ${fk} FROM new_rows`)}
+  ELSE
+    ${hit(`SELECT ${fk} FROM old_rows`)}
+  END IF;
+  IF FOUND THEN
+    RAISE EXCEPTION '${what} of ${parentLabel} "%" version % (${versionLabel} id %) cannot be changed: the version is %. Upload a new version instead.',
+      hit.name, hit.version, hit.id, hit.state USING ERRCODE = 'restrict_violation';
+  END IF;
+  RETURN NULL;
+END $$`;
+}
+
 const FUNCTIONS = [
-  `CREATE OR REPLACE FUNCTION tessera_guard_observations() RETURNS trigger LANGUAGE plpgsql AS $$
-DECLARE hit record;
-BEGIN
-  IF TG_OP = 'UPDATE' THEN
-    SELECT pv.id, pv.version, pv.state, p.name INTO hit FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
-     WHERE pv.state IN ${PROTECTED} AND pv.id IN (SELECT panel_version_id FROM old_rows UNION SELECT panel_version_id FROM new_rows) LIMIT 1;
-  ELSE
-    SELECT pv.id, pv.version, pv.state, p.name INTO hit FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
-     WHERE pv.state IN ${PROTECTED} AND pv.id IN (SELECT panel_version_id FROM old_rows) LIMIT 1;
-  END IF;
-  IF FOUND THEN
-    RAISE EXCEPTION 'Observations of panel "%" version % (panel version id %) cannot be changed: the version is %. Upload a new version instead.',
-      hit.name, hit.version, hit.id, hit.state USING ERRCODE = 'restrict_violation';
-  END IF;
-  RETURN NULL;
-END $$`,
-  `CREATE OR REPLACE FUNCTION tessera_guard_regions() RETURNS trigger LANGUAGE plpgsql AS $$
-DECLARE hit record;
-BEGIN
-  IF TG_OP = 'UPDATE' THEN
-    SELECT bv.id, bv.version, bv.state, s.name INTO hit FROM boundary_versions bv JOIN boundary_sets s ON s.id = bv.boundary_set_id
-     WHERE bv.state IN ${PROTECTED} AND bv.id IN (SELECT boundary_version_id FROM old_rows UNION SELECT boundary_version_id FROM new_rows) LIMIT 1;
-  ELSE
-    SELECT bv.id, bv.version, bv.state, s.name INTO hit FROM boundary_versions bv JOIN boundary_sets s ON s.id = bv.boundary_set_id
-     WHERE bv.state IN ${PROTECTED} AND bv.id IN (SELECT boundary_version_id FROM old_rows) LIMIT 1;
-  END IF;
-  IF FOUND THEN
-    RAISE EXCEPTION 'Regions of boundary set "%" version % (boundary version id %) cannot be changed: the version is %. Upload a new version instead.',
-      hit.name, hit.version, hit.id, hit.state USING ERRCODE = 'restrict_violation';
-  END IF;
-  RETURN NULL;
-END $$`,
+  versionRowsGuard({ fn: "tessera_guard_observations", versions: "panel_versions", fk: "panel_version_id", parents: "panels", parentFk: "panel_id", what: "Observations", parentLabel: "panel", versionLabel: "panel version" }),
+  versionRowsGuard({
+    fn: "tessera_guard_regions",
+    versions: "boundary_versions",
+    fk: "boundary_version_id",
+    parents: "boundary_sets",
+    parentFk: "boundary_set_id",
+    what: "Regions",
+    parentLabel: "boundary set",
+    versionLabel: "boundary version",
+  }),
   `CREATE OR REPLACE FUNCTION tessera_guard_run_results() RETURNS trigger LANGUAGE plpgsql AS $$
 DECLARE hit integer;
 BEGIN
