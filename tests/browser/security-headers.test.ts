@@ -1,8 +1,12 @@
 import type { Page } from "playwright-core";
 import demo from "@/seeders/demo-accounts.json";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
+import { SIGN_IN_MESSAGES } from "@/lib/auth/messages";
+import { MAX_FAILURES_PER_EMAIL } from "@/lib/auth/throttle";
 import { testServices, uniqueAddress } from "@/tests/helpers/env";
+import { closeConnections } from "@/tests/helpers/teardown";
 import { waitFor } from "@/tests/helpers/wait";
+import { PASSWORD, makeUser } from "@/tests/integration/auth/fixtures";
 import { watchSecurity } from "./security-watch";
 
 // The security headers as a browser meets them on the running app (next start):
@@ -57,6 +61,9 @@ beforeAll(() => {
 });
 afterEach(async () => {
   await session?.close();
+});
+afterAll(async () => {
+  await closeConnections();
 });
 
 describe("security headers on the running app", () => {
@@ -117,6 +124,28 @@ describe("security headers on the running app", () => {
     // The test app is plain http, so not Secure here; tests/unit/security/auth-cookies.test.ts holds the https case.
     expect(sessionCookie?.secure).toBe(false);
     expect(await session.page.evaluate(() => document.cookie)).not.toContain("session-token");
+  });
+
+  it(`refuses the right password after ${MAX_FAILURES_PER_EMAIL} wrong ones, and the form says why`, async () => {
+    const user = await makeUser("browser-guessed");
+    session = await openBrowser();
+    const { page, context } = session;
+    // An address of its own (a documentation range), so this test's failures do not count
+    // against 127.0.0.1, which every other browser test signs in from.
+    await context.setExtraHTTPHeaders({ "X-Forwarded-For": `203.0.113.${1 + Math.floor(Math.random() * 250)}` });
+    const alert = page.locator('form [role="alert"]');
+    const attempt = async (password: string) => {
+      await page.goto("/sign-in");
+      await page.getByLabel("E-mail address").fill(user.email);
+      await page.getByLabel("Password").fill(password);
+      await page.getByRole("button", { name: "Sign in" }).click();
+      await alert.waitFor();
+      return alert.innerText();
+    };
+    for (let i = 0; i < MAX_FAILURES_PER_EMAIL; i++) expect(await attempt(`wrong guess ${i}`)).toBe(SIGN_IN_MESSAGES.invalid);
+    expect(await attempt(PASSWORD)).toBe(SIGN_IN_MESSAGES.throttled);
+    expect(page.url()).toContain("/sign-in");
+    expect((await context.cookies()).some((c) => /session-token/.test(c.name))).toBe(false);
   });
 
   it("refuses to be framed by another page", async () => {
