@@ -28,8 +28,8 @@ const state: BossState = (globalForBoss.tesseraBoss ??= {});
 
 /**
  * The process-wide pg-boss instance on the app database (schema jobsSchema()),
- * started and with every queue of queues.ts created (pg-boss 10 requires
- * createQueue before send/work; createQueue is idempotent).
+ * started and with every queue of queues.ts created and up to date (pg-boss 10
+ * requires createQueue before send/work; createQueue is idempotent).
  *
  * A "sender" (the web app, tests) neither supervises nor schedules; the first
  * call decides the role. Workers call getBoss("worker").
@@ -51,7 +51,11 @@ export async function getBoss(role: BossRole = "sender"): Promise<PgBoss> {
       boss.on("error", (err: Error) => console.error(`[pg-boss] ${err.message}`));
       await boss.start();
       for (const name of QUEUE_NAMES) {
-        await boss.createQueue(name, { name, ...DEFAULT_QUEUE_SETTINGS, ...queueSettings[name] });
+        const settings = { name, ...DEFAULT_QUEUE_SETTINGS, ...queueSettings[name] };
+        await boss.createQueue(name, settings);
+        // createQueue leaves an existing queue as it was; this brings retry and
+        // expiry settings changed in queues.ts to databases made before the change.
+        await boss.updateQueue(name, settings);
       }
       // pg-boss keeps one schedule per queue name (re-registering replaces it); only workers register them.
       if (role === "worker") {
