@@ -6,7 +6,7 @@ import { weightsSums, type WeightsSums } from "./weights/summary";
 import { centred, checkedValues, requireRegions } from "./internal";
 import { normalTailProbabilities } from "./distributions";
 import { checkPermutationCount } from "./random";
-import { squaredDifferencePermutations, summarisePermutations } from "./permutation";
+import { globalPermutationSums, summarisePermutations } from "./permutation";
 
 /** Result of {@link gearyC}. */
 export interface GearyResult {
@@ -42,7 +42,7 @@ export interface GearyResult {
  * @param values one finite number per region, aligned with `weights.ids`.
  * @throws Error for misaligned or non-finite values, a constant variable,
  *   n < 4, no links, or bad permutation options.
- * Cost: O(n + L log k), plus O(R·(n + L)) for permutations.
+ * Cost: O(n + L log k), plus O(R·(n + L/2)) for permutations.
  * @example
  *   gearyC([1, 0, 1, 0, 1, 0, 1, 0, 1], rook3x3Binary).C; // > 1: neighbours differ
  */
@@ -52,6 +52,40 @@ export function gearyC(values: ArrayLike<number>, weights: SpatialWeights, optio
   requireRegions(n, 4, "Geary's C");
   const { z, sumSquares } = centred(x, weights);
   const sums = weightsSums(weights);
+  const observed = observedGeary(z, sumSquares, weights, sums);
+  const permutations = checkPermutationCount(options.permutations ?? 0);
+  let draws: Float64Array | null = null;
+  if (permutations > 0) {
+    if (!options.random) throw new Error("A permutation test needs a seeded random source (options.random).");
+    draws = globalPermutationSums(z, weights, permutations, options.random, { squaredDifferences: true }).squaredDifferences;
+  }
+  return gearyResult(n, sums, observed, draws);
+}
+
+/** The observed part of {@link gearyC}: everything but the permutation test. */
+export interface ObservedGeary {
+  readonly C: number;
+  readonly kurtosis: number;
+  readonly normality: AnalyticalInference;
+  readonly randomisation: AnalyticalInference;
+  /** (n − 1) / (2 S0 Σz²): turns a permuted Σ_i Σ_j w_ij (z_i − z_j)² into a permuted C. */
+  readonly scale: number;
+}
+
+/**
+ * Geary's C of the centred values with its analytical inference (see
+ * {@link gearyC}); shared by {@link gearyC} and `globalStatistics`.
+ *
+ * @param z centred values, aligned with `weights.ids`, n ≥ 4.
+ * @param sumSquares Σ z².
+ * @param sums S0, S1, S2 of `weights`.
+ * @throws Error when S0 = 0.
+ * Cost: O(n + L).
+ * @example
+ *   observedGeary(z, sumSquares, w, weightsSums(w)).C;
+ */
+export function observedGeary(z: Float64Array, sumSquares: number, weights: SpatialWeights, sums: WeightsSums): ObservedGeary {
+  const n = z.length;
   const { S0, S1, S2 } = sums;
   if (!(S0 > 0)) throw new Error("Geary's C needs at least one link between regions (S0 = 0).");
   let squaredDifferences = 0;
@@ -77,22 +111,30 @@ export function gearyC(values: ArrayLike<number>, weights: SpatialWeights, optio
     const zScore = (C - 1) / Math.sqrt(variance);
     return { variance, z: zScore, ...normalTailProbabilities(zScore) };
   };
-  const permutations = checkPermutationCount(options.permutations ?? 0);
+  return { C, kurtosis: b2, normality: inference(normalityVariance), randomisation: inference(randomisationVariance), scale };
+}
+
+/**
+ * Assembles a {@link GearyResult} from the observed part and the R permuted
+ * numerators Σ_i Σ_j w_ij (z_i − z_j)² (scaled in place to values of C), or
+ * null for no permutation test.
+ *
+ * Cost: O(R log R).
+ */
+export function gearyResult(n: number, sums: WeightsSums, observed: ObservedGeary, squaredDifferences: Float64Array | null): GearyResult {
   let permutation: PermutationSummary | null = null;
-  if (permutations > 0) {
-    if (!options.random) throw new Error("A permutation test needs a seeded random source (options.random).");
-    const draws = squaredDifferencePermutations(z, weights, permutations, options.random);
-    for (let r = 0; r < permutations; r++) draws[r] *= scale;
-    permutation = summarisePermutations(C, draws, 1);
+  if (squaredDifferences !== null) {
+    for (let r = 0; r < squaredDifferences.length; r++) squaredDifferences[r] *= observed.scale;
+    permutation = summarisePermutations(observed.C, squaredDifferences, 1);
   }
   return {
     n,
-    C,
+    C: observed.C,
     expectedC: 1,
     sums,
-    kurtosis: b2,
-    normality: inference(normalityVariance),
-    randomisation: inference(randomisationVariance),
+    kurtosis: observed.kurtosis,
+    normality: observed.normality,
+    randomisation: observed.randomisation,
     permutation,
   };
 }

@@ -6,7 +6,7 @@ import { weightsSums, type WeightsSums } from "./weights/summary";
 import { checkedValues, requireRegions, spatialLagInto } from "./internal";
 import { normalTailProbabilities } from "./distributions";
 import { checkPermutationCount } from "./random";
-import { crossProductPermutations, summarisePermutations } from "./permutation";
+import { globalPermutationSums, summarisePermutations } from "./permutation";
 
 /** Result of {@link generalG}. */
 export interface GeneralGResult {
@@ -44,7 +44,7 @@ export interface GeneralGResult {
  * @throws Error for misaligned or non-finite values, a negative value, all
  *   values zero or a single non-zero value (denominator 0), n < 4, no links,
  *   or bad permutation options.
- * Cost: O(n + L log k), plus O(R·(n + L)) for permutations.
+ * Cost: O(n + L log k), plus O(R·(n + L/2)) for permutations.
  * @example
  *   generalG(incomePerHead, binaryBand).randomisation.pGreater;
  */
@@ -52,6 +52,41 @@ export function generalG(values: ArrayLike<number>, weights: SpatialWeights, opt
   const x = checkedValues(values, weights);
   const n = x.length;
   requireRegions(n, 4, "General G");
+  const sums = weightsSums(weights);
+  const observed = observedGeneralG(x, weights, sums);
+  const permutations = checkPermutationCount(options.permutations ?? 0);
+  let draws: Float64Array | null = null;
+  if (permutations > 0) {
+    if (!options.random) throw new Error("A permutation test needs a seeded random source (options.random).");
+    // x has no diagonal weights (checked), so the cross-products are Σ_{i≠j} w_ij x_i x_j.
+    draws = globalPermutationSums(x, weights, permutations, options.random).crossProducts;
+  }
+  return generalGResult(n, sums, observed, draws);
+}
+
+/** The observed part of {@link generalG}: everything but the permutation test. */
+export interface ObservedGeneralG {
+  readonly G: number;
+  readonly expectedG: number;
+  readonly randomisation: AnalyticalInference;
+  /** Σ_{i≠j} x_i x_j: divides a permuted Σ_{i≠j} w_ij x_i x_j into a permuted G. */
+  readonly denominator: number;
+}
+
+/**
+ * General G of the values with its analytical inference (see
+ * {@link generalG}); shared by {@link generalG} and `globalStatistics`.
+ *
+ * @param x values, aligned with `weights.ids`, n ≥ 4.
+ * @param sums S0, S1, S2 of `weights`.
+ * @throws Error for a negative value, fewer than two non-zero values, S0 = 0
+ *   or a self-link in the weights.
+ * Cost: O(n + L).
+ * @example
+ *   observedGeneralG(x, w, weightsSums(w)).G;
+ */
+export function observedGeneralG(x: Float64Array, weights: SpatialWeights, sums: WeightsSums): ObservedGeneralG {
+  const n = x.length;
   let m1 = 0;
   let m2 = 0;
   let m3 = 0;
@@ -68,7 +103,6 @@ export function generalG(values: ArrayLike<number>, weights: SpatialWeights, opt
   if (!(denominator > 1e-12 * m1 * m1)) {
     throw new Error("General G is undefined: fewer than two regions have a non-zero value.");
   }
-  const sums = weightsSums(weights);
   const { S0, S1, S2 } = sums;
   if (!(S0 > 0)) throw new Error("General G needs at least one link between regions (S0 = 0).");
   for (let i = 0; i < n; i++) {
@@ -92,20 +126,21 @@ export function generalG(values: ArrayLike<number>, weights: SpatialWeights, opt
     (denominator * denominator * n * (n - 1) * (n - 2) * (n - 3));
   const variance = secondMoment - expectedG * expectedG;
   const zScore = (G - expectedG) / Math.sqrt(variance);
-  const permutations = checkPermutationCount(options.permutations ?? 0);
+  return { G, expectedG, randomisation: { variance, z: zScore, ...normalTailProbabilities(zScore) }, denominator };
+}
+
+/**
+ * Assembles a {@link GeneralGResult} from the observed part and the R
+ * permuted numerators Σ_{i≠j} w_ij x_i x_j (divided in place into values of
+ * G), or null for no permutation test.
+ *
+ * Cost: O(R log R).
+ */
+export function generalGResult(n: number, sums: WeightsSums, observed: ObservedGeneralG, crossProducts: Float64Array | null): GeneralGResult {
   let permutation: PermutationSummary | null = null;
-  if (permutations > 0) {
-    if (!options.random) throw new Error("A permutation test needs a seeded random source (options.random).");
-    const draws = crossProductPermutations(x, weights, permutations, options.random);
-    for (let r = 0; r < permutations; r++) draws[r] /= denominator;
-    permutation = summarisePermutations(G, draws, expectedG);
+  if (crossProducts !== null) {
+    for (let r = 0; r < crossProducts.length; r++) crossProducts[r] /= observed.denominator;
+    permutation = summarisePermutations(observed.G, crossProducts, observed.expectedG);
   }
-  return {
-    n,
-    G,
-    expectedG,
-    sums,
-    randomisation: { variance, z: zScore, ...normalTailProbabilities(zScore) },
-    permutation,
-  };
+  return { n, G: observed.G, expectedG: observed.expectedG, sums, randomisation: observed.randomisation, permutation };
 }

@@ -6,7 +6,7 @@ import { weightsSums, type WeightsSums } from "./weights/summary";
 import { centred, checkedValues, requireRegions, spatialLagInto } from "./internal";
 import { normalTailProbabilities } from "./distributions";
 import { checkPermutationCount } from "./random";
-import { crossProductPermutations, summarisePermutations } from "./permutation";
+import { globalPermutationSums, summarisePermutations } from "./permutation";
 
 /** Result of {@link globalMoran}. */
 export interface GlobalMoranResult {
@@ -75,6 +75,57 @@ export function moranMoments(
   };
 }
 
+/** The observed part of {@link globalMoran}: everything but the permutation test. */
+export interface ObservedMoran {
+  readonly I: number;
+  readonly expectedI: number;
+  readonly kurtosis: number;
+  readonly normality: AnalyticalInference;
+  readonly randomisation: AnalyticalInference;
+  /** n / (S0 Σz²): turns a permuted Σ_i Σ_j w_ij z_i z_j into a permuted I. */
+  readonly scale: number;
+}
+
+/**
+ * Moran's I of the centred values with its analytical inference (see
+ * {@link globalMoran}); shared by {@link globalMoran} and `globalStatistics`.
+ *
+ * @param z centred values x − x̄, aligned with `weights.ids`, n ≥ 4.
+ * @param sumSquares Σ z².
+ * @param sums S0, S1, S2 of `weights`.
+ * @throws Error when n < 4 or S0 = 0.
+ * Cost: O(n + L).
+ * @example
+ *   observedMoran(z, sumSquares, w, weightsSums(w)).I;
+ */
+export function observedMoran(z: Float64Array, sumSquares: number, weights: SpatialWeights, sums: WeightsSums): ObservedMoran {
+  const n = z.length;
+  if (!(sums.S0 > 0)) throw new Error("Moran's I needs at least one link between regions (S0 = 0).");
+  const lag = spatialLagInto(weights, z, new Float64Array(n));
+  let crossProduct = 0;
+  let fourth = 0;
+  for (let i = 0; i < n; i++) {
+    crossProduct += z[i] * lag[i];
+    fourth += z[i] ** 4;
+  }
+  const scale = n / (sums.S0 * sumSquares);
+  const I = scale * crossProduct;
+  const kurtosis = (n * fourth) / (sumSquares * sumSquares);
+  const moments = moranMoments(n, sums, kurtosis);
+  const inference = (variance: number): AnalyticalInference => {
+    const zScore = (I - moments.expected) / Math.sqrt(variance);
+    return { variance, z: zScore, ...normalTailProbabilities(zScore) };
+  };
+  return {
+    I,
+    expectedI: moments.expected,
+    kurtosis,
+    normality: inference(moments.normalityVariance),
+    randomisation: inference(moments.randomisationVariance),
+    scale,
+  };
+}
+
 /**
  * Global Moran's I (P. A. P. Moran 1950, Biometrika 37; moments from Cliff &
  * Ord 1981):
@@ -92,7 +143,7 @@ export function moranMoments(
  * @throws Error when lengths differ, a value is not finite, the variable is
  *   constant, n < 4, there are no links, or permutations are requested without
  *   a random source or outside 99..99,999.
- * Cost: O(n + L log k) analytically, plus O(R·(n + L)) for R permutations.
+ * Cost: O(n + L log k) analytically, plus O(R·(n + L/2)) for R permutations.
  * @example
  *   // a 2-colour checkerboard on a rook lattice with binary weights: I = −1
  *   globalMoran([1, 0, 1, 0, 1, 0, 1, 0, 1], rookLattice3x3).I;
@@ -107,41 +158,45 @@ export function globalMoran(
   requireRegions(n, 4, "Moran's I");
   const { z, sumSquares } = centred(x, weights);
   const sums = weightsSums(weights);
-  if (!(sums.S0 > 0)) throw new Error("Moran's I needs at least one link between regions (S0 = 0).");
-  const lag = spatialLagInto(weights, z, new Float64Array(n));
-  let crossProduct = 0;
-  let fourth = 0;
-  for (let i = 0; i < n; i++) {
-    crossProduct += z[i] * lag[i];
-    fourth += z[i] ** 4;
-  }
-  const scale = n / (sums.S0 * sumSquares);
-  const I = scale * crossProduct;
-  const kurtosis = (n * fourth) / (sumSquares * sumSquares);
-  const moments = moranMoments(n, sums, kurtosis);
-  const inference = (variance: number): AnalyticalInference => {
-    const zScore = (I - moments.expected) / Math.sqrt(variance);
-    return { variance, z: zScore, ...normalTailProbabilities(zScore) };
-  };
-
+  const observed = observedMoran(z, sumSquares, weights, sums);
   const permutations = checkPermutationCount(options.permutations ?? 0);
-  let permutation: PermutationSummary | null = null;
-  let permutedValues: Float64Array | null = null;
+  let draws: Float64Array | null = null;
   if (permutations > 0) {
     if (!options.random) throw new Error("A permutation test needs a seeded random source (options.random).");
-    const draws = crossProductPermutations(z, weights, permutations, options.random);
-    for (let r = 0; r < permutations; r++) draws[r] *= scale;
-    permutation = summarisePermutations(I, draws, 1);
-    if (options.keepPermutedValues) permutedValues = draws;
+    draws = globalPermutationSums(z, weights, permutations, options.random).crossProducts;
+  }
+  return moranResult(n, sums, observed, draws, options.keepPermutedValues === true);
+}
+
+/**
+ * Assembles a {@link GlobalMoranResult} from the observed part and the R
+ * permuted numerators Σ_i Σ_j w_ij z_i z_j (scaled in place to values of I),
+ * or null for no permutation test.
+ *
+ * Cost: O(R log R).
+ */
+export function moranResult(
+  n: number,
+  sums: WeightsSums,
+  observed: ObservedMoran,
+  crossProducts: Float64Array | null,
+  keepPermutedValues: boolean,
+): GlobalMoranResult {
+  let permutation: PermutationSummary | null = null;
+  let permutedValues: Float64Array | null = null;
+  if (crossProducts !== null) {
+    for (let r = 0; r < crossProducts.length; r++) crossProducts[r] *= observed.scale;
+    permutation = summarisePermutations(observed.I, crossProducts, 1);
+    if (keepPermutedValues) permutedValues = crossProducts;
   }
   return {
     n,
-    I,
-    expectedI: moments.expected,
+    I: observed.I,
+    expectedI: observed.expectedI,
     sums,
-    kurtosis,
-    normality: inference(moments.normalityVariance),
-    randomisation: inference(moments.randomisationVariance),
+    kurtosis: observed.kurtosis,
+    normality: observed.normality,
+    randomisation: observed.randomisation,
     permutation,
     permutedValues,
   };

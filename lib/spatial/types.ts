@@ -93,6 +93,14 @@ export interface RandomSource {
   nextInt(bound: number): number;
   /** A uniform double in [0, 1) with 53 random bits. */
   nextFloat(): number;
+  /**
+   * Shuffles `values` in place into a uniformly random order (Fisher–Yates);
+   * when `swaps` (length ≥ values.length) is given, the partner j of every
+   * position i ≥ 1 is recorded in swaps[i], so that the same shuffle can be
+   * applied to another array. The random numbers consumed depend only on
+   * values.length and the generator's state.
+   */
+  shuffle(values: Float64Array, swaps?: Int32Array | null): void;
 }
 
 /** Tail probabilities of a test statistic under a reference distribution. */
