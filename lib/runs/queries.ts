@@ -178,7 +178,12 @@ export interface CatalogueFilter {
   limit?: number;
 }
 
-function catalogueQuery(workspaceId: number, filter: CatalogueFilter): { sql: string; bind: unknown[] } {
+/**
+ * One row per indicator × period. Without a run, each indicator's rows come
+ * from the latest completed run that analysed it. Period bounds compare
+ * period keys as text (ISO-like keys such as 2019, 2019-Q3 sort correctly).
+ */
+export async function catalogueRows(workspaceId: number, filter: CatalogueFilter): Promise<CatalogueRow[]> {
   const bind: unknown[] = [workspaceId];
   const where: string[] = [];
   let source: string;
@@ -208,25 +213,6 @@ function catalogueQuery(workspaceId: number, filter: CatalogueFilter): { sql: st
     where.push(`(rr.indicator_code ILIKE $${bind.length} OR i.label ILIKE $${bind.length})`);
   }
   bind.push(Math.min(filter.limit ?? 20_000, 50_000));
-  const sql = `WITH chosen AS (${source})
-     SELECT rr.run_id, rr.indicator_code, i.label, i.unit, rr.period_key, rr.period_index, rr.status, rr.note, rr.n, rr.i, rr.expected_i,
-            rr.z_randomisation, rr.p_randomisation, rr.perm_p, rr.adjusted_p, rr.significance, rr.delta_i, rr.geary_c, rr.general_g
-       FROM chosen c
-       JOIN run_results rr ON rr.run_id = c.run_id AND rr.indicator_code = c.indicator_code
-       LEFT JOIN indicators i ON i.workspace_id = $1 AND i.code = rr.indicator_code
-      ${where.length ? `WHERE ${where.join(" AND ")}` : ""}
-      ORDER BY rr.indicator_code, rr.period_index
-      LIMIT $${bind.length}`;
-  return { sql, bind };
-}
-
-/**
- * One row per indicator × period. Without a run, each indicator's rows come
- * from the latest completed run that analysed it. Period bounds compare
- * period keys as text (ISO-like keys such as 2019, 2019-Q3 sort correctly).
- */
-export async function catalogueRows(workspaceId: number, filter: CatalogueFilter): Promise<CatalogueRow[]> {
-  const { sql, bind } = catalogueQuery(workspaceId, filter);
   const rows = await db().query<{
     run_id: number;
     indicator_code: string;
@@ -248,7 +234,15 @@ export async function catalogueRows(workspaceId: number, filter: CatalogueFilter
     geary_c: number | null;
     general_g: number | null;
   }>(
-    sql,
+    `WITH chosen AS (${source})
+     SELECT rr.run_id, rr.indicator_code, i.label, i.unit, rr.period_key, rr.period_index, rr.status, rr.note, rr.n, rr.i, rr.expected_i,
+            rr.z_randomisation, rr.p_randomisation, rr.perm_p, rr.adjusted_p, rr.significance, rr.delta_i, rr.geary_c, rr.general_g
+       FROM chosen c
+       JOIN run_results rr ON rr.run_id = c.run_id AND rr.indicator_code = c.indicator_code
+       LEFT JOIN indicators i ON i.workspace_id = $1 AND i.code = rr.indicator_code
+      ${where.length ? `WHERE ${where.join(" AND ")}` : ""}
+      ORDER BY rr.indicator_code, rr.period_index
+      LIMIT $${bind.length}`,
     { bind, type: QueryTypes.SELECT },
   );
   return rows.map((r) => ({
@@ -272,28 +266,6 @@ export async function catalogueRows(workspaceId: number, filter: CatalogueFilter
     gearyC: r.geary_c,
     generalG: r.general_g,
   }));
-}
-
-/**
- * The rows of catalogueRows as the JSON text of an array, built by PostgreSQL.
- * For a 10,000-row catalogue this skips turning 190,000 fields into objects and
- * back into text in the app, which was most of the response time (npm run load).
- * Keys and values are the same as catalogueRows' (float8 prints in shortest
- * round-trip form in both); a test compares the two.
- */
-export async function catalogueRowsJson(workspaceId: number, filter: CatalogueFilter): Promise<string> {
-  const { sql, bind } = catalogueQuery(workspaceId, filter);
-  const [row] = await db().query<{ rows: string }>(
-    `SELECT coalesce(json_agg(json_build_object(
-              'runId', q.run_id, 'indicator', q.indicator_code, 'indicatorLabel', coalesce(q.label, q.indicator_code), 'unit', q.unit,
-              'period', q.period_key, 'periodIndex', q.period_index, 'status', q.status, 'note', q.note, 'n', q.n, 'I', q.i,
-              'expectedI', q.expected_i, 'z', q.z_randomisation, 'p', q.p_randomisation, 'pseudoP', q.perm_p, 'adjustedP', q.adjusted_p,
-              'significance', q.significance, 'deltaI', q.delta_i, 'gearyC', q.geary_c, 'generalG', q.general_g)
-            ORDER BY q.indicator_code, q.period_index), '[]')::text AS rows
-       FROM (${sql}) q`,
-    { bind, type: QueryTypes.SELECT },
-  );
-  return row?.rows ?? "[]";
 }
 
 // ——— Timeline ———
