@@ -3,26 +3,27 @@
  * script and the benchmarks all call these functions, so a number on the
  * screen is the number this file produced.
  *
- * Randomness: every statistic of every period restarts its own generator from
- * the run's seed (Moran from `seed`, Geary, General G and local Moran from
- * seeds derived from it). The permutation draws are therefore the same for
- * every period (common random numbers, DESIGN.md §Statistics → Panels), and
- * an indicator's numbers do not depend on which other indicators the run
+ * Randomness: every period restarts its generators from the run's seed. The
+ * three global statistics (Moran's I, Geary's C, General G) share one
+ * permutation test drawn from `seed` itself (`globalStatistics`: one shuffle
+ * per draw, the same relabellings for all three, so each equals the CLI's
+ * moran / geary / getis-ord with --seed S); local Moran draws from a seed
+ * derived from it. The permutation draws are therefore the same for every
+ * period (common random numbers, DESIGN.md §Statistics → Panels), and an
+ * indicator's numbers do not depend on which other indicators the run
  * includes.
  */
 import type { Topology } from "topojson-specification";
 import {
   createRandomSource,
-  gearyC,
-  generalG,
-  globalMoran,
+  globalStatistics,
   localMoran,
   parseWeightsSpecification,
   prepareAnalysis,
   regionCentroids,
   weightsFromTopology,
   type ClusterClass,
-  type GlobalMoranResult,
+  type GlobalStatisticsResult,
   type PreparedAnalysis,
   type RegionPoints,
   type RegionValues,
@@ -74,12 +75,17 @@ export function buildRunGeometry(
   }
 }
 
-/** Seed of each statistic's generator, derived from the run's seed. */
-export function statisticSeed(seed: number, statistic: "moran" | "geary" | "general-g" | "local"): number {
-  const salt = { moran: 0, geary: 1, "general-g": 2, local: 3 }[statistic];
-  // Keep the run's seed for Moran (so the CLI with --seed S reproduces it);
-  // spread the others with a large odd constant, staying a 31-bit integer.
-  return salt === 0 ? seed : (seed + salt * 0x3c6ef35f) % 2_147_483_647;
+/**
+ * Seed of each permutation test's generator, derived from the run's seed:
+ * "moran" is the global test (Moran's I, and with it Geary's C and General G),
+ * "local" local Moran's.
+ */
+export function statisticSeed(seed: number, statistic: "moran" | "local"): number {
+  // Keep the run's seed for the global test (so the CLI with --seed S
+  // reproduces it); spread the local one with a large odd constant, staying a
+  // 31-bit integer. (Salts 1 and 2 were Geary's and General G's own seeds
+  // before they shared the global test.)
+  return statistic === "moran" ? seed : (seed + 3 * 0x3c6ef35f) % 2_147_483_647;
 }
 
 /** Minimum number of regions with a value for the global statistics (their variances divide by n − 3). */
@@ -151,9 +157,9 @@ export function computePeriod(
     return notComputed(base, "no-links", notes.join(" "), n, exclusions, weights);
   }
 
-  let global: GlobalMoranResult;
+  let statistics: GlobalStatisticsResult;
   try {
-    global = globalMoran(prepared.values, prepared.weights, {
+    statistics = globalStatistics(prepared.values, prepared.weights, {
       permutations: params.permutations,
       random: createRandomSource(statisticSeed(params.seed, "moran")),
     });
@@ -161,6 +167,7 @@ export function computePeriod(
     notes.unshift(`Moran's I could not be computed: ${messageOf(error)}`);
     return notComputed(base, "error", notes.join(" "), n, exclusions, weights);
   }
+  const global = statistics.moran;
   const moran: MoranFields = {
     I: global.I,
     expectedI: global.expectedI,
@@ -187,37 +194,24 @@ export function computePeriod(
       }
     : null;
 
-  let geary: GearyFields | null = null;
-  try {
-    const result = gearyC(prepared.values, prepared.weights, {
-      permutations: params.permutations,
-      random: createRandomSource(statisticSeed(params.seed, "geary")),
-    });
-    geary = {
-      C: result.C,
-      zRandomisation: result.randomisation.z,
-      pRandomisation: result.randomisation.pTwoSided,
-      pseudoP: result.permutation?.pTwoSided ?? null,
-    };
-  } catch (error) {
-    notes.push(`Geary's C was not computed: ${messageOf(error)}`);
-  }
+  const geary: GearyFields = {
+    C: statistics.geary.C,
+    zRandomisation: statistics.geary.randomisation.z,
+    pRandomisation: statistics.geary.randomisation.pTwoSided,
+    pseudoP: statistics.geary.permutation?.pTwoSided ?? null,
+  };
 
   let generalGFields: GeneralGFields | null = null;
-  try {
-    const result = generalG(prepared.values, prepared.weights, {
-      permutations: params.permutations,
-      random: createRandomSource(statisticSeed(params.seed, "general-g")),
-    });
+  if (statistics.generalG) {
     generalGFields = {
-      G: result.G,
-      expectedG: result.expectedG,
-      z: result.randomisation.z,
-      p: result.randomisation.pTwoSided,
-      pseudoP: result.permutation?.pTwoSided ?? null,
+      G: statistics.generalG.G,
+      expectedG: statistics.generalG.expectedG,
+      z: statistics.generalG.randomisation.z,
+      p: statistics.generalG.randomisation.pTwoSided,
+      pseudoP: statistics.generalG.permutation?.pTwoSided ?? null,
     };
-  } catch (error) {
-    notes.push(`General G was not computed: ${messageOf(error)}`);
+  } else {
+    notes.push(`General G was not computed: ${statistics.generalGProblem ?? "it is undefined for these values."}`);
   }
 
   let local: LocalFields | null = null;

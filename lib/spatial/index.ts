@@ -87,6 +87,8 @@ export { gearyC } from "./geary";
 export type { GearyResult } from "./geary";
 export { generalG } from "./general-g";
 export type { GeneralGResult } from "./general-g";
+export { globalStatistics } from "./global-statistics";
+export type { GlobalStatisticsResult } from "./global-statistics";
 export { bivariateMoran } from "./bivariate-moran";
 export type { BivariateMoranResult } from "./bivariate-moran";
 export { moranScatterPlot } from "./moran-scatter";

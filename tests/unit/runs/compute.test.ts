@@ -1,4 +1,4 @@
-import { globalMoran, prepareAnalysis, createRandomSource, weightsFromNeighbourLists, type SpatialWeights } from "@/lib/spatial";
+import { gearyC, generalG, globalMoran, prepareAnalysis, createRandomSource, weightsFromNeighbourLists, type SpatialWeights } from "@/lib/spatial";
 import { computeIndicator, computePeriod, statisticSeed, type PeriodParams, type RunGeometry } from "@/lib/runs/compute";
 
 // A 6 × 6 rook lattice (36 regions "r0".."r35") plus one region "isle" with
@@ -71,6 +71,16 @@ describe("computePeriod", () => {
     expect(row.moran?.I).toBe(direct.I);
     expect(row.permutation?.pTwoSided).toBe(direct.permutation?.pTwoSided);
     expect(row.permutation?.mean).toBe(direct.permutation?.mean);
+  });
+
+  it("tests Geary's C and General G on Moran's relabellings: each equals the engine's own test with the run's seed", () => {
+    const row = computePeriod(geometry, params, "x", "2020", gradient());
+    const prepared = prepareAnalysis(geometry.baseWeights, gradient(), { islandPolicy: "exclude", transform: "row-standardised" });
+    const options = () => ({ permutations: 199, random: createRandomSource(7) });
+    const geary = gearyC(prepared.values, prepared.weights, options());
+    const g = generalG(prepared.values, prepared.weights, options());
+    expect(row.geary).toEqual({ C: geary.C, zRandomisation: geary.randomisation.z, pRandomisation: geary.randomisation.pTwoSided, pseudoP: geary.permutation?.pTwoSided });
+    expect(row.generalG).toEqual({ G: g.G, expectedG: g.expectedG, z: g.randomisation.z, p: g.randomisation.pTwoSided, pseudoP: g.permutation?.pTwoSided });
   });
 
   it("explains a constant indicator instead of failing", () => {

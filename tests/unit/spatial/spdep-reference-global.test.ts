@@ -27,6 +27,7 @@ import {
   gearyC,
   generalG,
   globalMoran,
+  globalStatistics,
   rowStandardisedWeights,
   weightsFromNeighbourLists,
   type SpatialWeights,
@@ -234,6 +235,43 @@ describe(`Permutation inference vs ${SPDEP} moran.mc / geary.mc (within sampling
         }
       }
       c.assertAll(3 * 2 * 8);
+    });
+  }
+
+  for (const key of WEIGHTS_KEYS) {
+    test(`${key}: the shared test of globalStatistics (one shuffle per draw for I, C and G) is as valid a draw (R = ${R})`, () => {
+      const weights = spdepWeights(key);
+      const c = new Comparison();
+      for (const v of VARIABLE_KEYS) {
+        const x = data.variables[v].x;
+        const label = `${key} ${v}`;
+        const shared = globalStatistics(x, weights, { permutations: R, random: createRandomSource(SEED) });
+        // Moran's test is globalMoran's with the same seed, number for number.
+        expect(shared.moran).toEqual(globalMoran(x, weights, { permutations: R, random: createRandomSource(SEED) }));
+        // Analytic C and G are untouched by the sharing.
+        const geary = gearyC(x, weights);
+        const g = generalG(x, weights);
+        c.equal(`${label} C`, shared.geary.C, geary.C);
+        c.equal(`${label} Geary randomisation z`, shared.geary.randomisation.z, geary.randomisation.z);
+        c.equal(`${label} G`, shared.generalG?.G ?? NaN, g.G);
+        c.equal(`${label} General G z`, shared.generalG?.randomisation.z ?? NaN, g.randomisation.z);
+        // source: spdep geary.mc(nsim = 9999), set.seed(meta.seed); fixture nc-global.json (engine pLess = spdep "greater")
+        const fg = globalFixture.weights[key].variables[v].gearyMc.nsim9999.greater;
+        const gearyPerm = shared.geary.permutation;
+        const gPerm = shared.generalG?.permutation;
+        if (!gearyPerm || !gPerm) {
+          c.mismatches.push(`${label}: a shared permutation summary is missing`);
+          continue;
+        }
+        c.close(`${label} Geary pGreater vs spdep geary.mc`, gearyPerm.pGreater, textbookGreater(fg), 0, permutationTolerance(textbookGreater(fg), R));
+        c.close(`${label} Geary pLess vs spdep geary.mc`, gearyPerm.pLess, textbookLess(fg), 0, permutationTolerance(textbookLess(fg), R));
+        // No General G Monte Carlo in the fixtures: compare with generalG on a stream of its own (seed + 2).
+        const own = generalG(x, weights, { permutations: R, random: createRandomSource(SEED + 2) }).permutation;
+        if (!own) throw new Error("generalG returned no permutation summary");
+        c.close(`${label} General G pGreater, shared vs own stream`, gPerm.pGreater, own.pGreater, 0, permutationTolerance(own.pGreater, R));
+        c.close(`${label} General G pLess, shared vs own stream`, gPerm.pLess, own.pLess, 0, permutationTolerance(own.pLess, R));
+      }
+      c.assertAll(3 * 8);
     });
   }
 
