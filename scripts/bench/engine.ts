@@ -2,10 +2,10 @@
  * Engine benchmark (DESIGN.md §Performance): global Moran's I with 999
  * permutations and local Moran's I with 999 conditional permutations on
  * row-standardised rook lattices of 50×50, 100×100 and 200×200 cells, one
- * thread. Reports wall-clock ms (best of a few repetitions after a warm-up)
- * and ns per permutation-link. If R with spdep is installed, times
- * spdep::moran.mc and spdep::localmoran_perm on the same lattice (100×100)
- * and prints the ratio.
+ * thread. Reports wall-clock and CPU ms (best, and median, of five
+ * repetitions after a warm-up) and ns per permutation-link. If R with spdep
+ * is installed, times spdep::moran.mc and spdep::localmoran_perm on the same
+ * lattice (100×100) and prints the ratio.
  */
 import { spawnSync } from "node:child_process";
 import { createRandomSource, globalMoran, latticeWeights, localMoran, rowStandardisedWeights } from "../../lib/spatial";
@@ -17,7 +17,12 @@ export interface EngineBenchResult {
   readonly n: number;
   readonly links: number;
   readonly permutations: number;
+  /** Best wall-clock ms of the repetitions. */
   readonly ms: number;
+  /** Median wall-clock ms, and CPU ms (best repetition's and median), of the repetitions. */
+  readonly medianMs: number;
+  readonly cpuMs: number;
+  readonly medianCpuMs: number;
 }
 
 /** Options of {@link runEngineBench}. */
@@ -28,30 +33,51 @@ export interface EngineBenchOptions {
   readonly log?: (line: string) => void;
 }
 
-/** Best wall-clock ms over the repetitions (after a warm-up), with the process CPU ms of that run. */
-function timeBest(repetitions: number, run: () => void): { ms: number; cpuMs: number } {
+interface Timing {
+  /** Best wall-clock ms, and the process CPU ms of that repetition. */
+  readonly ms: number;
+  readonly cpuMs: number;
+  /** Medians over the repetitions (wall and CPU separately). */
+  readonly medianMs: number;
+  readonly medianCpuMs: number;
+}
+
+const median = (values: number[]): number => {
+  const sorted = [...values].sort((a, b) => a - b);
+  const middle = sorted.length >> 1;
+  return sorted.length % 2 ? sorted[middle] : (sorted[middle - 1] + sorted[middle]) / 2;
+};
+
+/** Best and median wall-clock ms over the repetitions (after a warm-up), with the process CPU ms. */
+function timeBest(repetitions: number, run: () => void): Timing {
   run(); // warm-up (JIT)
   let best = Infinity;
   let bestCpu = Infinity;
+  const walls: number[] = [];
+  const cpus: number[] = [];
   for (let r = 0; r < repetitions; r++) {
     const cpuStart = process.cpuUsage();
     const start = process.hrtime.bigint();
     run();
     const ms = Number(process.hrtime.bigint() - start) / 1e6;
     const cpu = process.cpuUsage(cpuStart);
+    const cpuMs = (cpu.user + cpu.system) / 1000;
+    walls.push(ms);
+    cpus.push(cpuMs);
     if (ms < best) {
       best = ms;
-      bestCpu = (cpu.user + cpu.system) / 1000;
+      bestCpu = cpuMs;
     }
   }
-  return { ms: best, cpuMs: bestCpu };
+  return { ms: best, cpuMs: bestCpu, medianMs: median(walls), medianCpuMs: median(cpus) };
 }
 
-function line(name: string, grid: string, n: number, links: number, permutations: number, t: { ms: number; cpuMs: number }): string {
+function line(name: string, grid: string, n: number, links: number, permutations: number, t: Timing): string {
   const perLink = (ms: number) => ((ms * 1e6) / (permutations * links)).toFixed(2);
   return (
     `${name.padEnd(12)} ${grid.padStart(7)}: n=${n} links=${links} R=${permutations}: ` +
-    `${t.ms.toFixed(1)} ms wall (${perLink(t.ms)} ns per permutation-link), ${t.cpuMs.toFixed(1)} ms CPU (${perLink(t.cpuMs)} ns)`
+    `${t.ms.toFixed(1)} ms wall (${perLink(t.ms)} ns per permutation-link), ${t.cpuMs.toFixed(1)} ms CPU (${perLink(t.cpuMs)} ns); ` +
+    `median ${t.medianMs.toFixed(1)} ms wall, ${t.medianCpuMs.toFixed(1)} ms CPU`
   );
 }
 
@@ -59,7 +85,7 @@ function line(name: string, grid: string, n: number, links: number, permutations
 export function runEngineBench(options: EngineBenchOptions = {}): EngineBenchResult[] {
   const grids = options.grids ?? [50, 100, 200];
   const permutations = options.permutations ?? 999;
-  const repetitions = options.repetitions ?? 3;
+  const repetitions = options.repetitions ?? 5;
   const log = options.log ?? (() => undefined);
   const results: EngineBenchResult[] = [];
   for (const side of grids) {
@@ -73,12 +99,12 @@ export function runEngineBench(options: EngineBenchOptions = {}): EngineBenchRes
     const global = timeBest(repetitions, () => {
       globalMoran(values, weights, { permutations, random: createRandomSource(1) });
     });
-    results.push({ case: "global-moran", grid, n, links, permutations, ms: global.ms });
+    results.push({ case: "global-moran", grid, n, links, permutations, ms: global.ms, medianMs: global.medianMs, cpuMs: global.cpuMs, medianCpuMs: global.medianCpuMs });
     log(line("global-moran", grid, n, links, permutations, global));
     const local = timeBest(repetitions, () => {
       localMoran(values, weights, { permutations, random: createRandomSource(1) });
     });
-    results.push({ case: "local-moran", grid, n, links, permutations, ms: local.ms });
+    results.push({ case: "local-moran", grid, n, links, permutations, ms: local.ms, medianMs: local.medianMs, cpuMs: local.cpuMs, medianCpuMs: local.medianCpuMs });
     log(line("local-moran", grid, n, links, permutations, local));
   }
   return results;
