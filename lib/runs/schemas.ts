@@ -92,12 +92,17 @@ export const resolvedRunParamsSchema = z.object({
   local: z.boolean(),
   panelVersionId: z.number().int().positive(),
   boundaryVersionId: z.number().int().positive(),
-  /** Bumped when a change to the computation would change stored numbers. */
-  method: z.literal("tessera-runs/1"),
+  /**
+   * Bumped when a change to the computation would change stored numbers.
+   * /2: Geary's C and General G take their pseudo p-values from the same
+   * permutations as Moran's I (one shared test); /1 drew them separately.
+   * Every other number is the same under both. Stored /1 runs still read.
+   */
+  method: z.enum(["tessera-runs/1", "tessera-runs/2"]),
 });
 export type ResolvedRunParams = z.output<typeof resolvedRunParamsSchema>;
 
-export const RUN_METHOD = "tessera-runs/1" as const;
+export const RUN_METHOD = "tessera-runs/2" as const;
 
 /** A fresh seed for a run whose user left the seed empty (stored, so reruns repeat it). */
 export function freshSeed(): number {

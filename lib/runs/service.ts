@@ -138,7 +138,8 @@ export async function startRun(args: {
 
 /**
  * Starts a new run with exactly the stored parameters of an earlier one
- * (same seed, same data version), so every number is reproduced.
+ * (same seed, same data version), so every number is reproduced when the
+ * earlier run used the current method.
  */
 export async function rerun(args: { workspaceId: number; userId: number | null; runId: number }): Promise<StartedRun> {
   const rows = await db().query<{ params: ResolvedRunParams }>("SELECT params FROM runs WHERE id = $1 AND workspace_id = $2", {
@@ -154,9 +155,12 @@ export async function rerun(args: { workspaceId: number; userId: number | null; 
       `Run ${args.runId} analysed panel "${version.panel_name}" version ${version.version}, which is now ${version.state}; only published versions can be analysed. Start a new run on the current version instead.`,
     );
   }
-  const runId = await insertRun({ workspaceId: args.workspaceId, params: previous, createdBy: args.userId, origin: "rerun", rerunOf: args.runId });
-  await enqueuePieces(runId, previous.indicators);
-  return { runId, params: previous };
+  // The rerun is computed by today's method and says so; under an older method
+  // only the numbers that method changed can differ (see RUN_METHOD).
+  const params: ResolvedRunParams = { ...previous, method: RUN_METHOD };
+  const runId = await insertRun({ workspaceId: args.workspaceId, params, createdBy: args.userId, origin: "rerun", rerunOf: args.runId });
+  await enqueuePieces(runId, params.indicators);
+  return { runId, params };
 }
 
 /** Cancels a queued or running run; queued pieces are withdrawn from the queue, running ones stop at their next period. */

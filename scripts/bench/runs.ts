@@ -279,7 +279,7 @@ async function catalogueP95(): Promise<BenchResult | null> {
     if (!pv) throw new Error("no panel version to attach a benchmark run to");
     const indicators = Array.from({ length: 200 }, (_, i) => `bench_indicator_${String(i).padStart(3, "0")}`);
     const periods = Array.from({ length: 50 }, (_, i) => String(1975 + i));
-    const params = { weights: "queen", transform: "row-standardised", islandPolicy: "exclude", permutations: 999, seed: 1, alpha: 0.05, correction: "fdr", indicators, periods, local: false, panelVersionId: pv.id, boundaryVersionId: pv.boundary_version_id, method: "tessera-runs/1" };
+    const params = { weights: "queen", transform: "row-standardised", islandPolicy: "exclude", permutations: 999, seed: 1, alpha: 0.05, correction: "fdr", indicators, periods, local: false, panelVersionId: pv.id, boundaryVersionId: pv.boundary_version_id, method: "tessera-runs/2" };
     const [run] = await db().query<{ id: number }>(
       `INSERT INTO runs (workspace_id, panel_version_id, boundary_version_id, origin, params, seed, state, progress, pieces_total, pieces_done, results_total, started_at, finished_at, created_at, updated_at)
        VALUES ($1, $2, $3, 'benchmark', $4::jsonb, 1, 'completed', 1, 200, 200, 10000, now(), now(), now(), now()) RETURNING id`,

@@ -1,4 +1,4 @@
-import { catalogueQuerySchema, runParamsInputSchema, startRunSchema } from "@/lib/runs/schemas";
+import { catalogueQuerySchema, resolvedRunParamsSchema, RUN_METHOD, runParamsInputSchema, startRunSchema } from "@/lib/runs/schemas";
 
 describe("run parameters", () => {
   it("fills the documented defaults", () => {
@@ -21,6 +21,27 @@ describe("run parameters", () => {
     const w = runParamsInputSchema.safeParse({ weights: "hexagon" });
     expect(w.error?.issues[0].message).toContain('Unknown weights rule "hexagon"');
     expect(startRunSchema.safeParse({}).error?.issues[0].path).toEqual(["panelVersionId"]);
+  });
+
+  it("records new runs under method tessera-runs/2 and still reads runs stored under /1, refusing unknown methods", () => {
+    expect(RUN_METHOD).toBe("tessera-runs/2");
+    const stored = {
+      weights: "queen",
+      transform: "row-standardised",
+      islandPolicy: "exclude",
+      permutations: 999,
+      seed: 7,
+      alpha: 0.05,
+      correction: "fdr",
+      indicators: ["output_per_head"],
+      periods: ["2020"],
+      local: false,
+      panelVersionId: 1,
+      boundaryVersionId: 1,
+    };
+    expect(resolvedRunParamsSchema.parse({ ...stored, method: "tessera-runs/1" }).method).toBe("tessera-runs/1");
+    expect(resolvedRunParamsSchema.parse({ ...stored, method: "tessera-runs/2" }).method).toBe("tessera-runs/2");
+    expect(resolvedRunParamsSchema.safeParse({ ...stored, method: "tessera-runs/9" }).success).toBe(false);
   });
 
   it("parses catalogue filters from the URL", () => {
