@@ -245,11 +245,17 @@ describe("hostile names are shown as text on every screen", () => {
     );
     expect(points).toHaveLength(HOSTILE_REGION_CODES.length);
     const tooltips = new Set<string>();
+    // The tooltip is the chart's only <div> without an <svg> inside. It follows the
+    // pointer with a transition, so wait (bounded) for the hovered point's own text
+    // rather than a fixed pause, which read the previous point's tooltip on a busy machine.
+    const tooltipTexts = async () => (await scatter.locator("div:not(:has(svg))").allTextContents()).map((t) => t.trim()).filter(Boolean);
     for (const point of points) {
       await page.mouse.move(point.x, point.y);
-      await page.waitForTimeout(150);
-      // The tooltip is the chart's only <div> without an <svg> inside.
-      for (const tip of await scatter.locator("div:not(:has(svg))").allTextContents()) if (tip.trim()) tooltips.add(tip.trim());
+      const fresh = await waitFor(`a new scatter tooltip at (${point.x.toFixed(0)}, ${point.y.toFixed(0)})`, async () => {
+        const texts = await tooltipTexts();
+        return texts.some((t) => !tooltips.has(t)) ? texts : null;
+      }, { timeoutMs: 3_000, intervalMs: 100 }).catch(() => tooltipTexts());
+      for (const tip of fresh) tooltips.add(tip);
     }
     expectLiteral([...tooltips].join("\n"), HOSTILE_REGION_CODES.slice(0, 5), "Scatter plot tooltips");
     expect([...tooltips].filter((tip) => !(HOSTILE_REGION_CODES as readonly string[]).includes(tip))).toEqual([]);
