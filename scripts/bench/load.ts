@@ -146,58 +146,6 @@ async function runPhase(base: string, cookies: string[], phase: Phase, seconds: 
   };
 }
 
-/** A completed synthetic run with `rows` results (up to 200 indicators × 50 periods) in the workspace; returns its id and a remover. */
-async function syntheticRun(slug: string, rows: number): Promise<{ id: number; remove: () => Promise<void> }> {
-  const { db } = await import("../../lib/db");
-  const { QueryTypes } = await import("sequelize");
-  const [pv] = await db().query<{ id: number; boundary_version_id: number; workspace_id: number }>(
-    `SELECT pv.id, pv.boundary_version_id, p.workspace_id FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
-       JOIN workspaces w ON w.id = p.workspace_id WHERE w.slug = $1 AND pv.state = 'published' ORDER BY pv.id LIMIT 1`,
-    { bind: [slug], type: QueryTypes.SELECT },
-  );
-  if (!pv) throw new Error(`workspace "${slug}" has no published panel version to hang a synthetic run on (is the demo seeded?)`);
-  const periods = Array.from({ length: 50 }, (_, i) => String(1975 + i));
-  const indicators = Array.from({ length: Math.ceil(rows / periods.length) }, (_, i) => `load_indicator_${String(i).padStart(3, "0")}`);
-  const params = { weights: "queen", transform: "row-standardised", islandPolicy: "exclude", permutations: 999, seed: 1, alpha: 0.05, correction: "fdr", indicators, periods, local: false, panelVersionId: pv.id, boundaryVersionId: pv.boundary_version_id, method: "tessera-runs/2" };
-  const [run] = await db().query<{ id: number }>(
-    `INSERT INTO runs (workspace_id, panel_version_id, boundary_version_id, origin, params, seed, state, progress, pieces_total, pieces_done, results_total, started_at, finished_at, created_at, updated_at)
-     VALUES ($1, $2, $3, 'benchmark', $4::jsonb, 1, 'running', 0, $5, 0, 0, now(), NULL, now(), now()) RETURNING id`,
-    { bind: [pv.workspace_id, pv.id, pv.boundary_version_id, JSON.stringify(params), indicators.length], type: QueryTypes.SELECT },
-  );
-  const remove = async () => {
-    await db().query("DELETE FROM runs WHERE id = $1", { bind: [run.id] });
-  };
-  try {
-    // Rows go in while the run is still "running" and it is completed last, so
-    // the run is never a finished run whose results change.
-    await db().query(
-      `INSERT INTO run_pieces (run_id, indicator_code, state, attempts, periods_total, periods_done, created_at, updated_at)
-       SELECT $1, c, 'completed', 1, 50, 50, now(), now() FROM unnest($2::text[]) AS c`,
-      { bind: [run.id, indicators] },
-    );
-    await db().query(
-      `INSERT INTO run_results (run_id, indicator_code, period_key, period_index, status, n, regions_in_boundaries, exclusions, i, expected_i,
-                                z_randomisation, p_randomisation, perm_p, adjusted_p, significance, delta_i, geary_c, general_g, created_at)
-       SELECT $1, ind.c, per.p, per.o - 1, 'computed', 240, 240, '{}'::jsonb, s.v, -1.0/239, s.v * 20, 0.5 * (1 - s.v), 0.001 + (1 - abs(s.v)) * 0.5,
-              0.001 + (1 - abs(s.v)) * 0.6, CASE WHEN s.v > 0.3 THEN 'clustering' WHEN s.v < -0.3 THEN 'dispersion' ELSE 'not-significant' END,
-              s.v / 10, 1 - s.v, 0.02, now()
-         FROM unnest($2::text[]) AS ind(c) CROSS JOIN unnest($3::text[]) WITH ORDINALITY AS per(p, o)
-         CROSS JOIN LATERAL (SELECT sin(length(ind.c) * per.o + ascii(right(ind.c, 1))) AS v) s
-        LIMIT $4`,
-      { bind: [run.id, indicators, periods, rows] },
-    );
-    await db().query(
-      `UPDATE runs SET state = 'completed', progress = 1, pieces_done = pieces_total, results_total = $2, finished_at = now() WHERE id = $1`,
-      { bind: [run.id, rows] },
-    );
-    await db().query("ANALYZE run_results");
-  } catch (error) {
-    await remove();
-    throw error;
-  }
-  return { id: run.id, remove };
-}
-
 function format(results: PhaseResult[]): string {
   const head = ["phase", "requests", "req/s", "p50 ms", "p95 ms", "p99 ms", "max ms", "errors", "non-2xx", "target"];
   const lines = results.map((r) => [
@@ -242,7 +190,10 @@ async function main(): Promise<void> {
   };
   process.once("SIGINT", () => void cleanUp().finally(() => process.exit(130)));
   try {
-    if (args.catalogueRows > 0) synthetic = await syntheticRun(args.workspace, args.catalogueRows);
+    if (args.catalogueRows > 0) {
+      const { createSyntheticRun } = await import("./synthetic-run");
+      synthetic = await createSyntheticRun({ rows: args.catalogueRows, indicatorPrefix: "load_indicator_", workspaceSlug: args.workspace });
+    }
     const cataloguePaths = synthetic
       ? [`${api}/catalogue?run=${synthetic.id}`, `${api}/catalogue?run=${synthetic.id}&class=clustering`, `${api}/catalogue?run=${synthetic.id}&from=2000&to=2010&q=indicator_1`]
       : [`${api}/catalogue`, `${api}/catalogue?class=clustering`];

@@ -269,39 +269,10 @@ async function demoEndToEnd(): Promise<BenchResult | null> {
 
 async function catalogueP95(): Promise<BenchResult | null> {
   return withDatabase(async () => {
-    const { db } = await import("../../lib/db");
-    const { QueryTypes } = await import("sequelize");
     const { catalogueRows } = await import("../../lib/runs/queries");
-    const [pv] = await db().query<{ id: number; boundary_version_id: number; workspace_id: number }>(
-      "SELECT pv.id, pv.boundary_version_id, p.workspace_id FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id ORDER BY pv.id LIMIT 1",
-      { type: QueryTypes.SELECT },
-    );
-    if (!pv) throw new Error("no panel version to attach a benchmark run to");
-    const indicators = Array.from({ length: 200 }, (_, i) => `bench_indicator_${String(i).padStart(3, "0")}`);
-    const periods = Array.from({ length: 50 }, (_, i) => String(1975 + i));
-    const params = { weights: "queen", transform: "row-standardised", islandPolicy: "exclude", permutations: 999, seed: 1, alpha: 0.05, correction: "fdr", indicators, periods, local: false, panelVersionId: pv.id, boundaryVersionId: pv.boundary_version_id, method: "tessera-runs/2" };
-    const [run] = await db().query<{ id: number }>(
-      `INSERT INTO runs (workspace_id, panel_version_id, boundary_version_id, origin, params, seed, state, progress, pieces_total, pieces_done, results_total, started_at, finished_at, created_at, updated_at)
-       VALUES ($1, $2, $3, 'benchmark', $4::jsonb, 1, 'completed', 1, 200, 200, 10000, now(), now(), now(), now()) RETURNING id`,
-      { bind: [pv.workspace_id, pv.id, pv.boundary_version_id, JSON.stringify(params)], type: QueryTypes.SELECT },
-    );
+    const { createSyntheticRun } = await import("./synthetic-run");
+    const run = await createSyntheticRun({ rows: 10_000, indicatorPrefix: "bench_indicator_" });
     try {
-      await db().query(
-        `INSERT INTO run_pieces (run_id, indicator_code, state, attempts, periods_total, periods_done, created_at, updated_at)
-         SELECT $1, c, 'completed', 1, 50, 50, now(), now() FROM unnest($2::text[]) AS c`,
-        { bind: [run.id, indicators] },
-      );
-      await db().query(
-        `INSERT INTO run_results (run_id, indicator_code, period_key, period_index, status, n, regions_in_boundaries, exclusions, i, expected_i,
-                                  z_randomisation, p_randomisation, perm_p, adjusted_p, significance, delta_i, geary_c, general_g, created_at)
-         SELECT $1, ind.c, per.p, per.o - 1, 'computed', 240, 240, '{}'::jsonb, s.v, -1.0/239, s.v * 20, 0.5 * (1 - s.v), 0.001 + (1 - abs(s.v)) * 0.5,
-                0.001 + (1 - abs(s.v)) * 0.6, CASE WHEN s.v > 0.3 THEN 'clustering' WHEN s.v < -0.3 THEN 'dispersion' ELSE 'not-significant' END,
-                s.v / 10, 1 - s.v, 0.02, now()
-           FROM unnest($2::text[]) AS ind(c) CROSS JOIN unnest($3::text[]) WITH ORDINALITY AS per(p, o)
-           CROSS JOIN LATERAL (SELECT sin(length(ind.c) * per.o + ascii(right(ind.c, 1))) AS v) s`,
-        { bind: [run.id, indicators, periods] },
-      );
-      await db().query("ANALYZE run_results");
       const filters = [
         { name: "all 10,000 rows", filter: { runId: run.id } },
         { name: "class = clustering", filter: { runId: run.id, classes: ["clustering" as const] } },
@@ -314,7 +285,7 @@ async function catalogueP95(): Promise<BenchResult | null> {
         const local: number[] = [];
         for (let k = 0; k < 42; k++) {
           const t = performance.now();
-          const rows = await catalogueRows(pv.workspace_id, f.filter);
+          const rows = await catalogueRows(run.workspaceId, f.filter);
           JSON.stringify({ rows });
           const ms = performance.now() - t;
           if (k >= 2) local.push(ms); // the first two warm the connection pool and plan cache
@@ -337,7 +308,7 @@ async function catalogueP95(): Promise<BenchResult | null> {
         p50_ms: p50,
       };
     } finally {
-      await db().query("DELETE FROM runs WHERE id = $1", { bind: [run.id] });
+      await run.remove();
     }
   });
 }
