@@ -10,7 +10,7 @@ import { useState } from "react";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
 import { fmt, fmtP, fmtSigned, Notice, SignificanceBadge, SIGNIFICANCE_SHORT } from "@/components/runs/format";
 import { catalogueExportUrl, catalogueQuery, runsQuery } from "@/components/runs/query-options";
-import type { CatalogueRow } from "@/lib/runs/queries";
+import type { CatalogueRow } from "@/lib/runs/catalogue-wire";
 import { SIGNIFICANCE_CLASSES } from "@/lib/runs/schemas";
 import type { SignificanceClass } from "@/lib/runs/types";
 import { tesseraGridTheme } from "./ag-grid-setup";

@@ -1,9 +1,10 @@
 import { queryOptions } from "@tanstack/react-query";
 import { apiFetch } from "@/components/team/query-options";
-import type { CatalogueRow, DeskSummary, RunOption, RunPieceRow, RunSummary, Timeline } from "@/lib/runs/queries";
+import type { DeskSummary, RunOption, RunPieceRow, RunSummary, Timeline } from "@/lib/runs/queries";
 import type { Comparison, MapGeometry, MapPeriod } from "@/lib/runs/on-demand";
 import type { RobustnessEntry } from "@/lib/runs/compare";
 import type { IndicatorMeta } from "@/lib/intake/queries";
+import { catalogueRowsOf, type CatalogueAnswer } from "@/lib/runs/catalogue-wire";
 
 // One options factory per resource of the analyses screens; mutations
 // invalidate runsKeys.all(slug), which covers every key below.
@@ -59,7 +60,7 @@ export function runOptionsQuery(slug: string) {
 export function catalogueQuery(slug: string, search: string) {
   return queryOptions({
     queryKey: runsKeys.catalogue(slug, search),
-    queryFn: () => apiFetch<{ rows: CatalogueRow[] }>(`${base(slug)}/catalogue?${search}`).then((r) => r.rows),
+    queryFn: () => apiFetch<CatalogueAnswer>(`${base(slug)}/catalogue?${search}`).then(catalogueRowsOf),
   });
 }
 

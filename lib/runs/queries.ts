@@ -4,8 +4,9 @@
  * workspace id, and every query is scoped by it.
  */
 import { QueryTypes } from "sequelize";
-import { db } from "@/lib/db";
+import { db, selectTuples } from "@/lib/db";
 import { indicatorMetadata, publishedPanelVersions, panelDimensions, type IndicatorMeta } from "@/lib/intake/queries";
+import { CATALOGUE_FIELDS, catalogueAnswerText, catalogueRowsOf, type CatalogueAnswer, type CatalogueRow } from "./catalogue-wire";
 import type { ResolvedRunParams } from "./schemas";
 import type { RunState } from "./store";
 import type { LocalFields, SignificanceClass, WeightsUsed } from "./types";
@@ -145,27 +146,28 @@ export async function runOptions(workspaceId: number): Promise<RunOption[]> {
 
 // ——— Catalogue ———
 
-export interface CatalogueRow {
-  runId: number;
-  indicator: string;
-  indicatorLabel: string;
-  unit: string | null;
-  period: string;
-  periodIndex: number;
-  status: "computed" | "not-computed";
-  note: string | null;
-  n: number;
-  I: number | null;
-  expectedI: number | null;
-  z: number | null;
-  p: number | null;
-  pseudoP: number | null;
-  adjustedP: number | null;
-  significance: SignificanceClass | null;
-  deltaI: number | null;
-  gearyC: number | null;
-  generalG: number | null;
-}
+export type { CatalogueRow } from "./catalogue-wire";
+
+/** The run_results column behind each wire field. */
+const CATALOGUE_COLUMNS: Record<(typeof CATALOGUE_FIELDS)[number], string> = {
+  runId: "rr.run_id",
+  indicator: "rr.indicator_code",
+  period: "rr.period_key",
+  periodIndex: "rr.period_index",
+  status: "rr.status",
+  note: "rr.note",
+  n: "rr.n",
+  I: "rr.i",
+  expectedI: "rr.expected_i",
+  z: "rr.z_randomisation",
+  p: "rr.p_randomisation",
+  pseudoP: "rr.perm_p",
+  adjustedP: "rr.adjusted_p",
+  significance: "rr.significance",
+  deltaI: "rr.delta_i",
+  gearyC: "rr.geary_c",
+  generalG: "rr.general_g",
+};
 
 export interface CatalogueFilter {
   /** A run id, or null for the latest completed run of each indicator. */
@@ -179,11 +181,12 @@ export interface CatalogueFilter {
 }
 
 /**
- * One row per indicator × period. Without a run, each indicator's rows come
- * from the latest completed run that analysed it. Period bounds compare
- * period keys as text (ISO-like keys such as 2019, 2019-Q3 sort correctly).
+ * The catalogue's answer as JSON text (lib/runs/catalogue-wire): one tuple per
+ * indicator × period. Without a run, each indicator's rows come from the
+ * latest completed run that analysed it. Period bounds compare period keys as
+ * text (ISO-like keys such as 2019, 2019-Q3 sort correctly).
  */
-export async function catalogueRows(workspaceId: number, filter: CatalogueFilter): Promise<CatalogueRow[]> {
+export async function catalogueText(workspaceId: number, filter: CatalogueFilter): Promise<string> {
   const bind: unknown[] = [workspaceId];
   const where: string[] = [];
   let source: string;
@@ -213,59 +216,47 @@ export async function catalogueRows(workspaceId: number, filter: CatalogueFilter
     where.push(`(rr.indicator_code ILIKE $${bind.length} OR i.label ILIKE $${bind.length})`);
   }
   bind.push(Math.min(filter.limit ?? 20_000, 50_000));
-  const rows = await db().query<{
-    run_id: number;
-    indicator_code: string;
-    label: string | null;
-    unit: string | null;
-    period_key: string;
-    period_index: number;
-    status: "computed" | "not-computed";
-    note: string | null;
-    n: number;
-    i: number | null;
-    expected_i: number | null;
-    z_randomisation: number | null;
-    p_randomisation: number | null;
-    perm_p: number | null;
-    adjusted_p: number | null;
-    significance: SignificanceClass | null;
-    delta_i: number | null;
-    geary_c: number | null;
-    general_g: number | null;
-  }>(
+  // Each tuple as JSON text written by PostgreSQL (see lib/runs/catalogue-wire
+  // for why). Stored numbers are finite (lib/runs/store), so every value is a
+  // JSON number, string or null; float8 text is the shortest exact form, so the
+  // numbers parse back bit for bit.
+  // The rows are sorted before the JSON is built: sorting the built text
+  // spilled to disk at 10,000 rows with the default work_mem.
+  const columns = CATALOGUE_FIELDS.map((f) => CATALOGUE_COLUMNS[f]);
+  const rows = await selectTuples<[tuple: string, indicator: string]>(
     `WITH chosen AS (${source})
-     SELECT rr.run_id, rr.indicator_code, i.label, i.unit, rr.period_key, rr.period_index, rr.status, rr.note, rr.n, rr.i, rr.expected_i,
-            rr.z_randomisation, rr.p_randomisation, rr.perm_p, rr.adjusted_p, rr.significance, rr.delta_i, rr.geary_c, rr.general_g
-       FROM chosen c
-       JOIN run_results rr ON rr.run_id = c.run_id AND rr.indicator_code = c.indicator_code
-       LEFT JOIN indicators i ON i.workspace_id = $1 AND i.code = rr.indicator_code
-      ${where.length ? `WHERE ${where.join(" AND ")}` : ""}
-      ORDER BY rr.indicator_code, rr.period_index
-      LIMIT $${bind.length}`,
-    { bind, type: QueryTypes.SELECT },
+     SELECT json_build_array(${columns.map((c) => c.replace("rr.", "t.")).join(", ")})::text, t.indicator_code
+       FROM (SELECT ${columns.join(", ")}
+               FROM chosen c
+               JOIN run_results rr ON rr.run_id = c.run_id AND rr.indicator_code = c.indicator_code
+               LEFT JOIN indicators i ON i.workspace_id = $1 AND i.code = rr.indicator_code
+              ${where.length ? `WHERE ${where.join(" AND ")}` : ""}
+              ORDER BY rr.indicator_code, rr.period_index
+              LIMIT $${bind.length}) t
+      ORDER BY t.indicator_code, t.period_index`,
+    bind,
   );
-  return rows.map((r) => ({
-    runId: r.run_id,
-    indicator: r.indicator_code,
-    indicatorLabel: r.label ?? r.indicator_code,
-    unit: r.unit,
-    period: r.period_key,
-    periodIndex: r.period_index,
-    status: r.status,
-    note: r.note,
-    n: r.n,
-    I: r.i,
-    expectedI: r.expected_i,
-    z: r.z_randomisation,
-    p: r.p_randomisation,
-    pseudoP: r.perm_p,
-    adjustedP: r.adjusted_p,
-    significance: r.significance,
-    deltaI: r.delta_i,
-    gearyC: r.geary_c,
-    generalG: r.general_g,
-  }));
+  const codes = [...new Set(rows.map((r) => r[1]))];
+  const indicators = codes.length
+    ? await db().query<{ code: string; label: string | null; unit: string | null }>(
+        "SELECT code, label, unit FROM indicators WHERE workspace_id = $1 AND code = ANY($2::varchar[]) ORDER BY code",
+        { bind: [workspaceId, codes], type: QueryTypes.SELECT },
+      )
+    : [];
+  return catalogueAnswerText(
+    indicators.map((i) => ({ code: i.code, label: i.label ?? i.code, unit: i.unit })),
+    rows.map((r) => r[0]),
+  );
+}
+
+/** The catalogue as parsed tuples. */
+export async function catalogueAnswer(workspaceId: number, filter: CatalogueFilter): Promise<CatalogueAnswer> {
+  return JSON.parse(await catalogueText(workspaceId, filter)) as CatalogueAnswer;
+}
+
+/** The catalogue as row objects (for the CSV export and scripts). */
+export async function catalogueRows(workspaceId: number, filter: CatalogueFilter): Promise<CatalogueRow[]> {
+  return catalogueRowsOf(await catalogueAnswer(workspaceId, filter));
 }
 
 // ——— Timeline ———

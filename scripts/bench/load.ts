@@ -21,6 +21,7 @@ import { config as loadDotenv } from "dotenv";
 import { readFileSync } from "node:fs";
 import path from "node:path";
 import { z } from "zod";
+import { catalogueRowsOf, type CatalogueAnswer } from "../../lib/runs/catalogue-wire";
 
 loadDotenv({ quiet: true });
 const ROOT = process.cwd();
@@ -178,7 +179,7 @@ async function main(): Promise<void> {
 
   const catalogue = await fetch(`${base}${api}/catalogue`, { headers: { cookie: cookies[0] } });
   if (!catalogue.ok) fail(`GET ${api}/catalogue answered ${catalogue.status}: ${(await catalogue.text()).slice(0, 200)}`);
-  const demoRows = ((await catalogue.json()) as { rows: { indicator: string; runId: number }[] }).rows;
+  const demoRows = catalogueRowsOf((await catalogue.json()) as CatalogueAnswer);
   const indicators = [...new Set(demoRows.map((r) => r.indicator))];
   if (indicators.length === 0) fail(`workspace "${args.workspace}" has no analysed indicator; run the demo analysis (npm start seeds one)`);
   const timelinePaths = indicators.map((code) => `${api}/timeline?indicator=${encodeURIComponent(code)}`);

@@ -10,7 +10,7 @@ import { insertRun } from "@/lib/runs/store";
 import { resolveRunParams } from "@/lib/runs/service";
 import { runParamsInputSchema } from "@/lib/runs/schemas";
 import { runPiece } from "@/lib/runs/worker";
-import type { CatalogueRow } from "@/lib/runs/queries";
+import { CATALOGUE_FIELDS, catalogueRowsOf, type CatalogueAnswer } from "@/lib/runs/catalogue-wire";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
@@ -161,18 +161,30 @@ describe("a run through the job queue", () => {
 
   it("filters the catalogue by class, period range and indicator text", async () => {
     signedInAs(users.reader);
-    const all = (await (await getCatalogue(get(`run=${firstRun}`), ctx({ slug }))).json()) as { rows: CatalogueRow[] };
-    expect(all.rows).toHaveLength(3 * PERIODS.length);
-    const clustering = (await (await getCatalogue(get(`run=${firstRun}&class=clustering`), ctx({ slug }))).json()) as { rows: CatalogueRow[] };
-    expect(clustering.rows.length).toBeGreaterThan(0);
-    expect(clustering.rows.every((r) => r.significance === "clustering")).toBe(true);
-    const range = (await (await getCatalogue(get(`run=${firstRun}&from=2012&to=2013`), ctx({ slug }))).json()) as { rows: CatalogueRow[] };
-    expect(new Set(range.rows.map((r) => r.period))).toEqual(new Set(["2012", "2013"]));
-    const text = (await (await getCatalogue(get(`run=${firstRun}&q=UNEMPLOY`), ctx({ slug }))).json()) as { rows: CatalogueRow[] };
-    expect(new Set(text.rows.map((r) => r.indicator))).toEqual(new Set(["unemployment_rate"]));
-    const latest = (await (await getCatalogue(get(""), ctx({ slug }))).json()) as { rows: CatalogueRow[] };
-    expect(latest.rows).toHaveLength(3 * PERIODS.length);
-    expect(new Set(latest.rows.map((r) => r.runId)).size).toBeGreaterThanOrEqual(1);
+    const catalogueOf = async (search: string) => {
+      const response = await getCatalogue(get(search), ctx({ slug }));
+      expect(response.status).toBe(200);
+      const answer = (await response.json()) as CatalogueAnswer;
+      expect(answer.fields).toEqual(CATALOGUE_FIELDS);
+      return catalogueRowsOf(answer);
+    };
+    const all = await catalogueOf(`run=${firstRun}`);
+    expect(all).toHaveLength(3 * PERIODS.length);
+    // The tuples carry the stored numbers unchanged, in the stored order.
+    const stored = await resultsOf(firstRun);
+    expect(all.map((r) => [r.indicator, r.period, r.status, r.n, r.I, r.z, r.pseudoP, r.adjustedP, r.significance, r.gearyC, r.generalG])).toEqual(
+      stored.map((s) => [s.indicator_code, s.period_key, s.status, s.n, s.i, s.z_randomisation, s.perm_p, s.adjusted_p, s.significance, s.geary_c, s.general_g]),
+    );
+    const clustering = await catalogueOf(`run=${firstRun}&class=clustering`);
+    expect(clustering.length).toBeGreaterThan(0);
+    expect(clustering.every((r) => r.significance === "clustering")).toBe(true);
+    const range = await catalogueOf(`run=${firstRun}&from=2012&to=2013`);
+    expect(new Set(range.map((r) => r.period))).toEqual(new Set(["2012", "2013"]));
+    const text = await catalogueOf(`run=${firstRun}&q=UNEMPLOY`);
+    expect(new Set(text.map((r) => r.indicator))).toEqual(new Set(["unemployment_rate"]));
+    const latest = await catalogueOf("");
+    expect(latest).toHaveLength(3 * PERIODS.length);
+    expect(new Set(latest.map((r) => r.runId)).size).toBeGreaterThanOrEqual(1);
     const badClass = await getCatalogue(get("class=sometimes"), ctx({ slug }));
     expect(badClass.status).toBe(400);
   });

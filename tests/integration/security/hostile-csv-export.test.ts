@@ -9,6 +9,7 @@ import { GET as getExport } from "@/app/api/w/[slug]/catalogue/export/route";
 import { GET as getCatalogue } from "@/app/api/w/[slug]/catalogue/route";
 import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
+import { catalogueRowsOf, type CatalogueAnswer } from "@/lib/runs/catalogue-wire";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { models } from "@/models";
 import { requireTestServices } from "@/tests/helpers/env";
@@ -140,8 +141,8 @@ describe("hostile names from upload to export", () => {
     );
     expect(panel).toEqual({ name: HOSTILE_PANEL_NAME, file_name: `${HOSTILE_FILE_STEM}.csv` });
     const catalogue = await getCatalogue(new Request(`http://tessera.test/api?run=${runId}`), ctx({ slug }));
-    const body = (await catalogue.json()) as { rows: { indicator: string }[] };
-    expect(new Set(body.rows.map((r) => r.indicator))).toEqual(new Set(HOSTILE_INDICATORS));
+    const rows = catalogueRowsOf((await catalogue.json()) as CatalogueAnswer);
+    expect(new Set(rows.map((r) => r.indicator))).toEqual(new Set(HOSTILE_INDICATORS));
     const regions = await db().query<{ code: string }>(
       `SELECT DISTINCT o.region_code AS code FROM observations o JOIN runs r ON r.panel_version_id = o.panel_version_id WHERE r.id = $1`,
       { bind: [runId], type: QueryTypes.SELECT },

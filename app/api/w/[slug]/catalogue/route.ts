@@ -1,6 +1,6 @@
 import { memberRoute } from "@/lib/auth/route";
 import { parseSearch, runsError } from "@/lib/runs/http";
-import { catalogueRows } from "@/lib/runs/queries";
+import { catalogueText } from "@/lib/runs/queries";
 import { catalogueQuerySchema } from "@/lib/runs/schemas";
 
 export const dynamic = "force-dynamic";
@@ -10,8 +10,9 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
   if (!search.ok) return search.response;
   const f = search.value;
   try {
-    const rows = await catalogueRows(member.workspace.id, { runId: f.run, classes: f.class, periodFrom: f.from, periodTo: f.to, text: f.q });
-    return Response.json({ rows });
+    // JSON text assembled from PostgreSQL's own tuple text (lib/runs/catalogue-wire), never parsed here.
+    const text = await catalogueText(member.workspace.id, { runId: f.run, classes: f.class, periodFrom: f.from, periodTo: f.to, text: f.q });
+    return new Response(text, { headers: { "content-type": "application/json" } });
   } catch (error) {
     return runsError(error);
   }

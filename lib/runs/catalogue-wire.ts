@@ -1,0 +1,136 @@
+/**
+ * The catalogue's answer on the wire. A 10,000-row catalogue as an array of
+ * objects repeats 19 key names and each indicator's label on every row (about
+ * 4 MB); as field-ordered tuples with the labels once per indicator it is a
+ * little over half that. PostgreSQL writes each tuple as JSON text, and
+ * `catalogueAnswerText` only joins them: at 10,000 rows, parsing 170,000
+ * values into objects and serialising them again cost more than the query.
+ * The screen and the CSV export turn tuples back into `CatalogueRow`s with
+ * `catalogueRowsOf`.
+ */
+import type { SignificanceClass } from "./types";
+
+export const CATALOGUE_FORMAT = "tessera-catalogue/1";
+
+/** Field names of each tuple, in order. The SQL in lib/runs/queries selects the same columns in the same order. */
+export const CATALOGUE_FIELDS = [
+  "runId",
+  "indicator",
+  "period",
+  "periodIndex",
+  "status",
+  "note",
+  "n",
+  "I",
+  "expectedI",
+  "z",
+  "p",
+  "pseudoP",
+  "adjustedP",
+  "significance",
+  "deltaI",
+  "gearyC",
+  "generalG",
+] as const;
+
+export type CatalogueTuple = [
+  runId: number,
+  indicator: string,
+  period: string,
+  periodIndex: number,
+  status: "computed" | "not-computed",
+  note: string | null,
+  n: number,
+  I: number | null,
+  expectedI: number | null,
+  z: number | null,
+  p: number | null,
+  pseudoP: number | null,
+  adjustedP: number | null,
+  significance: SignificanceClass | null,
+  deltaI: number | null,
+  gearyC: number | null,
+  generalG: number | null,
+];
+
+export interface CatalogueIndicator {
+  code: string;
+  label: string;
+  unit: string | null;
+}
+
+export interface CatalogueAnswer {
+  format: typeof CATALOGUE_FORMAT;
+  fields: typeof CATALOGUE_FIELDS;
+  /**
+   * Label and unit of every indicator that has a row. A list rather than an
+   * object keyed by code, because codes are users' text and a code such as
+   * "__proto__" must not become an object's prototype on either side.
+   */
+  indicators: CatalogueIndicator[];
+  rows: CatalogueTuple[];
+}
+
+export interface CatalogueRow {
+  runId: number;
+  indicator: string;
+  indicatorLabel: string;
+  unit: string | null;
+  period: string;
+  periodIndex: number;
+  status: "computed" | "not-computed";
+  note: string | null;
+  n: number;
+  I: number | null;
+  expectedI: number | null;
+  z: number | null;
+  p: number | null;
+  pseudoP: number | null;
+  adjustedP: number | null;
+  significance: SignificanceClass | null;
+  deltaI: number | null;
+  gearyC: number | null;
+  generalG: number | null;
+}
+
+/**
+ * Rows as objects. An indicator missing from `indicators` (deleted since the
+ * run) is labelled with its code, as the grid has always shown it.
+ */
+export function catalogueRowsOf(answer: Pick<CatalogueAnswer, "indicators" | "rows">): CatalogueRow[] {
+  const byCode = new Map(answer.indicators.map((i) => [i.code, i]));
+  return answer.rows.map(([runId, indicator, period, periodIndex, status, note, n, I, expectedI, z, p, pseudoP, adjustedP, significance, deltaI, gearyC, generalG]) => {
+    const meta = byCode.get(indicator);
+    return {
+      runId,
+      indicator,
+      indicatorLabel: meta?.label ?? indicator,
+      unit: meta?.unit ?? null,
+      period,
+      periodIndex,
+      status,
+      note,
+      n,
+      I,
+      expectedI,
+      z,
+      p,
+      pseudoP,
+      adjustedP,
+      significance,
+      deltaI,
+      gearyC,
+      generalG,
+    };
+  });
+}
+
+/**
+ * The answer's JSON text from each tuple's own JSON text (as PostgreSQL's
+ * json_build_array writes it, in CATALOGUE_FIELDS order). The tuples are
+ * trusted to be JSON: they come from the database, never from a request.
+ */
+export function catalogueAnswerText(indicators: readonly CatalogueIndicator[], tupleTexts: readonly string[]): string {
+  const head = `{"format":${JSON.stringify(CATALOGUE_FORMAT)},"fields":${JSON.stringify(CATALOGUE_FIELDS)},"indicators":${JSON.stringify(indicators)},"rows":[`;
+  return `${head}${tupleTexts.join(",")}]}`;
+}
