@@ -106,17 +106,41 @@ export async function regionCodesOf(boundaryVersionId: number): Promise<string[]
   return rows.map((r) => r.code);
 }
 
-/** Indicator codes and period keys stored for a panel version (periods in time order). */
+/**
+ * Indicator codes and period keys stored for a panel version (periods in time
+ * order). Every run piece asks, so this walks the observations' primary key
+ * (panel_version_id, indicator_code, period_key, region_code) as a loose
+ * index scan — one index probe per distinct indicator and per distinct
+ * indicator × period — instead of a DISTINCT over every observation, which
+ * read all 460,000 rows of a 3,600-region panel on each call.
+ */
 export async function panelDimensions(panelVersionId: number): Promise<{ indicators: string[]; periods: PeriodRef[] }> {
-  const indicatorRows = await db().query<{ code: string }>(
-    "SELECT DISTINCT indicator_code AS code FROM observations WHERE panel_version_id = :id ORDER BY 1",
+  const rows = await db().query<{ kind: "indicator" | "period"; value: string }>(
+    `WITH RECURSIVE indicator AS (
+       (SELECT indicator_code AS code FROM observations WHERE panel_version_id = :id ORDER BY indicator_code LIMIT 1)
+       UNION ALL
+       SELECT (SELECT o.indicator_code FROM observations o
+                WHERE o.panel_version_id = :id AND o.indicator_code > indicator.code ORDER BY o.indicator_code LIMIT 1)
+         FROM indicator WHERE indicator.code IS NOT NULL
+     ), period AS (
+       SELECT indicator.code,
+              (SELECT o.period_key FROM observations o
+                WHERE o.panel_version_id = :id AND o.indicator_code = indicator.code ORDER BY o.period_key LIMIT 1) AS key
+         FROM indicator WHERE indicator.code IS NOT NULL
+       UNION ALL
+       SELECT period.code,
+              (SELECT o.period_key FROM observations o
+                WHERE o.panel_version_id = :id AND o.indicator_code = period.code AND o.period_key > period.key ORDER BY o.period_key LIMIT 1)
+         FROM period WHERE period.key IS NOT NULL
+     )
+     SELECT 'indicator' AS kind, code AS value FROM indicator WHERE code IS NOT NULL
+     UNION ALL
+     SELECT DISTINCT 'period', key FROM period WHERE key IS NOT NULL
+     ORDER BY 1, 2`,
     { replacements: { id: panelVersionId }, type: QueryTypes.SELECT },
   );
-  const periodRows = await db().query<{ key: string }>("SELECT DISTINCT period_key AS key FROM observations WHERE panel_version_id = :id", {
-    replacements: { id: panelVersionId },
-    type: QueryTypes.SELECT,
-  });
-  return { indicators: indicatorRows.map((r) => r.code), periods: orderPeriods(periodRows.map((r) => r.key)) };
+  const indicators = rows.filter((r) => r.kind === "indicator").map((r) => r.value);
+  return { indicators, periods: orderPeriods(rows.filter((r) => r.kind === "period").map((r) => r.value)) };
 }
 
 function orderPeriods(keys: readonly string[]): PeriodRef[] {
