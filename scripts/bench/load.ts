@@ -8,9 +8,10 @@
  *   npm run -s load -- --duration 60 --connections 32 --url http://127.0.0.1:3000
  *   npm run -s load -- --catalogue-rows 0       # no synthetic 10,000-row run, demo data only
  *
- * Four phases share the duration: the catalogue over a synthetic 10,000-row
- * run with one client (DESIGN.md §Performance: p95 under 200 ms) and then
- * with all connections, timelines of the demo indicators, and the two mixed. The synthetic run is written straight into
+ * Five phases share the duration: the catalogue over a synthetic 10,000-row
+ * run with one client (DESIGN.md §Performance: p95 under 200 ms), the same
+ * asking for gzip as a browser does, then with all connections, timelines of
+ * the demo indicators, and the two mixed. The synthetic run is written straight into
  * DATABASE_URL (state "completed", origin "benchmark") before the phases and
  * deleted afterwards, also on Ctrl-C. Clients sign in as the four demo
  * accounts through next-auth's credentials endpoint, so every request passes
@@ -80,7 +81,7 @@ async function signIn(base: string, account: Account): Promise<string> {
 }
 
 /** connections: undefined means the --connections value. */
-type Phase = { name: string; paths: string[]; connections?: number; target?: { p95Ms: number } };
+type Phase = { name: string; paths: string[]; connections?: number; target?: { p95Ms: number }; gzip?: boolean };
 
 type PhaseResult = {
   name: string;
@@ -122,7 +123,8 @@ async function runPhase(base: string, cookies: string[], phase: Phase, seconds: 
             setupRequest: (request: autocannon.Request, context: object) => {
               const client = context as { cookie?: string };
               if (index === 0 || client.cookie === undefined) client.cookie = cookies[next++ % cookies.length];
-              return { ...request, headers: { ...request.headers, accept: "application/json", cookie: client.cookie } };
+              const encoding = phase.gzip ? { "accept-encoding": "gzip" } : {};
+              return { ...request, headers: { ...request.headers, ...encoding, accept: "application/json", cookie: client.cookie } };
             },
           }),
         ),
@@ -203,6 +205,8 @@ async function main(): Promise<void> {
     // client; under N clients on a 2-core machine the same work queues up.
     const phases: Phase[] = [
       { name: `${catalogueName}, 1 client`, paths: cataloguePaths, connections: 1, target: { p95Ms: 200 } },
+      // What a browser gets: it asks for gzip, and the server compresses the 2.4 MB answer.
+      { name: `${catalogueName}, 1 client, gzip`, paths: cataloguePaths, connections: 1, gzip: true },
       { name: catalogueName, paths: cataloguePaths },
       { name: `timeline (${indicators.length} indicators)`, paths: timelinePaths },
       { name: "mixed", paths: [...cataloguePaths, ...timelinePaths] },
