@@ -76,7 +76,7 @@ async function reap(boss: PgBoss, lease: WorkerLease): Promise<void> {
 
 async function main(): Promise<void> {
   const boss = await getBoss("worker");
-  const lease = await WorkerLease.register({ label, jobsSchema: jobsSchema(), settings: leaseSettings, log });
+  const lease = await WorkerLease.register({ label, jobsSchema: jobsSchema(), queues: QUEUE_NAMES, settings: leaseSettings, log });
   // On start, before taking new work: hand back what dead workers left active.
   await reap(boss, lease);
   for (const queue of QUEUE_NAMES) {

@@ -9,9 +9,11 @@
  * records each job it starts in `job_claims`. Every worker, when it starts
  * and at each heartbeat, looks for workers of its jobs schema presumed dead
  * (liveness.ts) and fails their claimed active jobs through pg-boss's own
- * `fail`, which retries them per the queue's retry settings. pg-boss's expiry
- * stays the last resort (a job claimed by nobody: a worker killed in the
- * instant between pg-boss handing it the job and the claim being written).
+ * `fail`, which retries them per the queue's retry settings. A job that is
+ * active but claimed by nobody — its worker was killed in the instant between
+ * pg-boss handing it over and the claim being written — is handed back once it
+ * has gone unclaimed for a whole lease (WORKER_LEASE_SECONDS, 120 s by
+ * default), where pg-boss alone would wait for its expiry (30 minutes).
  *
  * Handing a job back is safe for Tessera's handlers: each is idempotent
  * (a run piece replaces or skips its rows, a digest has an idempotency key,
@@ -27,6 +29,8 @@ import { deadAfterSeconds, presumedDead, type LeaseSettings } from "./liveness";
 
 /** First key of the two-int advisory lock a live worker holds; the second is its job_workers id. */
 const LOCK_NAMESPACE = 0x5453_574b;
+/** Second key (no worker has id 0) of the lock that lets one worker at a time sweep unclaimed jobs. */
+const SWEEP_KEY = 0;
 
 /** A job handed back because its worker died, and whether that was its last attempt. */
 export interface HandedBackJob {
@@ -41,6 +45,8 @@ export interface HandedBackJob {
 export interface LeaseOptions {
   label: string;
   jobsSchema: string;
+  /** The queues this worker serves: only their unclaimed jobs are swept. */
+  queues: readonly string[];
   settings: LeaseSettings;
   log: (message: string) => void;
 }
@@ -182,7 +188,44 @@ export class WorkerLease {
       this.options.log(`handed ${orphan.queue} ${orphan.job_id} of worker ${orphan.label} back to the queue${finalAttempt ? " (its last attempt: failed)" : " for a retry"}`);
       handedBack.push({ queue: orphan.queue, jobId: orphan.job_id, deadWorker: orphan.label, finalAttempt, data: job.data });
     }
+    handedBack.push(...(await this.sweepUnclaimed(boss)));
     return handedBack;
+  }
+
+  /**
+   * Hands back active jobs of our queues that nobody has claimed for a whole
+   * lease: taken from pg-boss by a worker that died before it could write its
+   * claim. Reads pg-boss's own job table (pg-boss 10 has no call that lists
+   * active jobs). One worker sweeps at a time, so a job is failed once.
+   */
+  private async sweepUnclaimed(boss: PgBoss): Promise<HandedBackJob[]> {
+    const { settings, jobsSchema, queues } = this.options;
+    if (queues.length === 0) return [];
+    return db().transaction(async (transaction) => {
+      const [lock] = await db().query<{ got: boolean }>("SELECT pg_try_advisory_xact_lock($1, $2) AS got", {
+        bind: [LOCK_NAMESPACE, SWEEP_KEY],
+        type: QueryTypes.SELECT,
+        transaction,
+      });
+      if (!lock?.got) return [];
+      const unclaimed = await db().query<{ id: string; name: string; age: number }>(
+        `SELECT j.id::text AS id, j.name, EXTRACT(EPOCH FROM now() - j.started_on)::float8 AS age FROM "${jobsSchema}".job j
+          WHERE j.state = 'active' AND j.name = ANY($1::text[]) AND j.started_on < now() - make_interval(secs => $2)
+            AND NOT EXISTS (SELECT 1 FROM job_claims c WHERE c.job_id = j.id)`,
+        { bind: [queues, settings.leaseSeconds], type: QueryTypes.SELECT, transaction },
+      );
+      const handedBack: HandedBackJob[] = [];
+      for (const orphan of unclaimed) {
+        const job = await boss.getJobById(orphan.name, orphan.id, { includeArchive: false });
+        if (!job || job.state !== "active") continue;
+        const who = "an unrecorded worker";
+        await boss.fail(orphan.name, orphan.id, { message: `taken by ${who}: active and unclaimed for ${orphan.age.toFixed(0)} s (handed back by ${this.label})` });
+        const finalAttempt = job.retryCount >= job.retryLimit;
+        this.options.log(`handed ${orphan.name} ${orphan.id}, active and unclaimed for ${orphan.age.toFixed(0)} s, back to the queue${finalAttempt ? " (its last attempt: failed)" : " for a retry"}`);
+        handedBack.push({ queue: orphan.name, jobId: orphan.id, deadWorker: who, finalAttempt, data: job.data });
+      }
+      return handedBack;
+    });
   }
 
   /** True when no session holds the worker's lock (a transaction-scoped try, released at once). */
