@@ -7,7 +7,17 @@ export type AuditAction =
   | "invitation.sent"
   | "invitation.accepted"
   | "member.role-changed"
-  | "member.removed";
+  | "member.removed"
+  // Data actions, written in the same transaction as the change they record.
+  | "upload.completed"
+  | "version.submitted"
+  | "version.published"
+  | "version.archived"
+  | "indicator.updated"
+  | "run.started"
+  | "run.rerun"
+  | "run.cancelled"
+  | "digest.sent-now";
 
 export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreationAttributes<AuditEvent>> {
   declare id: CreationOptional<string>;

@@ -12,17 +12,82 @@ const LABELS: Record<string, string> = {
   "invitation.accepted": "Invitation accepted",
   "member.role-changed": "Role changed",
   "member.removed": "Member removed",
+  "upload.completed": "File uploaded",
+  "version.submitted": "New version submitted for validation",
+  "version.published": "Version published",
+  "version.archived": "Version archived",
+  "indicator.updated": "Indicator metadata saved",
+  "run.started": "Run started",
+  "run.rerun": "Rerun started",
+  "run.cancelled": "Run cancelled",
+  "digest.sent-now": "Digest sent on request",
 };
 
 const timeFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeStyle: "short" });
+const countFormat = new Intl.NumberFormat("en-GB");
+
+type Detail = Record<string, unknown>;
+const text = (v: unknown): string | null => (typeof v === "string" ? v : null);
+const count = (v: unknown): number | null => (typeof v === "number" && Number.isFinite(v) ? v : null);
+
+function bytes(size: number): string {
+  if (size < 1024) return `${countFormat.format(size)} bytes`;
+  if (size < 1024 * 1024) return `${(size / 1024).toFixed(1)} kB`;
+  return `${(size / 1024 / 1024).toFixed(1)} MB`;
+}
+
+function runSummary(d: Detail): string {
+  const indicators = count(d.indicators);
+  const periods = count(d.periods);
+  const permutations = count(d.permutations);
+  const seed = count(d.seed);
+  const parts = [
+    indicators !== null && periods !== null ? `${indicators} indicators × ${periods} periods` : null,
+    text(d.weights),
+    permutations !== null ? `${countFormat.format(permutations)} permutations` : null,
+    seed !== null ? `seed ${seed}` : null,
+  ];
+  return parts.filter((p): p is string => p !== null).join(", ");
+}
+
+function rerunSummary(d: Detail): string {
+  const of = count(d.rerunOf);
+  return [of !== null ? `of run ${of}` : "", runSummary(d)].filter((p) => p !== "").join(", ");
+}
+
+function indicatorChange(d: Detail): string {
+  if (d.created === true) return "created";
+  const changed = Array.isArray(d.changed) ? d.changed.filter((f): f is string => typeof f === "string") : [];
+  return changed.length === 0 ? "saved unchanged" : `changed ${changed.map((f) => (f === "higherIsBetter" ? "direction" : f)).join(", ")}`;
+}
+
+const prefixed = (word: string, value: string | null): string => (value !== null ? `${word} ${value}` : "");
+const asRole = (d: Detail): string => prefixed("as", text(d.role));
+
+// One plain line per action, built only from the detail's expected types; anything else is left out.
+const DESCRIBE: Record<string, (d: Detail) => string> = {
+  "member.role-changed": (d) => (text(d.from) !== null && text(d.to) !== null ? `${text(d.from)} → ${text(d.to)}` : ""),
+  "invitation.sent": asRole,
+  "invitation.accepted": asRole,
+  "member.removed": asRole,
+  "upload.completed": (d) => {
+    const size = count(d.size);
+    return size !== null ? `${bytes(size)}, checksum verified` : "";
+  },
+  "version.submitted": (d) => prefixed("from", text(d.fileName)),
+  "version.archived": (d) => prefixed("was", text(d.from)),
+  "indicator.updated": indicatorChange,
+  "run.started": runSummary,
+  "run.rerun": rerunSummary,
+  "digest.sent-now": (d) => {
+    const cadence = text(d.cadence);
+    return cadence !== null ? `${cadence.replace("_", "-")} subscription` : "";
+  },
+};
 
 function describe(e: AuditRow): string {
-  const d = e.detail;
-  if (e.action === "member.role-changed" && typeof d.from === "string" && typeof d.to === "string") return `${d.from} → ${d.to}`;
-  if ((e.action === "invitation.sent" || e.action === "invitation.accepted" || e.action === "member.removed") && typeof d.role === "string")
-    return `as ${d.role}`;
-  if (e.action.startsWith("sign-in.") && typeof d.ip === "string") return `from ${d.ip}`;
-  return "";
+  if (e.action.startsWith("sign-in.")) return typeof e.detail.ip === "string" ? `from ${e.detail.ip}` : "";
+  return DESCRIBE[e.action]?.(e.detail) ?? "";
 }
 
 export function AuditTrail({ slug, initial }: { slug: string; initial: AuditRow[] }) {
@@ -33,7 +98,7 @@ export function AuditTrail({ slug, initial }: { slug: string; initial: AuditRow[
         <h2 id="audit-heading" className="text-base font-semibold text-ink">
           Audit trail
         </h2>
-        <p className="text-sm text-ink-400">Sign-ins of members, invitations, role changes and removals, newest first.</p>
+        <p className="text-sm text-ink-400">Sign-ins of members, team changes, uploads, versions published or archived, indicator edits, runs and digests sent on request, newest first.</p>
       </div>
       {events.data.length === 0 ? (
         <p className="px-5 py-4 text-sm text-ink-400">No events yet.</p>

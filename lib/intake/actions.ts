@@ -16,6 +16,7 @@ import type { Readable } from "node:stream";
 import { Op, QueryTypes } from "sequelize";
 import { z } from "zod";
 import { db } from "@/lib/db";
+import { auditMember, versionTarget } from "@/lib/auth/audit";
 import { ConflictError, NotFoundError } from "@/lib/auth/errors";
 import type { MemberContext } from "@/lib/auth/guard";
 import { enqueue } from "@/lib/jobs/enqueue";
@@ -255,7 +256,23 @@ export async function completeUpload(member: MemberContext, uploadId: string): P
   if (actual !== upload.sha256) {
     return fail(`The stored file's checksum (${actual.slice(0, 12)}…) differs from the one your browser computed (${upload.sha256.slice(0, 12)}…): the file was changed or damaged in transit. Upload it again.`, true);
   }
-  await upload.update({ state: "received", error: null });
+  // Only the request that moves the upload out of 'pending' records it, so a
+  // repeated or concurrent completion leaves exactly one event.
+  const { Upload } = models();
+  await db().transaction(async (transaction) => {
+    const [moved] = await Upload.update({ state: "received", error: null }, { where: { id: upload.id, state: "pending" }, transaction });
+    if (moved === 0) return;
+    await auditMember(
+      member,
+      {
+        action: "upload.completed",
+        target: `${upload.kind === "panel" ? "panel" : "boundary"} file "${upload.fileName}"`,
+        detail: { uploadId: upload.id, kind: upload.kind, fileName: upload.fileName, size: declared, sha256: upload.sha256 },
+      },
+      transaction,
+    );
+  });
+  await upload.reload();
   return uploadView(upload);
 }
 
@@ -375,6 +392,15 @@ export async function createBoundaryVersion(member: MemberContext, input: Create
       },
       { transaction },
     );
+    await auditMember(
+      member,
+      {
+        action: "version.submitted",
+        target: versionTarget("boundaries", set.name, version),
+        detail: { kind: "boundaries", versionId: row.id, uploadId: upload.id, fileName: upload.fileName, size: Number(upload.declaredSize), objectName: input.objectName, idProperty: input.idProperty },
+      },
+      transaction,
+    );
     return { id: row.id, version, parentId: set.id };
   });
   const jobId = options.enqueueJob === false ? null : await enqueue("intake-validate", { kind: "boundaries", versionId: created.id });
@@ -455,6 +481,23 @@ export async function createPanelVersion(member: MemberContext, input: CreatePan
       });
       if (!createdMemory) await memory.update({ layout: input.mapping.layout, mapping: input.mapping }, { transaction });
     }
+    await auditMember(
+      member,
+      {
+        action: "version.submitted",
+        target: versionTarget("panel", panel.name, version),
+        detail: {
+          kind: "panel",
+          versionId: row.id,
+          uploadId: upload.id,
+          fileName: upload.fileName,
+          size: Number(upload.declaredSize),
+          layout: input.mapping.layout,
+          boundaryVersionId: boundaryVersion.id,
+        },
+      },
+      transaction,
+    );
     return { id: row.id, version, parentId: panel.id };
   });
   const jobId = options.enqueueJob === false ? null : await enqueue("intake-validate", { kind: "panel", versionId: created.id });
@@ -493,6 +536,11 @@ export async function publishVersion(member: MemberContext, kind: VersionKind, v
     }
     const table = kind === "panel" ? "panel_versions" : "boundary_versions";
     await db().query(`UPDATE ${table} SET state = 'published', published_at = now(), updated_at = now() WHERE id = :id`, { replacements: { id: versionId }, transaction });
+    await auditMember(
+      member,
+      { action: "version.published", target: versionTarget(kind, row.parent_name, row.version), detail: { kind, versionId, boundaryVersionId: row.boundary_version_id } },
+      transaction,
+    );
   });
   return { state: "published" };
 }
@@ -516,23 +564,32 @@ export async function archiveVersion(member: MemberContext, kind: VersionKind, v
     }
     const table = kind === "panel" ? "panel_versions" : "boundary_versions";
     await db().query(`UPDATE ${table} SET state = 'archived', archived_at = now(), updated_at = now() WHERE id = :id`, { replacements: { id: versionId }, transaction });
+    await auditMember(member, { action: "version.archived", target: versionTarget(kind, row.parent_name, row.version), detail: { kind, versionId, from: row.state } }, transaction);
   });
   return { state: "archived" };
 }
 
 // ---------------------------------------------------------------- indicators
 
+const INDICATOR_FIELDS = ["label", "unit", "description", "source", "higherIsBetter"] as const satisfies readonly (keyof IndicatorPatch)[];
+
 /** Creates or updates one indicator's metadata. */
 export async function saveIndicator(member: MemberContext, code: string, patch: IndicatorPatch) {
   const trimmed = code.trim();
   if (trimmed === "" || trimmed.length > 120) throw new IntakeInputError("the indicator code must have 1 to 120 characters", "code");
   const { Indicator } = models();
-  const [row, created] = await Indicator.findOrCreate({
-    where: { workspaceId: member.workspace.id, code: trimmed },
-    defaults: { workspaceId: member.workspace.id, code: trimmed, ...patch },
+  return db().transaction(async (transaction) => {
+    const [row, created] = await Indicator.findOrCreate({
+      where: { workspaceId: member.workspace.id, code: trimmed },
+      defaults: { workspaceId: member.workspace.id, code: trimmed, ...patch },
+      transaction,
+    });
+    // Field names only: the values are the steward's text and stay in the indicators table.
+    const changed = INDICATOR_FIELDS.filter((field) => created || row[field] !== patch[field]);
+    if (!created) await row.update(patch, { transaction });
+    await auditMember(member, { action: "indicator.updated", target: `indicator "${trimmed}"`, detail: { code: trimmed, created, changed } }, transaction);
+    return { code: row.code, label: row.label, unit: row.unit, description: row.description, source: row.source, higherIsBetter: row.higherIsBetter };
   });
-  if (!created) await row.update(patch);
-  return { code: row.code, label: row.label, unit: row.unit, description: row.description, source: row.source, higherIsBetter: row.higherIsBetter };
 }
 
 /** Runs a route handler's work, turning intake input errors into 400s; anything else goes to memberRoute's handler. */

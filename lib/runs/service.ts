@@ -3,12 +3,13 @@
  * already authorised the member for "runs.manage" (route handlers) or is a
  * trusted script (the demo seed, benchmarks).
  */
+import { audit } from "@/lib/auth/audit";
 import { ConflictError, NotFoundError } from "@/lib/auth/errors";
 import { getBoss } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { panelDimensions } from "@/lib/intake/queries";
 import { db } from "@/lib/db";
-import { QueryTypes } from "sequelize";
+import { QueryTypes, type Transaction } from "sequelize";
 import { freshSeed, RUN_METHOD, resolvedRunParamsSchema, type ResolvedRunParams, type RunParamsChoice } from "./schemas";
 import { cancelRun as cancelRunRow, insertRun, setPieceJobIds } from "./store";
 
@@ -122,18 +123,63 @@ export interface StartedRun {
   params: ResolvedRunParams;
 }
 
-/** Creates a run and queues its pieces. */
-export async function startRun(args: {
+/** Who asks: the member's id and e-mail for the audit trail (scripts may give no e-mail). */
+interface RunActor {
   workspaceId: number;
   userId: number | null;
-  panelVersionId: number;
-  choice: RunParamsChoice;
-  origin?: "user" | "demo" | "benchmark";
-}): Promise<StartedRun> {
-  const params = await resolveRunParams(args.workspaceId, args.panelVersionId, args.choice);
-  const runId = await insertRun({ workspaceId: args.workspaceId, params, createdBy: args.userId, origin: args.origin ?? "user" });
+  actorEmail?: string | null;
+}
+
+function runTarget(runId: number, version: PanelVersionRow): string {
+  return `run ${runId} on panel "${version.panel_name}" v${version.version}`;
+}
+
+/** What the trail keeps of a run's parameters: enough to tell runs apart, not the indicator list. */
+function paramsSummary(params: ResolvedRunParams): Record<string, unknown> {
+  return {
+    panelVersionId: params.panelVersionId,
+    indicators: params.indicators.length,
+    periods: params.periods.length,
+    weights: params.weights,
+    permutations: params.permutations,
+    seed: params.seed,
+    local: params.local,
+  };
+}
+
+async function auditRun(actor: RunActor, action: "run.started" | "run.rerun" | "run.cancelled", target: string, detail: Record<string, unknown>, transaction: Transaction) {
+  await audit({ workspaceId: actor.workspaceId, actorId: actor.userId, actorEmail: actor.actorEmail ?? null, action, target, detail }, transaction);
+}
+
+/** Inserts the run and its audit event in one transaction, then queues its pieces. */
+async function createRun(
+  actor: RunActor,
+  version: PanelVersionRow,
+  params: ResolvedRunParams,
+  origin: "user" | "rerun" | "demo" | "benchmark",
+  rerunOf: number | null,
+): Promise<StartedRun> {
+  const runId = await db().transaction(async (transaction) => {
+    const id = await insertRun({ workspaceId: actor.workspaceId, params, createdBy: actor.userId, origin, rerunOf, transaction });
+    const detail = { runId: id, ...paramsSummary(params), origin, ...(rerunOf === null ? {} : { rerunOf }) };
+    await auditRun(actor, rerunOf === null ? "run.started" : "run.rerun", runTarget(id, version), detail, transaction);
+    return id;
+  });
   await enqueuePieces(runId, params.indicators);
   return { runId, params };
+}
+
+/** Creates a run and queues its pieces. */
+export async function startRun(
+  args: RunActor & {
+    panelVersionId: number;
+    choice: RunParamsChoice;
+    origin?: "user" | "demo" | "benchmark";
+  },
+): Promise<StartedRun> {
+  const params = await resolveRunParams(args.workspaceId, args.panelVersionId, args.choice);
+  const version = await panelVersionOf(args.workspaceId, args.panelVersionId);
+  return createRun(args, version, params, args.origin ?? "user", null);
 }
 
 /**
@@ -141,7 +187,7 @@ export async function startRun(args: {
  * (same seed, same data version), so every number is reproduced when the
  * earlier run used the current method.
  */
-export async function rerun(args: { workspaceId: number; userId: number | null; runId: number }): Promise<StartedRun> {
+export async function rerun(args: RunActor & { runId: number }): Promise<StartedRun> {
   const rows = await db().query<{ params: ResolvedRunParams }>("SELECT params FROM runs WHERE id = $1 AND workspace_id = $2", {
     bind: [args.runId, args.workspaceId],
     type: QueryTypes.SELECT,
@@ -158,20 +204,25 @@ export async function rerun(args: { workspaceId: number; userId: number | null; 
   // The rerun is computed by today's method and says so; under an older method
   // only the numbers that method changed can differ (see RUN_METHOD).
   const params: ResolvedRunParams = { ...previous, method: RUN_METHOD };
-  const runId = await insertRun({ workspaceId: args.workspaceId, params, createdBy: args.userId, origin: "rerun", rerunOf: args.runId });
-  await enqueuePieces(runId, params.indicators);
-  return { runId, params };
+  return createRun(args, version, params, "rerun", args.runId);
 }
 
 /** Cancels a queued or running run; queued pieces are withdrawn from the queue, running ones stop at their next period. */
-export async function cancelRun(args: { workspaceId: number; userId: number | null; runId: number }): Promise<void> {
-  const rows = await db().query<{ state: string }>("SELECT state FROM runs WHERE id = $1 AND workspace_id = $2", {
+export async function cancelRun(args: RunActor & { runId: number }): Promise<void> {
+  const rows = await db().query<{ state: string; panel_version_id: number }>("SELECT state, panel_version_id FROM runs WHERE id = $1 AND workspace_id = $2", {
     bind: [args.runId, args.workspaceId],
     type: QueryTypes.SELECT,
   });
   const run = rows[0];
   if (!run) throw new NotFoundError(`There is no run ${args.runId} in this workspace.`);
-  const result = await cancelRunRow(args.runId, args.userId);
+  const version = await panelVersionOf(args.workspaceId, run.panel_version_id);
+  const result = await db().transaction(async (transaction) => {
+    const cancelled = await cancelRunRow(args.runId, args.userId, transaction);
+    if (cancelled.cancelled) {
+      await auditRun(args, "run.cancelled", runTarget(args.runId, version), { runId: args.runId, panelVersionId: run.panel_version_id }, transaction);
+    }
+    return cancelled;
+  });
   if (!result.cancelled) throw new ConflictError(`Run ${args.runId} is already ${run.state}; only queued or running runs can be cancelled.`);
   if (result.jobIds.length) {
     const boss = await getBoss();

@@ -135,16 +135,17 @@ export function resultRowValues(runId: number, periodIndex: number, row: PeriodR
   return RESULT_COLUMNS.map((c) => (JSON_COLUMNS.has(c) && values[c] !== null ? JSON.stringify(values[c]) : values[c]));
 }
 
-/** Creates a run with one piece per indicator, in one transaction. Returns the run id. */
+/** Creates a run with one piece per indicator, in one transaction (the caller's, when given). Returns the run id. */
 export async function insertRun(args: {
   workspaceId: number;
   params: ResolvedRunParams;
   createdBy: number | null;
   origin: "user" | "rerun" | "demo" | "benchmark";
   rerunOf?: number | null;
+  transaction?: Transaction;
 }): Promise<number> {
   const { params } = args;
-  return db().transaction(async (transaction) => {
+  const write = async (transaction: Transaction): Promise<number> => {
     const [row] = await db().query<{ id: number }>(
       `INSERT INTO runs (workspace_id, panel_version_id, boundary_version_id, rerun_of, origin, params, seed, state, progress,
                          pieces_total, pieces_done, results_total, created_by, created_at, updated_at)
@@ -177,7 +178,8 @@ export async function insertRun(args: {
       { bind, transaction },
     );
     return runId;
-  });
+  };
+  return args.transaction ? write(args.transaction) : db().transaction(write);
 }
 
 export async function setPieceJobIds(runId: number, jobs: readonly { indicator: string; jobId: string | null }[]): Promise<void> {
@@ -379,8 +381,8 @@ export async function failPiece(runId: number, indicator: string, attempt: numbe
 }
 
 /** Marks a run cancelled (only while queued or running). Returns the job ids of its unfinished pieces. */
-export async function cancelRun(runId: number, userId: number | null): Promise<{ cancelled: boolean; jobIds: string[] }> {
-  return db().transaction(async (transaction) => {
+export async function cancelRun(runId: number, userId: number | null, outer?: Transaction): Promise<{ cancelled: boolean; jobIds: string[] }> {
+  const write = async (transaction: Transaction): Promise<{ cancelled: boolean; jobIds: string[] }> => {
     const updated = await db().query<{ id: number }>(
       `UPDATE runs SET state = 'cancelled', cancelled_by = $2, finished_at = now(), updated_at = now()
         WHERE id = $1 AND state IN ('queued','running') RETURNING id`,
@@ -392,5 +394,6 @@ export async function cancelRun(runId: number, userId: number | null): Promise<{
       { bind: [runId], type: QueryTypes.SELECT, transaction },
     );
     return { cancelled: true, jobIds: pieces.map((p) => p.job_id).filter((id): id is string => id !== null) };
-  });
+  };
+  return outer ? write(outer) : db().transaction(write);
 }

@@ -13,7 +13,7 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member }
 export const POST = memberRoute({ capability: "runs.manage", body: startRunSchema }, async ({ member, body }) => {
   try {
     const { panelVersionId, ...choice } = body;
-    const started = await startRun({ workspaceId: member.workspace.id, userId: member.user.id, panelVersionId, choice });
+    const started = await startRun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, panelVersionId, choice });
     return Response.json({ runId: started.runId, params: started.params }, { status: 201 });
   } catch (error) {
     return runsError(error);

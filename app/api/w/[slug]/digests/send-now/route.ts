@@ -1,4 +1,6 @@
+import { auditMember } from "@/lib/auth/audit";
 import { jsonError, memberRoute } from "@/lib/auth/route";
+import { db } from "@/lib/db";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { getOwnSubscription } from "@/lib/digests/queries";
 
@@ -8,6 +10,16 @@ export const POST = memberRoute({ capability: "digests.subscribe" }, async ({ me
   if (!subscription || !subscription.active) return jsonError(409, "Subscribe first (and keep the subscription active) to receive a digest.");
   const stamp = new Date().toISOString();
   const idempotencyKey = `sub-${subscription.id}:manual-${stamp}`;
-  await enqueue("digest-send", { subscriptionId: subscription.id, idempotencyKey, runId: null, coverage: `requested ${stamp.slice(0, 16).replace("T", " ")} UTC` });
+  // The job lives in pg-boss's own connection, so it cannot join this transaction:
+  // the event is written first and committed only once the job is queued, so a
+  // refused enqueue leaves no event.
+  await db().transaction(async (transaction) => {
+    await auditMember(
+      member,
+      { action: "digest.sent-now", target: `digest to ${member.user.email}`, detail: { subscriptionId: subscription.id, cadence: subscription.cadence, idempotencyKey } },
+      transaction,
+    );
+    await enqueue("digest-send", { subscriptionId: subscription.id, idempotencyKey, runId: null, coverage: `requested ${stamp.slice(0, 16).replace("T", " ")} UTC` });
+  });
   return Response.json({ idempotencyKey }, { status: 202 });
 });

@@ -6,7 +6,7 @@ export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, 
   const runId = idParam(params.runId);
   if (runId === null) return jsonError(404, `There is no run ${String(params.runId)} in this workspace.`);
   try {
-    const started = await rerun({ workspaceId: member.workspace.id, userId: member.user.id, runId });
+    const started = await rerun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, runId });
     return Response.json({ runId: started.runId, rerunOf: runId }, { status: 201 });
   } catch (error) {
     return runsError(error);
