@@ -3,8 +3,9 @@ import { withAuth, type NextRequestWithAuth } from "next-auth/middleware";
 import { env } from "@/lib/config/env";
 import { sessionCookie, isHttpsUrl } from "@/lib/security/cookies";
 import { contentSecurityPolicy, newNonce, uploadOrigin } from "@/lib/security/csp";
+import { crossSiteRefusal } from "@/lib/security/origin";
 
-// Two jobs, on every request but static files:
+// Three jobs, on every request but static files:
 // 1. A Content-Security-Policy with a fresh script nonce. Next.js reads the
 //    nonce from the request's CSP header while rendering and stamps it on its
 //    scripts, so every page renders dynamically (none is prerendered at build;
@@ -12,6 +13,8 @@ import { contentSecurityPolicy, newNonce, uploadOrigin } from "@/lib/security/cs
 // 2. Only the cheap check for workspace pages: no session cookie → the sign-in
 //    page. Whether the visitor may see a workspace is decided by
 //    lib/auth/guard.ts on the server; API routes answer 401 themselves.
+// 3. API requests that change data and come from another site's page are
+//    refused with 403 before any handler runs (lib/security/origin.ts).
 // The other security headers (nosniff, frame options, referrer and permissions
 // policies) are static and come from next.config.mjs, for static files too.
 
@@ -43,6 +46,15 @@ function withSecurityHeaders<R extends Response>(response: R, csp: string): R {
 export default async function proxy(request: NextRequest, event: NextFetchEvent) {
   const nonce = newNonce();
   const csp = policy(nonce);
+  const refusal = crossSiteRefusal({
+    method: request.method,
+    pathname: request.nextUrl.pathname,
+    origin: request.headers.get("origin"),
+    secFetchSite: request.headers.get("sec-fetch-site"),
+    host: request.headers.get("host"),
+    appUrl: env().NEXTAUTH_URL,
+  });
+  if (refusal) return withSecurityHeaders(NextResponse.json({ error: refusal, field: null }, { status: 403 }), csp);
   if (isWorkspacePath(request.nextUrl.pathname)) {
     // withAuth answers a redirect when there is no valid session, nothing otherwise.
     const denied = await requireSession(request as NextRequestWithAuth, event);

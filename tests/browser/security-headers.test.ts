@@ -1,3 +1,5 @@
+import { createServer } from "node:http";
+import type { AddressInfo } from "node:net";
 import type { Page } from "playwright-core";
 import demo from "@/seeders/demo-accounts.json";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
@@ -146,6 +148,60 @@ describe("security headers on the running app", () => {
     expect(await attempt(PASSWORD)).toBe(SIGN_IN_MESSAGES.throttled);
     expect(page.url()).toContain("/sign-in");
     expect((await context.cookies()).some((c) => /session-token/.test(c.name))).toBe(false);
+  });
+
+  it("refuses a data-changing API request from another origin's page, which the SameSite=Lax cookie alone would let through", async () => {
+    const { appUrl } = testServices();
+    session = await openBrowser();
+    const { page, context } = session;
+    await signIn(page);
+    // Another port of the same host is another origin but the same site, so the
+    // browser sends the Lax session cookie with its POST: only the origin check
+    // stops it. A text/plain body needs no CORS preflight.
+    const victim = `${uniqueAddress("csrf-victim")}`;
+    const attacker = createServer((_req, res) => {
+      res.writeHead(200, { "content-type": "text/html" });
+      res.end(`<!doctype html><title>elsewhere</title><script>
+        fetch(${JSON.stringify(`${appUrl}/api/workspaces/${slug}/invitations`)}, {
+          method: "POST", mode: "no-cors", credentials: "include",
+          headers: { "content-type": "text/plain" },
+          body: JSON.stringify({ email: ${JSON.stringify(victim)}, role: "manager" }),
+        }).then(() => { document.title = "sent"; }, () => { document.title = "failed"; });
+      </script>`);
+    });
+    await new Promise<void>((resolve) => attacker.listen(0, "127.0.0.1", resolve));
+    const refusals: number[] = [];
+    page.on("response", (r) => {
+      if (r.url().endsWith("/invitations") && r.request().method() === "POST") refusals.push(r.status());
+    });
+    try {
+      const port = (attacker.address() as AddressInfo).port;
+      await page.goto(`http://127.0.0.1:${port}/`);
+      await waitFor("the other page's request to be answered", async () => refusals.length > 0 && (await page.title()) !== "elsewhere", { timeoutMs: 15_000 });
+      expect(refusals).toEqual([403]);
+    } finally {
+      // The browser keeps its connection to the other page open; without this, close() waits for it.
+      attacker.closeAllConnections();
+      await new Promise((resolve) => attacker.close(resolve));
+    }
+    const pending = await context.request.get(`/api/workspaces/${slug}/invitations`);
+    const emails = ((await pending.json()) as { invitations: { email: string }[] }).invitations.map((i) => i.email);
+    expect(emails).not.toContain(victim);
+
+    // A request that claims another origin is refused whatever sends it.
+    const direct = await context.request.post(`/api/workspaces/${slug}/invitations`, {
+      headers: { origin: "https://attacker.example", "content-type": "application/json" },
+      data: { email: victim, role: "manager" },
+    });
+    expect(direct.status()).toBe(403);
+    expect(((await direct.json()) as { error: string }).error).toMatch(/came from another site \(Origin: https:\/\/attacker\.example\)/);
+    // The same request from Tessera's own page goes through to its handler.
+    await page.goto("/sign-in");
+    const own = await page.evaluate(
+      async ([url, email]) => (await fetch(url, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify({ email, role: "subscriber" }) })).status,
+      [`/api/workspaces/${slug}/invitations`, victim] as const,
+    );
+    expect(own).toBe(201);
   });
 
   it("refuses to be framed by another page", async () => {
