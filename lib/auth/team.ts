@@ -99,7 +99,7 @@ export async function listAudit(workspaceId: number, limit = 100): Promise<Audit
     target: string | null;
     detail: Record<string, unknown>;
   }>(
-    `SELECT e.id, e.at, e.action, u.name AS actor_name, e.actor_email, e.target, e.detail
+    `SELECT e.id, e.at, e.action, u.name AS actor_name, COALESCE(e.actor_email, u.email) AS actor_email, e.target, e.detail
        FROM audit_events e LEFT JOIN users u ON u.id = e.actor_id
       WHERE e.workspace_id = $1
          OR (e.workspace_id IS NULL AND e.action LIKE 'sign-in.%' AND e.actor_email IN (
@@ -112,7 +112,7 @@ export async function listAudit(workspaceId: number, limit = 100): Promise<Audit
     id: String(r.id),
     at: new Date(r.at).toISOString(),
     action: r.action,
-    actor: r.actor_name ? `${r.actor_name} (${r.actor_email ?? ""})` : r.actor_email,
+    actor: r.actor_name && r.actor_email ? `${r.actor_name} (${r.actor_email})` : (r.actor_name ?? r.actor_email),
     target: r.target,
     detail: r.detail ?? {},
   }));

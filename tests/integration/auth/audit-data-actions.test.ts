@@ -13,6 +13,7 @@ import { POST as postRerun } from "@/app/api/w/[slug]/runs/[runId]/rerun/route";
 import { POST as postCancel } from "@/app/api/w/[slug]/runs/[runId]/cancel/route";
 import { PUT as putDigest } from "@/app/api/w/[slug]/digests/route";
 import { POST as postSendNow } from "@/app/api/w/[slug]/digests/send-now/route";
+import { audit } from "@/lib/auth/audit";
 import { getSessionUser } from "@/lib/auth/session";
 import type { AuditRow } from "@/lib/auth/team";
 import { db } from "@/lib/db";
@@ -344,5 +345,12 @@ describe("the audit API", () => {
 
     as(users.steward);
     expect((await getAudit(new Request("http://tessera.test"), ctx({ slug }))).status).toBe(403);
+  });
+
+  it("names the actor with the account's e-mail when an event was recorded without one (a script's run)", async () => {
+    await audit({ workspaceId, actorId: users.steward.id, actorEmail: null, action: "run.started", target: "run started by a script" });
+    as(users.manager);
+    const events = ((await (await getAudit(new Request("http://tessera.test"), ctx({ slug }))).json()) as { events: AuditRow[] }).events;
+    expect(events.find((e) => e.target === "run started by a script")?.actor).toBe(`${users.steward.name} (${users.steward.email})`);
   });
 });
