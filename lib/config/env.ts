@@ -18,6 +18,16 @@ const schema = z.object({
   SMTP_PORT: z.coerce.number().int().positive().default(2525),
   MAIL_FROM: z.string().default("Tessera <no-reply@tessera.invalid>"),
   TESSERA_OUTBOX: z.enum(["0", "1"]).default("1").transform((v) => v === "1"),
+  // Hours after which a pending upload (ticket issued, never completed) is swept (lib/intake/abandoned-uploads.ts).
+  UPLOAD_ABANDON_HOURS: z.preprocess(
+    (v) => (typeof v === "string" && v.trim() === "" ? undefined : v),
+    z.coerce
+      .number({ error: "must be a number of hours" })
+      .int("must be a whole number of hours")
+      .min(1, "must be at least 1 hour")
+      .max(8760, "must be at most 8760 hours (a year)")
+      .default(24),
+  ),
 });
 
 export type Env = z.infer<typeof schema>;

@@ -2,6 +2,9 @@ import { sendMail } from "@/lib/mail/send";
 import { sendInvitationEmail } from "@/lib/auth/invitation-mail";
 import { abandonPiece, runPiece } from "@/lib/runs/worker";
 import { runIntakeValidation } from "@/lib/intake/jobs";
+import { describeSweep } from "@/lib/intake/abandoned-uploads";
+import { sweepAbandonedUploads } from "@/lib/intake/abandoned-uploads-sweep";
+import { env } from "@/lib/config/env";
 import { deliverDigest, scheduleDigestsForCadence, scheduleDigestsForRun } from "@/lib/digests/service";
 import type { JobPayload, QueueName } from "@/lib/jobs/queues";
 
@@ -43,6 +46,11 @@ export const handlers: { [Q in QueueName]: JobHandler<Q> } = {
   "digest-send": async (payload, context) => {
     const outcome = await deliverDigest(payload, { log: context.log });
     context.log(`digest ${payload.idempotencyKey}: ${outcome}`);
+  },
+  "uploads-sweep": async (_payload, context) => {
+    const hours = env().UPLOAD_ABANDON_HOURS;
+    const report = await sweepAbandonedUploads({ abandonAfterHours: hours, log: context.log });
+    context.log(describeSweep(report, hours));
   },
 };
 

@@ -27,6 +27,8 @@ export const queueSchemas = {
   "digest-monthly": z.object({}),
   /** One digest to one subscriber; the idempotency key makes repeats no-ops (lib/digests/service.ts). */
   "digest-send": digestSendPayloadSchema,
+  /** Daily (QUEUE_SCHEDULES): deletes uploads started but never completed, and their stored files (lib/intake/abandoned-uploads-sweep.ts). */
+  "uploads-sweep": z.object({}),
 } as const;
 
 export type QueueName = keyof typeof queueSchemas;
@@ -53,12 +55,15 @@ export const queueSettings: Partial<Record<QueueName, QueueSettings>> = {
   "digest-run-completed": { retryLimit: 3, retryDelay: 5, retryBackoff: true, expireInSeconds: 5 * 60 },
   "digest-weekly": { retryLimit: 3, retryDelay: 30, retryBackoff: true, expireInSeconds: 15 * 60 },
   "digest-monthly": { retryLimit: 3, retryDelay: 30, retryBackoff: true, expireInSeconds: 15 * 60 },
+  // A file-store failure does not fail the job (those uploads wait for the next day's sweep); a database error is retried.
+  "uploads-sweep": { retryLimit: 2, retryDelay: 60, retryBackoff: true, expireInSeconds: 30 * 60 },
 };
 
 /** Cron schedules (UTC) registered by workers (lib/jobs/boss.ts). */
 export const QUEUE_SCHEDULES: { queue: QueueName; cron: string; data: object }[] = [
   { queue: "digest-weekly", cron: "0 7 * * 1", data: {} },
   { queue: "digest-monthly", cron: "0 7 1 * *", data: {} },
+  { queue: "uploads-sweep", cron: "30 3 * * *", data: {} },
 ];
 
 export function isQueueName(name: string): name is QueueName {
