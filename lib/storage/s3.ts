@@ -1,6 +1,6 @@
 import { DeleteObjectCommand, GetObjectCommand, HeadObjectCommand, PutObjectCommand, S3Client, S3ServiceException } from "@aws-sdk/client-s3";
 import { getSignedUrl } from "@aws-sdk/s3-request-presigner";
-import type { Readable } from "node:stream";
+import { PassThrough, type Readable } from "node:stream";
 import { z } from "zod";
 import { env } from "@/lib/config/env";
 import { StorageUnavailableError, isStorageOutage } from "./errors";
@@ -125,16 +125,29 @@ export async function putObject(objectKey: string, body: Buffer | Uint8Array | s
   }
 }
 
-/** A readable stream of the object's bytes (for streamed intake). Throws when missing. */
+/**
+ * A readable stream of the object's bytes (for streamed intake). Throws when
+ * missing. The store failing part-way through (a dropped connection) errors
+ * the stream with a StorageUnavailableError, as a failure before the first
+ * byte does, so a route answers 503 rather than 500.
+ */
 export async function getObjectStream(objectKey: string): Promise<Readable> {
   const k = key(objectKey);
+  let body: Readable;
   try {
     const out = await s3Client().send(new GetObjectCommand({ Bucket: bucket(), Key: k }));
     if (!out.Body) throw new Error("empty body");
-    return out.Body as Readable;
+    body = out.Body as Readable;
   } catch (err) {
     throw wrap("GET", k, err);
   }
+  const guarded = new PassThrough();
+  body.once("error", (err) => guarded.destroy(wrap("GET", k, err)));
+  // A reader that stops early (a header preview) must not leave the connection open.
+  guarded.once("close", () => {
+    if (!body.destroyed) body.destroy();
+  });
+  return body.pipe(guarded);
 }
 
 /** The whole object in memory (small objects only). */
