@@ -4,6 +4,7 @@ import { getBoss } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { startWorkerProcess, type WorkerProcess } from "@/scripts/bench/worker-processes";
 import { requireTestServices, uniqueAddress } from "@/tests/helpers/env";
+import { closeConnections } from "@/tests/helpers/teardown";
 import { waitForMailTo } from "@/tests/helpers/mail";
 import { waitFor } from "@/tests/helpers/wait";
 import { ownJobsSchema } from "./worker-run-checks";
@@ -32,6 +33,7 @@ beforeAll(async () => {
 });
 afterAll(async () => {
   await teardown?.(workers);
+  await closeConnections();
 });
 
 describe("a job taken by a worker that died before claiming it", () => {
