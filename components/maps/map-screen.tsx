@@ -12,7 +12,7 @@ import { EChart, INK, MUTED } from "@/components/charts/echart";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
 import { CLUSTER_COLOURS, CLUSTER_LABELS, CLUSTER_SHORT, fmt, fmtP, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
 import { compareQuery, geometryQuery, mapQuery } from "@/components/runs/query-options";
-import type { ClusterClass } from "@/lib/spatial";
+import type { ClusterClass, IndependenceTest } from "@/lib/spatial";
 import type { MapPeriod } from "@/lib/runs/on-demand";
 import { escapeHtml } from "@/lib/security/html";
 import { RegionMap, useRegionFeatures } from "./region-map";
@@ -140,7 +140,13 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
               caption="Rows are the class in period A, columns the class in period B; each cell counts regions. The diagonal holds regions that kept their class."
             >
               {compare.data?.comparison.transitions ? (
-                <TransitionTable counts={compare.data.comparison.transitions.counts} moved={compare.data.comparison.transitions.moved} a={a} b={b} />
+                <TransitionTable
+                  counts={compare.data.comparison.transitions.counts}
+                  moved={compare.data.comparison.transitions.moved}
+                  independence={compare.data.comparison.transitions.independence}
+                  a={a}
+                  b={b}
+                />
               ) : compare.isPending ? (
                 <p className="text-sm text-ink-500">Counting transitions…</p>
               ) : (
@@ -266,7 +272,7 @@ function RegionDetail({ id, names, a, b, unit }: { id: string | null; names: Rec
   );
 }
 
-function TransitionTable({ counts, moved, a, b }: { counts: number[][]; moved: number; a: string; b: string }) {
+function TransitionTable({ counts, moved, independence, a, b }: { counts: number[][]; moved: number; independence: IndependenceTest | null; a: string; b: string }) {
   const max = Math.max(1, ...counts.flat());
   return (
     <div className="overflow-x-auto">
@@ -306,6 +312,15 @@ function TransitionTable({ counts, moved, a, b }: { counts: number[][]; moved: n
       <p className="mt-2 text-xs text-ink-500">
         {moved} region{moved === 1 ? "" : "s"} changed class between {a} and {b}.
       </p>
+      {independence ? (
+        <p className="mt-1 text-xs text-ink-500" data-testid="transition-independence">
+          Is the {b} class independent of the {a} class? Pearson χ² = {fmt(independence.chiSquare, 2)}, df {independence.degreesOfFreedom}, p = {fmtP(independence.p)}.
+          Neighbouring regions are not independent observations, so this p is optimistic.
+          {independence.expectedBelow5 > independence.cells / 5
+            ? ` ${independence.expectedBelow5} of ${independence.cells} cells expect fewer than 5 regions: the χ² approximation is rough here.`
+            : ""}
+        </p>
+      ) : null}
     </div>
   );
 }

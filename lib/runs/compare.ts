@@ -5,6 +5,7 @@
 import type { Topology } from "topojson-specification";
 import {
   bivariateMoran,
+  chiSquareIndependence,
   CLUSTER_CLASSES,
   createRandomSource,
   globalMoran,
@@ -13,6 +14,7 @@ import {
   prepareAnalysis,
   transitionTable,
   type ClusterClass,
+  type IndependenceTest,
   type RegionValues,
 } from "@/lib/spatial";
 import { buildRunGeometry, messageOf, statisticSeed, type RunGeometry, type TopologyLayout } from "./compute";
@@ -132,6 +134,13 @@ export interface ClusterTransitionTable {
   unmatched: number;
   /** Regions whose class changed. */
   moved: number;
+  /**
+   * Pearson's chi-square test that the later class is independent of the
+   * earlier one (null when fewer than two classes are occupied). Neighbouring
+   * regions are not independent observations, so its p is optimistic: the
+   * screen says so.
+   */
+  independence: IndependenceTest | null;
 }
 
 /** How many regions moved between cluster classes from one stored local result to another. */
@@ -153,6 +162,7 @@ export function clusterTransitionTable(earlier: LocalFields, later: LocalFields)
     counts: table.counts.map((row) => [...row]),
     unmatched: earlier.ids.length - from.length + (later.ids.length - from.length),
     moved,
+    independence: chiSquareIndependence(table.counts),
   };
 }
 

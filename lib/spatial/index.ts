@@ -118,4 +118,6 @@ export type { Correction } from "./multiple-testing";
 export { empiricalBayesStandardise } from "./empirical-bayes";
 export type { EmpiricalBayesResult } from "./empirical-bayes";
 export { transitionTable, spatialMarkov, clusterTransitions, CLUSTER_CLASSES } from "./spatial-markov";
+export { chiSquareIndependence } from "./contingency";
+export type { IndependenceTest } from "./contingency";
 export type { TransitionTable, SpatialMarkovResult } from "./spatial-markov";

@@ -19,5 +19,6 @@ if ! have_r_packages; then
 fi
 
 Rscript scripts/reference/spdep-reference.R .
+Rscript scripts/reference/chisq-reference.R .
 node scripts/reference/nc-to-topojson.mjs tests/fixtures/nc/nc.geojson tests/fixtures/nc/nc.topojson
 echo "Fixtures regenerated. Review 'git diff --stat tests/fixtures' before committing."

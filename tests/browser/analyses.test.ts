@@ -105,6 +105,10 @@ it("an economist runs the demo panel, filters the catalogue, opens the unemploym
   await page.goto(`/w/${slug}/map?indicator=unemployment_rate&run=${runId}&a=2012&b=2016`);
   await page.locator('[data-testid="cluster-map-a"] path[data-region]').first().waitFor();
   await page.locator('[data-testid="transition-table"]').waitFor();
+  // The chi-square line under the table states its own caution.
+  const independence = await page.getByTestId("transition-independence").innerText();
+  expect(independence).toMatch(/Pearson χ² = [\d.]+, df \d+, p = /);
+  expect(independence).toContain("Neighbouring regions are not independent observations");
   const hh2016 = await page.locator('[data-testid="cluster-map-b"] path[fill="#9a3412"]').count();
   expect(hh2016).toBeGreaterThan(0);
   await page.locator('[data-testid="cluster-map-b"] path[fill="#9a3412"]').first().hover();
