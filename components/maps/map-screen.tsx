@@ -320,7 +320,11 @@ function TransitionTable({ counts, moved, independence, a, b }: { counts: number
             ? ` ${independence.expectedBelow5} of ${independence.cells} cells expect fewer than 5 regions: the χ² approximation is rough here.`
             : ""}
         </p>
-      ) : null}
+      ) : (
+        <p className="mt-1 text-xs text-ink-500" data-testid="transition-independence">
+          No χ² test of independence: it needs regions in at least two classes in both {a} and {b}.
+        </p>
+      )}
     </div>
   );
 }
