@@ -180,16 +180,34 @@ export class WorkerLease {
     );
     const handedBack: HandedBackJob[] = [];
     for (const orphan of orphans) {
-      const job = await boss.getJobById(orphan.queue, orphan.job_id, { includeArchive: false });
-      // Finished (or already expired and retried by pg-boss) jobs need nothing.
-      if (!job || job.state !== "active") continue;
-      await boss.fail(orphan.queue, orphan.job_id, { message: `worker ${orphan.label} stopped while this job was active (handed back by ${this.label})` });
-      const finalAttempt = job.retryCount >= job.retryLimit;
-      this.options.log(`handed ${orphan.queue} ${orphan.job_id} of worker ${orphan.label} back to the queue${finalAttempt ? " (its last attempt: failed)" : " for a retry"}`);
-      handedBack.push({ queue: orphan.queue, jobId: orphan.job_id, deadWorker: orphan.label, finalAttempt, data: job.data });
+      const job = await this.handBack(boss, orphan.queue, orphan.job_id, orphan.label, {
+        failure: `worker ${orphan.label} stopped while this job was active`,
+        logged: ` of worker ${orphan.label}`,
+      });
+      if (job) handedBack.push(job);
     }
     handedBack.push(...(await this.sweepUnclaimed(boss)));
     return handedBack;
+  }
+
+  /**
+   * Fails one job through pg-boss, which retries it per its queue, if it is
+   * still active; finished jobs (or ones pg-boss already expired and retried)
+   * need nothing and give null.
+   */
+  private async handBack(
+    boss: PgBoss,
+    queue: string,
+    jobId: string,
+    deadWorker: string,
+    why: { failure: string; logged: string },
+  ): Promise<HandedBackJob | null> {
+    const job = await boss.getJobById(queue, jobId, { includeArchive: false });
+    if (!job || job.state !== "active") return null;
+    await boss.fail(queue, jobId, { message: `${why.failure} (handed back by ${this.label})` });
+    const finalAttempt = job.retryCount >= job.retryLimit;
+    this.options.log(`handed ${queue} ${jobId}${why.logged} back to the queue${finalAttempt ? " (its last attempt: failed)" : " for a retry"}`);
+    return { queue, jobId, deadWorker, finalAttempt, data: job.data };
   }
 
   /**
@@ -216,13 +234,12 @@ export class WorkerLease {
       );
       const handedBack: HandedBackJob[] = [];
       for (const orphan of unclaimed) {
-        const job = await boss.getJobById(orphan.name, orphan.id, { includeArchive: false });
-        if (!job || job.state !== "active") continue;
-        const who = "an unrecorded worker";
-        await boss.fail(orphan.name, orphan.id, { message: `taken by ${who}: active and unclaimed for ${orphan.age.toFixed(0)} s (handed back by ${this.label})` });
-        const finalAttempt = job.retryCount >= job.retryLimit;
-        this.options.log(`handed ${orphan.name} ${orphan.id}, active and unclaimed for ${orphan.age.toFixed(0)} s, back to the queue${finalAttempt ? " (its last attempt: failed)" : " for a retry"}`);
-        handedBack.push({ queue: orphan.name, jobId: orphan.id, deadWorker: who, finalAttempt, data: job.data });
+        const unclaimedFor = `active and unclaimed for ${orphan.age.toFixed(0)} s`;
+        const job = await this.handBack(boss, orphan.name, orphan.id, "an unrecorded worker", {
+          failure: `taken by an unrecorded worker: ${unclaimedFor}`,
+          logged: `, ${unclaimedFor},`,
+        });
+        if (job) handedBack.push(job);
       }
       return handedBack;
     });

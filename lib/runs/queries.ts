@@ -150,23 +150,23 @@ export type { CatalogueRow } from "./catalogue-wire";
 
 /** The run_results column behind each wire field. */
 const CATALOGUE_COLUMNS: Record<(typeof CATALOGUE_FIELDS)[number], string> = {
-  runId: "rr.run_id",
-  indicator: "rr.indicator_code",
-  period: "rr.period_key",
-  periodIndex: "rr.period_index",
-  status: "rr.status",
-  note: "rr.note",
-  n: "rr.n",
-  I: "rr.i",
-  expectedI: "rr.expected_i",
-  z: "rr.z_randomisation",
-  p: "rr.p_randomisation",
-  pseudoP: "rr.perm_p",
-  adjustedP: "rr.adjusted_p",
-  significance: "rr.significance",
-  deltaI: "rr.delta_i",
-  gearyC: "rr.geary_c",
-  generalG: "rr.general_g",
+  runId: "run_id",
+  indicator: "indicator_code",
+  period: "period_key",
+  periodIndex: "period_index",
+  status: "status",
+  note: "note",
+  n: "n",
+  I: "i",
+  expectedI: "expected_i",
+  z: "z_randomisation",
+  p: "p_randomisation",
+  pseudoP: "perm_p",
+  adjustedP: "adjusted_p",
+  significance: "significance",
+  deltaI: "delta_i",
+  gearyC: "geary_c",
+  generalG: "general_g",
 };
 
 export interface CatalogueFilter {
@@ -225,8 +225,8 @@ export async function catalogueText(workspaceId: number, filter: CatalogueFilter
   const columns = CATALOGUE_FIELDS.map((f) => CATALOGUE_COLUMNS[f]);
   const rows = await selectTuples<[tuple: string, indicator: string]>(
     `WITH chosen AS (${source})
-     SELECT json_build_array(${columns.map((c) => c.replace("rr.", "t.")).join(", ")})::text, t.indicator_code
-       FROM (SELECT ${columns.join(", ")}
+     SELECT json_build_array(${columns.map((c) => `t.${c}`).join(", ")})::text, t.indicator_code
+       FROM (SELECT ${columns.map((c) => `rr.${c}`).join(", ")}
                FROM chosen c
                JOIN run_results rr ON rr.run_id = c.run_id AND rr.indicator_code = c.indicator_code
                LEFT JOIN indicators i ON i.workspace_id = $1 AND i.code = rr.indicator_code

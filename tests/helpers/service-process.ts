@@ -1,6 +1,9 @@
 import { spawn, type ChildProcess } from "node:child_process";
+import fs from "node:fs";
 import net from "node:net";
+import os from "node:os";
 import path from "node:path";
+import { env } from "@/lib/config/env";
 import { canConnect } from "@/tests/helpers/env";
 
 /**
@@ -91,4 +94,31 @@ export function s3rverProcess(options: { port: number; bucket: string; directory
 /** The SMTP sink (scripts/services/smtp-sink.mjs): stores what it accepts in outbox_messages of DATABASE_URL. */
 export function smtpSinkProcess(options: { port: number; databaseUrl: string }): ServiceProcess {
   return serviceProcess("smtp-sink", "smtp-sink.mjs", options.port, { ...process.env, SMTP_PORT: String(options.port), DATABASE_URL: options.databaseUrl });
+}
+
+/** An s3rver of one test file's own (see `ownS3rver`); `remove()` stops it and deletes its objects. */
+export interface OwnS3rver extends ServiceProcess {
+  remove(): Promise<void>;
+}
+
+/**
+ * Starts an s3rver with `bucket` in a fresh temporary directory and points
+ * S3_ENDPOINT and S3_BUCKET at it, for a fault test that stops its store
+ * without touching the one the other tests share. Throws if the configuration
+ * was read before (the code under test would still talk to the shared store).
+ */
+export async function ownS3rver(bucket: string): Promise<OwnS3rver> {
+  const directory = fs.mkdtempSync(path.join(os.tmpdir(), `tessera-${bucket}-`));
+  const store = s3rverProcess({ port: await freePort(), bucket, directory });
+  await store.start();
+  process.env.S3_ENDPOINT = `http://127.0.0.1:${store.port}`;
+  process.env.S3_BUCKET = bucket;
+  if (env().S3_ENDPOINT !== process.env.S3_ENDPOINT) throw new Error(`the configuration was read before the test pointed S3_ENDPOINT at its own s3rver (${env().S3_ENDPOINT})`);
+  return {
+    ...store,
+    async remove() {
+      await store.stop().catch(() => undefined);
+      fs.rmSync(directory, { recursive: true, force: true });
+    },
+  };
 }

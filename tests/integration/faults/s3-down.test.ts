@@ -1,6 +1,3 @@
-import fs from "node:fs";
-import os from "node:os";
-import path from "node:path";
 import { QueryTypes } from "sequelize";
 import { POST as postUpload } from "@/app/api/workspaces/[slug]/intake/uploads/route";
 import { POST as postComplete } from "@/app/api/workspaces/[slug]/intake/uploads/[uploadId]/complete/route";
@@ -9,13 +6,12 @@ import { POST as postBoundaries } from "@/app/api/workspaces/[slug]/intake/bound
 import { putFailureMessage } from "@/components/intake/upload-file";
 import { requireMember, type MemberContext } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
-import { env } from "@/lib/config/env";
 import { db } from "@/lib/db";
 import { createBoundaryVersion } from "@/lib/intake/actions";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { runIntakeValidation } from "@/lib/intake/jobs";
 import { requireTestServices } from "@/tests/helpers/env";
-import { freePort, s3rverProcess, type ServiceProcess } from "@/tests/helpers/service-process";
+import { ownS3rver, type OwnS3rver } from "@/tests/helpers/service-process";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { makeWorkspace } from "@/tests/integration/auth/fixtures";
 import { asSession, ctx, gridGeoJson, jsonRequest, sha256 } from "@/tests/integration/intake/fixtures";
@@ -31,8 +27,7 @@ const sessionMock = getSessionUser as jest.MockedFunction<typeof getSessionUser>
 jest.setTimeout(90_000);
 
 const BUCKET = "tessera-fault";
-let store: ServiceProcess;
-let storeDir: string;
+let store: OwnS3rver;
 let slug: string;
 let workspaceId: number;
 let steward: MemberContext;
@@ -98,13 +93,8 @@ async function expectNothingRecordedAsUploaded() {
 }
 
 beforeAll(async () => {
-  storeDir = fs.mkdtempSync(path.join(os.tmpdir(), "tessera-s3-fault-"));
-  store = s3rverProcess({ port: await freePort(), bucket: BUCKET, directory: storeDir });
-  await store.start();
-  process.env.S3_ENDPOINT = `http://127.0.0.1:${store.port}`;
-  process.env.S3_BUCKET = BUCKET;
+  store = await ownS3rver(BUCKET);
   await requireTestServices();
-  if (env().S3_ENDPOINT !== process.env.S3_ENDPOINT) throw new Error(`the configuration was read before the test pointed S3_ENDPOINT at its own s3rver (${env().S3_ENDPOINT})`);
   const made = await makeWorkspace({ steward: "steward" });
   slug = made.workspace.slug;
   workspaceId = made.workspace.id;
@@ -113,8 +103,7 @@ beforeAll(async () => {
 });
 
 afterAll(async () => {
-  await store?.stop().catch(() => undefined);
-  if (storeDir) fs.rmSync(storeDir, { recursive: true, force: true });
+  await store?.remove();
   await closeIntakePool();
   await closeConnections();
 });

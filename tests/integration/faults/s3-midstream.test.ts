@@ -1,12 +1,8 @@
-import fs from "node:fs";
-import os from "node:os";
-import path from "node:path";
-import { env } from "@/lib/config/env";
 import { sha256OfStream } from "@/lib/intake/actions";
 import { StorageUnavailableError } from "@/lib/storage/errors";
 import { getObjectStream, putObject } from "@/lib/storage/s3";
 import { requireTestServices } from "@/tests/helpers/env";
-import { freePort, s3rverProcess, type ServiceProcess } from "@/tests/helpers/service-process";
+import { ownS3rver, type OwnS3rver } from "@/tests/helpers/service-process";
 import { closeConnections } from "@/tests/helpers/teardown";
 
 // S3 failing in the middle of a streamed read (the upload checksum, a panel
@@ -19,24 +15,17 @@ jest.setTimeout(90_000);
 
 const BUCKET = "tessera-midstream";
 const KEY = "midstream/large.bin";
-let store: ServiceProcess;
-let storeDir: string;
+let store: OwnS3rver;
 
 beforeAll(async () => {
   await requireTestServices();
-  storeDir = fs.mkdtempSync(path.join(os.tmpdir(), "tessera-s3-midstream-"));
-  store = s3rverProcess({ port: await freePort(), bucket: BUCKET, directory: storeDir });
-  await store.start();
-  process.env.S3_ENDPOINT = `http://127.0.0.1:${store.port}`;
-  process.env.S3_BUCKET = BUCKET;
-  if (env().S3_ENDPOINT !== process.env.S3_ENDPOINT) throw new Error(`the configuration was read before the test pointed S3_ENDPOINT at its own s3rver (${env().S3_ENDPOINT})`);
+  store = await ownS3rver(BUCKET);
   // Far more than the socket buffers hold, so most of it is still on the server when it stops.
   await putObject(KEY, Buffer.alloc(48 * 1024 * 1024, 7));
 });
 
 afterAll(async () => {
-  await store?.stop().catch(() => undefined);
-  fs.rmSync(storeDir, { recursive: true, force: true });
+  await store?.remove();
   await closeConnections();
 });
 

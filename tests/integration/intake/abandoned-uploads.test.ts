@@ -1,16 +1,12 @@
-import fs from "node:fs";
-import os from "node:os";
-import path from "node:path";
 import { QueryTypes } from "sequelize";
 import { requireMember, type MemberContext } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
-import { env } from "@/lib/config/env";
 import { db } from "@/lib/db";
 import { completeUpload, createBoundaryVersion, createUpload, type UploadTicket } from "@/lib/intake/actions";
 import { sweepAbandonedUploads } from "@/lib/intake/abandoned-uploads-sweep";
 import { headObject } from "@/lib/storage/s3";
 import { requireTestServices } from "@/tests/helpers/env";
-import { freePort, s3rverProcess, type ServiceProcess } from "@/tests/helpers/service-process";
+import { ownS3rver, type OwnS3rver } from "@/tests/helpers/service-process";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { makeWorkspace } from "@/tests/integration/auth/fixtures";
 import { asSession, gridGeoJson, sha256 } from "@/tests/integration/intake/fixtures";
@@ -28,8 +24,7 @@ jest.setTimeout(90_000);
 const BUCKET = "tessera-sweep";
 /** Only this file names a boundary set so, which lets it find the workspaces an interrupted earlier run left behind. */
 const SET_NAME = "Sweep squares (abandoned-uploads test)";
-let store: ServiceProcess;
-let storeDir: string;
+let store: OwnS3rver;
 let workspaceId: number;
 let steward: MemberContext;
 let fileCount = 0;
@@ -71,14 +66,9 @@ async function storedFile(key: string): Promise<"present" | "absent"> {
 }
 
 beforeAll(async () => {
-  storeDir = fs.mkdtempSync(path.join(os.tmpdir(), "tessera-s3-sweep-"));
-  store = s3rverProcess({ port: await freePort(), bucket: BUCKET, directory: storeDir });
-  await store.start();
-  process.env.S3_ENDPOINT = `http://127.0.0.1:${store.port}`;
-  process.env.S3_BUCKET = BUCKET;
   delete process.env.UPLOAD_ABANDON_HOURS;
+  store = await ownS3rver(BUCKET);
   await requireTestServices();
-  if (env().S3_ENDPOINT !== process.env.S3_ENDPOINT) throw new Error(`the configuration was read before the test pointed S3_ENDPOINT at its own s3rver (${env().S3_ENDPOINT})`);
   const made = await makeWorkspace({ steward: "steward" });
   workspaceId = made.workspace.id;
   sessionMock.mockResolvedValue(asSession(made.users.steward));
@@ -91,8 +81,7 @@ beforeAll(async () => {
 afterAll(async () => {
   // The workspace's uploads, versions and audit events go with it (foreign-key cascades).
   if (workspaceId) await db().query("DELETE FROM workspaces WHERE id = $1", { bind: [workspaceId] });
-  await store?.stop().catch(() => undefined);
-  if (storeDir) fs.rmSync(storeDir, { recursive: true, force: true });
+  await store?.remove();
   await closeConnections();
 });
 
