@@ -1,6 +1,6 @@
 import type { Config } from "tailwindcss";
 
-// Tessera's own palette (DESIGN.md §Look). Cluster colours are used by maps and legends.
+// Tessera's own palette: ink navy for text and chrome, ochre as the accent. Cluster colours are used by maps and legends.
 const config: Config = {
   content: ["./app/**/*.{ts,tsx}", "./components/**/*.{ts,tsx}"],
   theme: {

@@ -1,6 +1,6 @@
 "use strict";
 
-// Accounts, workspaces and who holds which role where (DESIGN.md §Roles).
+// Accounts, workspaces and who holds which role where (the roles table (docs/guarantees.md)).
 // Roles are checked in the database as well as in lib/auth/roles.ts so a bad
 // write from any process (a script, a seeder) cannot invent a fifth role.
 

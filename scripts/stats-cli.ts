@@ -1,5 +1,5 @@
 /**
- * Tessera statistics CLI (DESIGN.md §CLI) — the batch entry to lib/spatial.
+ * Tessera statistics CLI (docs/statistics.md, "Command line") — the batch entry to lib/spatial.
  *
  *   npm run -s stats -- moran --topology FILE --object NAME --id PROP
  *     --data FILE.csv --id-column COL --value COL

@@ -1,4 +1,4 @@
-// DESIGN.md §Cautions: shown beside every result. Items can be narrowed to the
+// The cautions of docs/statistics.md: shown beside every result. Items can be narrowed to the
 // ones a particular result needs (e.g. leave out "small n" for a large panel).
 
 export type CautionKey = "causation" | "maup" | "multiple" | "small-n" | "small-rates";

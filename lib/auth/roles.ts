@@ -1,4 +1,4 @@
-// Roles and capabilities of DESIGN.md §Roles. This file is the single source:
+// Roles and capabilities of the roles table (docs/guarantees.md). This file is the single source:
 // pages, route handlers, server actions and the nav all ask `can()`.
 
 export const ROLES = ["manager", "steward", "economist", "subscriber"] as const;
@@ -15,7 +15,7 @@ export const CAPABILITIES = [
 export type Capability = (typeof CAPABILITIES)[number];
 
 // Each capability names the least senior role that holds it; roles are
-// strictly nested in DESIGN.md §Roles, so a rank comparison is the whole table.
+// strictly nested in the roles table (docs/guarantees.md), so a rank comparison is the whole table.
 const RANK: Record<Role, number> = { subscriber: 0, economist: 1, steward: 2, manager: 3 };
 const LEAST_ROLE: Record<Capability, Role> = {
   "results.view": "subscriber",

@@ -14,7 +14,7 @@
  *   const local = localMoran(prepared.values, prepared.weights, { permutations: 999, random: createRandomSource(1),
  *     alpha: 0.05, correction: "fdr" });
  *
- * Conventions (DESIGN.md §Statistics): z_i = x_i − x̄; S0 = ΣΣ w_ij;
+ * Conventions (docs/statistics.md): z_i = x_i − x̄; S0 = ΣΣ w_ij;
  * S1 = ½ ΣΣ (w_ij + w_ji)²; S2 = Σ_i (w_i· + w_·i)²; permutation
  * p = (M + 1)/(R + 1) per tail, two-sided = min(1, 2·min(greater, less)).
  *

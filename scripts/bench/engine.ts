@@ -1,5 +1,5 @@
 /**
- * Engine benchmark (DESIGN.md §Performance): global Moran's I with 999
+ * Engine benchmark (the performance targets in docs/benchmarks.md): global Moran's I with 999
  * permutations and local Moran's I with 999 conditional permutations on
  * row-standardised rook lattices of 50×50, 100×100 and 200×200 cells, one
  * thread. Reports wall-clock and CPU ms (best, and median, of five

@@ -2,7 +2,7 @@
  * Benchmark: validation + COPY ingest of a generated long panel into
  * PostgreSQL, the path a validation job takes (lib/intake/ingest-panel.ts),
  * reading the CSV as a stream. Prints rows per second and the peak resident
- * memory of this process (DESIGN.md §Performance: 1 million rows in under 20 s,
+ * memory of this process (the performance targets in docs/benchmarks.md: 1 million rows in under 20 s,
  * under 300 MB).
  *
  *   npx tsx scripts/bench/intake-ingest.ts [--rows N] [--json]

@@ -9,7 +9,7 @@
  *   npm run -s load -- --catalogue-rows 0       # no synthetic 10,000-row run, demo data only
  *
  * Five phases share the duration: the catalogue over a synthetic 10,000-row
- * run with one client (DESIGN.md §Performance: p95 under 200 ms), the same
+ * run with one client (the performance targets in docs/benchmarks.md: p95 under 200 ms), the same
  * asking for gzip as a browser does, then with all connections, timelines of
  * the demo indicators, and the two mixed. The synthetic run is written straight into
  * DATABASE_URL (state "completed", origin "benchmark") before the phases and
@@ -201,7 +201,7 @@ async function main(): Promise<void> {
       ? [`${api}/catalogue?run=${synthetic.id}`, `${api}/catalogue?run=${synthetic.id}&class=clustering`, `${api}/catalogue?run=${synthetic.id}&from=2000&to=2010&q=indicator_1`]
       : [`${api}/catalogue`, `${api}/catalogue?class=clustering`];
     const catalogueName = synthetic ? `catalogue (${args.catalogueRows.toLocaleString("en")}-row run)` : "catalogue (demo)";
-    // DESIGN.md's catalogue target is a response time, so it is judged with one
+    // The catalogue target (docs/benchmarks.md) is a response time, so it is judged with one
     // client; under N clients on a 2-core machine the same work queues up.
     const phases: Phase[] = [
       { name: `${catalogueName}, 1 client`, paths: cataloguePaths, connections: 1, target: { p95Ms: 200 } },

@@ -1,5 +1,5 @@
 /**
- * Runs benchmarks (DESIGN.md §Performance). A benchmark, never a test: nothing
+ * Runs benchmarks (the performance targets in docs/benchmarks.md). A benchmark, never a test: nothing
  * fails on time; it prints what it measured and the target beside it.
  *
  *   npx tsx scripts/bench/runs.ts [--json] [--skip-db] [--large-indicators N] [--workers N]

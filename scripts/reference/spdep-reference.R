@@ -294,7 +294,7 @@ for (wn in names(weight_sets)) {
       r$pColumn <- NULL
       r$pGreater <- unname(as.matrix(gre)[, 5])
       r$pGreaterColumn <- colnames(gre)[5]
-      # "pysal" quadrant: sign of z_i and of its lag (DESIGN.md's definition);
+      # "pysal" quadrant: sign of z_i and of its lag (the definition in docs/statistics.md);
       # "mean": x against mean(x) and lag(x) against mean(lag(x)).
       r$quadrantPysal <- as.character(attr(two, "quadr")$pysal)
       r$quadrantMean <- as.character(attr(two, "quadr")$mean)

@@ -1,6 +1,6 @@
 import { CAPABILITIES, ROLES, can, isRole, type Capability, type Role } from "@/lib/auth/roles";
 
-// The full table of DESIGN.md §Roles, written out row by row so a change to
+// The full table of the roles table (docs/guarantees.md), written out row by row so a change to
 // can() that disagrees with the design fails here.
 const TABLE: Record<Capability, Record<Role, boolean>> = {
   "results.view": { manager: true, steward: true, economist: true, subscriber: true },

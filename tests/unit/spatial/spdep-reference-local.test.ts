@@ -14,7 +14,7 @@
  *   Gi* uses include.self(nb); with style W the self link is inside the row
  *   standardisation (w_ij = 1/(k_i + 1) including j = i).
  * - localmoran_perm() in this spdep draws the k_i neighbour values WITH
- *   replacement; Tessera draws without replacement (DESIGN.md). The engine's
+ *   replacement; Tessera draws without replacement (docs/statistics.md). The engine's
  *   permutation variance is therefore compared with the exact conditional
  *   (without-replacement) variance from localmoran(), and the with-replacement
  *   inflation of spdep's draws, (n − 2)/(n − 1 − k_i), is checked as a fact of
