@@ -53,6 +53,12 @@ export interface LocalMoranRegion {
   readonly permutationMean: number | null;
   /** Sample sd of the permuted I_i. */
   readonly permutationSd: number | null;
+  /**
+   * Permutations this region used: R, or fewer when sequential stopping ended
+   * its sampling early (its pseudo p are then Besag–Clifford's h/L); null
+   * without a permutation test or without neighbours.
+   */
+  readonly permutationsUsed: number | null;
   /** p after the correction (of `pseudoP` or `p`, per `pValueSource`). */
   readonly adjustedP: number | null;
   /** k_i, the number of neighbours. */
@@ -76,6 +82,8 @@ export interface LocalMoranResult {
   readonly pValueSource: PValueSource;
   /** Number of tests m counted by the correction (regions with neighbours). */
   readonly tests: number;
+  /** h of sequential stopping, or null when every region used all R permutations. */
+  readonly sequentialExtremes: number | null;
   readonly regions: readonly LocalMoranRegion[];
 }
 
@@ -89,6 +97,13 @@ export interface LocalMoranOptions extends PermutationOptions {
   readonly correction?: Correction;
   /** Which p decides the cluster class; default `"permutation"` when R > 0, else `"analytical"`. */
   readonly pValueSource?: PValueSource;
+  /**
+   * Sequential Monte Carlo p-values (Besag & Clifford 1991): a region stops
+   * drawing once h permuted values in each tail are as extreme as its own
+   * (its p is then h/L after L draws, far from significance); others use all R.
+   * null or absent: every region uses all R. 10–20 is common practice.
+   */
+  readonly sequentialExtremes?: number | null;
 }
 
 /**
@@ -111,7 +126,12 @@ export interface LocalMoranOptions extends PermutationOptions {
  * The result states which moments are shown. The permutation test is
  * conditional (see `local-permutation.ts`, shared draws across regions), with
  * pseudo p per tail (M + 1)/(R + 1) and the two-sided ("folded") value
- * min(1, 2·min(pGreater, pLess)). Clusters: a region is significant when its
+ * min(1, 2·min(pGreater, pLess)). With `sequentialExtremes` = h a region
+ * whose two tails both reach h extremes after L < R draws stops there and
+ * gets the sequential p-values of Besag & Clifford (1991, Biometrika 78(2)):
+ * count/L per tail (one of them exactly h/L), folded as above; such a p is at
+ * least 2h/R, so it never decides a cluster that the full R would call
+ * clearly significant. Clusters: a region is significant when its
  * corrected p ≤ alpha; its cluster is then its quadrant.
  *
  * Regions without neighbours get I_i = 0 and null inference, cluster
@@ -159,7 +179,14 @@ export function localMoran(values: ArrayLike<number>, weights: SpatialWeights, o
   for (let i = 0; i < n; i++) fourth += z[i] ** 4;
   const b2 = (n * fourth) / (sumSquares * sumSquares);
   const lag = spatialLagInto(weights, z, new Float64Array(n));
-  const counts = permutations > 0 ? conditionalLagPermutations(z, weights, lag, permutations, options.random as NonNullable<typeof options.random>) : null;
+  const sequentialExtremes = options.sequentialExtremes ?? null;
+  if (sequentialExtremes !== null && (!Number.isInteger(sequentialExtremes) || sequentialExtremes < 1 || sequentialExtremes > permutations)) {
+    throw new Error(`Sequential stopping needs a whole number of extremes from 1 to the permutations (${permutations}); got ${String(sequentialExtremes)}.`);
+  }
+  const counts =
+    permutations > 0
+      ? conditionalLagPermutations(z, weights, lag, permutations, options.random as NonNullable<typeof options.random>, sequentialExtremes)
+      : null;
 
   const partial: Omit<LocalMoranRegion, "adjustedP" | "cluster">[] = [];
   for (let i = 0; i < n; i++) {
@@ -177,7 +204,7 @@ export function localMoran(values: ArrayLike<number>, weights: SpatialWeights, o
       partial.push({
         id: weights.ids[i], Ii, lag: lag[i], expectedIi: null, varianceIi: null, z: null, p: null,
         pseudoPGreater: null, pseudoPLess: null, pseudoP: null, permutationMean: null, permutationSd: null,
-        neighbours: 0, quadrant,
+        permutationsUsed: null, neighbours: 0, quadrant,
       });
       continue;
     }
@@ -197,14 +224,23 @@ export function localMoran(values: ArrayLike<number>, weights: SpatialWeights, o
     let pseudoP: number | null = null;
     let permutationMean: number | null = null;
     let permutationSd: number | null = null;
+    let permutationsUsed: number | null = null;
     if (counts) {
       // I_perm = factor · lag_perm: the upper tail of I is the upper tail of the
       // lag when factor > 0, the lower tail when factor < 0; with factor = 0
       // every permuted I equals the observed 0 (both tails count all R).
-      const greaterCount = factor > 0 ? counts.atLeast[i] : factor < 0 ? counts.atMost[i] : permutations;
-      const lessCount = factor > 0 ? counts.atMost[i] : factor < 0 ? counts.atLeast[i] : permutations;
-      pseudoPGreater = (greaterCount + 1) / (permutations + 1);
-      pseudoPLess = (lessCount + 1) / (permutations + 1);
+      const used = counts.draws[i];
+      const greaterCount = factor > 0 ? counts.atLeast[i] : factor < 0 ? counts.atMost[i] : used;
+      const lessCount = factor > 0 ? counts.atMost[i] : factor < 0 ? counts.atLeast[i] : used;
+      if (used < permutations) {
+        // Stopped early: Besag & Clifford's h/L (both tails have at least h extremes).
+        pseudoPGreater = greaterCount / used;
+        pseudoPLess = lessCount / used;
+      } else {
+        pseudoPGreater = (greaterCount + 1) / (permutations + 1);
+        pseudoPLess = (lessCount + 1) / (permutations + 1);
+      }
+      permutationsUsed = used;
       pseudoP = Math.min(1, 2 * Math.min(pseudoPGreater, pseudoPLess));
       permutationMean = factor * counts.mean[i];
       permutationSd = Math.abs(factor) * counts.sd[i];
@@ -222,6 +258,7 @@ export function localMoran(values: ArrayLike<number>, weights: SpatialWeights, o
       pseudoP,
       permutationMean,
       permutationSd,
+      permutationsUsed,
       neighbours: k,
       quadrant,
     });
@@ -236,5 +273,5 @@ export function localMoran(values: ArrayLike<number>, weights: SpatialWeights, o
       r.neighbours === 0 ? "no-neighbours" : adjustedP !== null && adjustedP <= alpha ? r.quadrant : "not-significant";
     return { ...r, adjustedP, cluster };
   });
-  return { n, m2, moments, permutations, alpha, correction, pValueSource, tests, regions };
+  return { n, m2, moments, permutations, alpha, correction, pValueSource, tests, sequentialExtremes, regions };
 }

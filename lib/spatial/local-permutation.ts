@@ -36,8 +36,13 @@ export interface ConditionalLagCounts {
   readonly atMost: Int32Array;
   /** Mean of the permuted lags. */
   readonly mean: Float64Array;
-  /** Sample sd (divisor R − 1) of the permuted lags. */
+  /** Sample sd (divisor draws − 1) of the permuted lags. */
   readonly sd: Float64Array;
+  /**
+   * Permutations each region used: R, or fewer when sequential stopping
+   * (`stopAfterExtremes`) ended its sampling early.
+   */
+  readonly draws: Int32Array;
 }
 
 /**
@@ -45,7 +50,17 @@ export interface ConditionalLagCounts {
  * permuted spatial lag of `values` is at least / at most the observed one.
  * Weights must not contain self-links (a fixed self term is added by the caller).
  *
+ * Sequential stopping (Besag & Clifford 1991, "Sequential Monte Carlo
+ * p-values", Biometrika 78(2), 301–304): with `stopAfterExtremes` = h, a
+ * region stops sampling as soon as both tails hold h permuted lags as extreme
+ * as the observed one, i.e. once its folded p is clearly far from any
+ * significance level; a region that never gets there uses all R draws. The
+ * draws themselves are the same as without stopping (the shared stream is
+ * drawn in full), so a region that is not stopped gets exactly the
+ * fixed-count result, bit for bit.
+ *
  * Cost: O(R · (k_max + n + L)) time; O(n) memory; no allocation inside the loop.
+ * With sequential stopping the per-region part shrinks to O(Σ_i draws_i · k_i).
  */
 export function conditionalLagPermutations(
   values: Float64Array,
@@ -53,7 +68,11 @@ export function conditionalLagPermutations(
   observedLag: Float64Array,
   permutations: number,
   random: RandomSource,
+  stopAfterExtremes: number | null = null,
 ): ConditionalLagCounts {
+  if (stopAfterExtremes !== null && !(Number.isInteger(stopAfterExtremes) && stopAfterExtremes >= 1)) {
+    throw new Error(`Sequential stopping needs a whole number of extremes ≥ 1; got ${String(stopAfterExtremes)}.`);
+  }
   const n = values.length;
   const { offsets, neighbours } = weights;
   const w = weights.weights;
@@ -79,6 +98,9 @@ export function conditionalLagPermutations(
   // Accumulate deviations from the observed lag (keeps the variance accurate).
   const sum = new Float64Array(n);
   const sumSquares = new Float64Array(n);
+  const draws = new Int32Array(n);
+  // A region's draw count stays 0 while it is sampling; stopped marks it done.
+  const stopped = new Uint8Array(n);
   const pool = new Int32Array(Math.max(n - 1, 0));
   for (let j = 0; j < n - 1; j++) pool[j] = j;
   const poolSize = n - 1;
@@ -114,7 +136,7 @@ export function conditionalLagPermutations(
     for (let i = 0; i < n; i++) {
       const start = offsets[i];
       const k = offsets[i + 1] - start;
-      if (k === 0) continue;
+      if (k === 0 || stopped[i] === 1) continue;
       const observed = observedLag[i];
       const tol = tolerance[i];
       const scale = rowWeight[i];
@@ -122,6 +144,10 @@ export function conditionalLagPermutations(
       let less = 0;
       let differenceSum = 0;
       let differenceSquares = 0;
+      // Without stopping the loop runs the whole block; with it, it ends at the
+      // draw where both tails reach h (checked per draw, a branch only this path pays).
+      const stopAt = stopAfterExtremes;
+      let used = count;
       for (let b = 0, base = 0; b < count; b++, base += kMax) {
         let lag = 0;
         if (allUniform) {
@@ -142,20 +168,29 @@ export function conditionalLagPermutations(
         less += difference <= tol ? 1 : 0;
         differenceSum += difference;
         differenceSquares += difference * difference;
+        if (stopAt !== null && atLeast[i] + greater >= stopAt && atMost[i] + less >= stopAt) {
+          used = b + 1;
+          stopped[i] = 1;
+          break;
+        }
       }
       atLeast[i] += greater;
       atMost[i] += less;
       sum[i] += differenceSum;
       sumSquares[i] += differenceSquares;
+      draws[i] += used;
     }
   }
   const mean = new Float64Array(n);
   const sd = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    const meanDifference = sum[i] / permutations;
+    // Regions without neighbours never sample; report R so callers need no special case.
+    if (offsets[i + 1] === offsets[i]) draws[i] = permutations;
+    const used = draws[i];
+    const meanDifference = sum[i] / used;
     mean[i] = observedLag[i] + meanDifference;
-    const variance = (sumSquares[i] - permutations * meanDifference * meanDifference) / (permutations - 1);
+    const variance = used > 1 ? (sumSquares[i] - used * meanDifference * meanDifference) / (used - 1) : 0;
     sd[i] = Math.sqrt(Math.max(0, variance));
   }
-  return { atLeast, atMost, mean, sd };
+  return { atLeast, atMost, mean, sd, draws };
 }
