@@ -112,6 +112,8 @@ export type {
 export { localGetisOrd } from "./local-getis-ord";
 export type { LocalGetisOrdResult, LocalGetisOrdRegion, LocalGetisOrdOptions } from "./local-getis-ord";
 export { adjustPValues, significantAfterCorrection } from "./multiple-testing";
+export { reachableSignificance } from "./reachable-significance";
+export type { ReachableSignificance, PermutationAlternative } from "./reachable-significance";
 export type { Correction } from "./multiple-testing";
 
 // Rates and transitions.
