@@ -1,3 +1,4 @@
+import Link from "next/link";
 import { redirect } from "next/navigation";
 import { getSessionUser } from "@/lib/auth/session";
 import { firstWorkspaceSlug } from "@/lib/auth/queries";
@@ -16,7 +17,12 @@ export default async function Home() {
       <h1 className="mt-6 text-xl font-semibold text-ink">You are not in a workspace yet</h1>
       <p className="mt-2 text-sm text-ink-500">
         Workspaces are joined by invitation. Ask a manager of your team to invite this e-mail address, then open the link in
-        the e-mail.
+        the e-mail. Or start one of your own:
+      </p>
+      <p className="mt-4">
+        <Link href="/workspaces/new" className="font-medium text-ochre-700 hover:underline">
+          Create a workspace
+        </Link>
       </p>
       <div className="mt-6 bg-ink p-2 inline-block rounded-md">
         <SignOutButton />

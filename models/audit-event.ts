@@ -17,7 +17,8 @@ export type AuditAction =
   | "run.started"
   | "run.rerun"
   | "run.cancelled"
-  | "digest.sent-now";
+  | "digest.sent-now"
+  | "workspace.created";
 
 export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreationAttributes<AuditEvent>> {
   declare id: CreationOptional<string>;

@@ -21,6 +21,9 @@ export function TopBar(props: {
           <Wordmark className="text-lg" />
         </Link>
         <WorkspaceSwitcher current={props.slug} workspaces={props.workspaces} />
+        <Link href="/workspaces/new" className="text-sm text-ink-200 hover:text-white hover:underline" data-testid="new-workspace-link">
+          New workspace
+        </Link>
         <div className="ml-auto flex items-center gap-4">
           <div className="text-right leading-tight">
             <p className="text-sm font-medium" data-testid="user-name">

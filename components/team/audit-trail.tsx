@@ -21,6 +21,7 @@ const LABELS: Record<string, string> = {
   "run.rerun": "Rerun started",
   "run.cancelled": "Run cancelled",
   "digest.sent-now": "Digest sent on request",
+  "workspace.created": "Workspace created",
 };
 
 const timeFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeStyle: "short" });

@@ -107,6 +107,21 @@ async function signIn(handler: Handler, form: Record<string, string>, withCsrf =
 
 const SESSION_COOKIE = "next-auth.session-token";
 
+function workspacePost(body: string): Request {
+  return new Request(`${BASE}/api/workspaces`, { method: "POST", headers: { "content-type": "application/json" }, body });
+}
+const createWs = (handler: Handler, body: unknown) => handler(workspacePost(JSON.stringify(body)), { params: Promise.resolve({}) });
+const freshSlug = () => `matrix-${randomBytes(6).toString("hex")}`;
+
+async function workspaceBySlug(slug: string): Promise<{ id: number; role: string | null; audited: number } | null> {
+  const rows = await db().query<{ id: number; role: string | null; audited: number }>(
+    `SELECT w.id, m.role, (SELECT count(*)::int FROM audit_events a WHERE a.workspace_id = w.id AND a.action = 'workspace.created') AS audited
+       FROM workspaces w LEFT JOIN memberships m ON m.workspace_id = w.id WHERE w.slug = $1`,
+    { bind: [slug], type: QueryTypes.SELECT },
+  );
+  return rows[0] ?? null;
+}
+
 export const PUBLIC_ROWS: PublicRow[] = [
   {
     kind: "public",
@@ -409,6 +424,95 @@ export const PUBLIC_ROWS: PublicRow[] = [
           handler(new Request(`${BASE}/api/digests/unsubscribe`, { method: "POST", headers: { "content-type": "application/json" }, body: '{"token":' }), {
             params: Promise.resolve({}),
           }),
+      },
+    ],
+  },
+  {
+    kind: "public",
+    route: "app/api/workspaces/route.ts",
+    method: "POST",
+    rule: "any signed-in user creates a workspace and becomes its first manager (DESIGN §Tenancy); signed out 401",
+    readsBodyItself: "there is no workspace yet for memberRoute to check membership of; the body is parsed with createWorkspaceSchema (lib/workspaces/schemas.ts)",
+    cases: [
+      {
+        name: "a signed-out visitor gets 401 and no workspace",
+        status: 401,
+        run: async ({ handler }) => {
+          const slug = freshSlug();
+          const response = await createWs(handler, { name: "Nobody's", slug });
+          expect(await workspaceBySlug(slug)).toBeNull();
+          return response;
+        },
+      },
+      {
+        name: "malformed JSON gets 400",
+        status: 400,
+        run: ({ handler, world, signInAs }) => {
+          signInAs(world.outsider);
+          return handler(workspacePost("{name:"), { params: Promise.resolve({}) });
+        },
+        check: async (response) => expect(await response.json()).toMatchObject({ error: "The request body is not valid JSON.", field: null }),
+      },
+      {
+        name: "an address with capitals and spaces gets 400 naming the field slug, and no workspace",
+        status: 400,
+        invalidBody: true,
+        run: ({ handler, world, signInAs }) => {
+          signInAs(world.outsider);
+          return createWs(handler, { name: "Bad address", slug: "Not A Slug" });
+        },
+        check: async (response) => expect(await response.json()).toMatchObject({ field: "slug" }),
+      },
+      {
+        name: "a reserved address gets 400 naming the field slug",
+        status: 400,
+        run: ({ handler, world, signInAs }) => {
+          signInAs(world.outsider);
+          return createWs(handler, { name: "Reserved", slug: "workspaces" });
+        },
+        check: async (response) => expect(await response.json()).toMatchObject({ field: "slug" }),
+      },
+      {
+        name: "a name with a control character gets 400 naming the field name, and no workspace",
+        status: 400,
+        run: async ({ handler, world, signInAs }) => {
+          signInAs(world.outsider);
+          const slug = freshSlug();
+          const response = await createWs(handler, { name: "Bell\u0007 office", slug });
+          expect(await workspaceBySlug(slug)).toBeNull();
+          return response;
+        },
+        check: async (response) => expect(await response.json()).toMatchObject({ field: "name" }),
+      },
+      {
+        name: "a taken address gets 409 with a message; the existing workspace keeps its name and gains no member",
+        status: 409,
+        run: async ({ handler, world, signInAs }) => {
+          signInAs(world.outsider);
+          const response = await createWs(handler, { name: "Squatter", slug: world.workspace.slug });
+          const rows = await db().query<{ name: string }>("SELECT name FROM workspaces WHERE slug = $1", { bind: [world.workspace.slug], type: QueryTypes.SELECT });
+          expect(rows[0]?.name).toBe(world.workspace.name);
+          expect(await roleOf(world, world.outsider.email)).toBeNull();
+          return response;
+        },
+        check: async (response) => expect(((await response.json()) as { error: string }).error).toMatch(/already taken/),
+      },
+      {
+        name: "a signed-in user gets 201 with the slug and name, and is its only member, a manager; the creation is audited",
+        status: 201,
+        run: async ({ handler, world, signInAs }) => {
+          signInAs(world.outsider);
+          const slug = freshSlug();
+          const response = await createWs(handler, { name: "  New Regional Office  ", slug });
+          expect(await response.clone().json()).toEqual({ slug, name: "New Regional Office" });
+          expect(await workspaceBySlug(slug)).toMatchObject({ role: "manager", audited: 1 });
+          const members = await db().query<{ user_id: number }>("SELECT m.user_id FROM memberships m JOIN workspaces w ON w.id = m.workspace_id WHERE w.slug = $1", {
+            bind: [slug],
+            type: QueryTypes.SELECT,
+          });
+          expect(members.map((m) => m.user_id)).toEqual([world.outsider.id]);
+          return response;
+        },
       },
     ],
   },
