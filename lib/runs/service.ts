@@ -7,11 +7,13 @@ import { audit } from "@/lib/auth/audit";
 import { ConflictError, NotFoundError } from "@/lib/auth/errors";
 import { getBoss } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";
-import { panelDimensions } from "@/lib/intake/queries";
+import { loadBoundaryTopology, panelDimensions } from "@/lib/intake/queries";
+import { weightsFromTopology } from "@/lib/spatial";
 import { db } from "@/lib/db";
 import { QueryTypes, type Transaction } from "sequelize";
 import { freshSeed, RUN_METHOD, resolvedRunParamsSchema, type ResolvedRunParams, type RunParamsChoice } from "./schemas";
-import { cancelRun as cancelRunRow, insertRun, setPieceJobIds } from "./store";
+import { cancelRun as cancelRunRow, failRunAtStart, insertRun, setPieceJobIds } from "./store";
+import { weightsProblem } from "./weights-check";
 
 /** A request that is well-formed but names something the panel version does not have (HTTP 422). */
 export class RunInputError extends Error {
@@ -32,12 +34,16 @@ interface PanelVersionRow {
   boundary_version_id: number;
   panel_name: string;
   boundary_state: string;
+  boundary_set_name: string;
+  boundary_version: number;
 }
 
 async function panelVersionOf(workspaceId: number, panelVersionId: number): Promise<PanelVersionRow> {
   const rows = await db().query<PanelVersionRow>(
-    `SELECT pv.id, pv.state, pv.version, pv.boundary_version_id, p.name AS panel_name, bv.state AS boundary_state
+    `SELECT pv.id, pv.state, pv.version, pv.boundary_version_id, p.name AS panel_name, bv.state AS boundary_state,
+            bs.name AS boundary_set_name, bv.version AS boundary_version
        FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id JOIN boundary_versions bv ON bv.id = pv.boundary_version_id
+       JOIN boundary_sets bs ON bs.id = bv.boundary_set_id
       WHERE pv.id = $1 AND p.workspace_id = $2`,
     { bind: [panelVersionId, workspaceId], type: QueryTypes.SELECT },
   );
@@ -104,6 +110,23 @@ export async function resolveRunParams(workspaceId: number, panelVersionId: numb
   });
 }
 
+/**
+ * Refuses (422, field "weights") a weights rule that cannot serve the panel's
+ * boundary version, before the run is stored: the same weights the worker
+ * would build (lib/runs/worker `geometryFor`), checked by lib/runs/weights-check.
+ */
+async function requireBuildableWeights(version: PanelVersionRow, params: ResolvedRunParams): Promise<void> {
+  const boundary = await loadBoundaryTopology(params.boundaryVersionId);
+  const problem = weightsProblem({
+    rule: params.weights,
+    islandPolicy: params.islandPolicy,
+    regionCount: boundary.regionCodes.length,
+    boundary: `boundaries "${version.boundary_set_name}" v${version.boundary_version}`,
+    build: () => weightsFromTopology(boundary.topology, params.weights, { object: boundary.objectName, idProperty: boundary.idProperty }),
+  });
+  if (problem) throw new RunInputError(problem, "weights");
+}
+
 function dedupe(values: readonly string[]): string[] {
   return [...new Set(values)];
 }
@@ -159,13 +182,22 @@ async function createRun(
   origin: "user" | "rerun" | "demo" | "benchmark",
   rerunOf: number | null,
 ): Promise<StartedRun> {
+  await requireBuildableWeights(version, params);
   const runId = await db().transaction(async (transaction) => {
     const id = await insertRun({ workspaceId: actor.workspaceId, params, createdBy: actor.userId, origin, rerunOf, transaction });
     const detail = { runId: id, ...paramsSummary(params), origin, ...(rerunOf === null ? {} : { rerunOf }) };
     await auditRun(actor, rerunOf === null ? "run.started" : "run.rerun", runTarget(id, version), detail, transaction);
     return id;
   });
-  await enqueuePieces(runId, params.indicators);
+  try {
+    await enqueuePieces(runId, params.indicators);
+  } catch (error) {
+    // Pieces that were never queued would wait under a queued run for ever: the
+    // run fails and its pieces are cancelled (a job queued before the failure
+    // finds them cancelled and stores nothing, lib/runs/store startPiece).
+    await failRunAtStart(runId, `Its pieces could not be queued: ${error instanceof Error ? error.message : String(error)}`).catch(() => undefined);
+    throw error;
+  }
   return { runId, params };
 }
 

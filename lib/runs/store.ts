@@ -372,11 +372,39 @@ export async function failPiece(runId: number, indicator: string, attempt: numbe
       { bind: [runId, indicator, attempt, finalAttempt ? "failed" : "queued", message], type: QueryTypes.SELECT, transaction },
     );
     if (finalAttempt && updated.length > 0) {
-      await db().query(
-        `UPDATE runs SET state = 'failed', error = $2, finished_at = now(), updated_at = now() WHERE id = $1 AND state IN ('queued','running')`,
-        { bind: [runId, `Indicator "${indicator}": ${message}`], transaction },
+      const failed = await db().query<{ id: number }>(
+        `UPDATE runs SET state = 'failed', error = $2, finished_at = now(), updated_at = now() WHERE id = $1 AND state IN ('queued','running') RETURNING id`,
+        { bind: [runId, `Indicator "${indicator}": ${message}`], type: QueryTypes.SELECT, transaction },
       );
+      if (failed.length > 0) await closeOpenPieces(runId, `Not computed: the run failed on indicator "${indicator}".`, transaction);
     }
+  });
+}
+
+/**
+ * Cancels the pieces of a run that is over (failed or cancelled) that are
+ * still queued or running, in the caller's transaction, so no piece stays
+ * "queued" under a run that will never complete. A worker still computing one
+ * finds it cancelled and stores nothing (completePiece, recordPieceProgress).
+ * Returns their job ids.
+ */
+async function closeOpenPieces(runId: number, note: string | null, transaction: Transaction): Promise<string[]> {
+  const pieces = await db().query<{ job_id: string | null }>(
+    `UPDATE run_pieces SET state = 'cancelled', error = COALESCE($2, error), finished_at = now(), updated_at = now()
+      WHERE run_id = $1 AND state IN ('queued','running') RETURNING job_id`,
+    { bind: [runId, note], type: QueryTypes.SELECT, transaction },
+  );
+  return pieces.map((p) => p.job_id).filter((id): id is string => id !== null);
+}
+
+/** Fails a run that could not be started (its pieces could not be queued) and cancels its pieces, in one transaction. */
+export async function failRunAtStart(runId: number, message: string): Promise<void> {
+  await db().transaction(async (transaction) => {
+    const failed = await db().query<{ id: number }>(
+      `UPDATE runs SET state = 'failed', error = $2, finished_at = now(), updated_at = now() WHERE id = $1 AND state IN ('queued','running') RETURNING id`,
+      { bind: [runId, message], type: QueryTypes.SELECT, transaction },
+    );
+    if (failed.length > 0) await closeOpenPieces(runId, "Not computed: the run could not be started.", transaction);
   });
 }
 
@@ -389,11 +417,7 @@ export async function cancelRun(runId: number, userId: number | null, outer?: Tr
       { bind: [runId, userId], type: QueryTypes.SELECT, transaction },
     );
     if (updated.length === 0) return { cancelled: false, jobIds: [] };
-    const pieces = await db().query<{ job_id: string | null }>(
-      `UPDATE run_pieces SET state = 'cancelled', updated_at = now() WHERE run_id = $1 AND state IN ('queued','running') RETURNING job_id`,
-      { bind: [runId], type: QueryTypes.SELECT, transaction },
-    );
-    return { cancelled: true, jobIds: pieces.map((p) => p.job_id).filter((id): id is string => id !== null) };
+    return { cancelled: true, jobIds: await closeOpenPieces(runId, null, transaction) };
   };
   return outer ? write(outer) : db().transaction(write);
 }
