@@ -1,5 +1,6 @@
 import { QueryTypes } from "sequelize";
 import { db } from "@/lib/db";
+import { indicatorVisibleSql, type IndicatorVisibility } from "@/lib/intake/queries";
 import type { SignificanceClass } from "@/lib/runs/types";
 import type { DigestCadence, DigestDeliveryStatus, DigestEmptyPolicy, DigestScope, DigestThreshold } from "@/models/digest-types";
 import { LOCAL_CLUSTER_CLASSES, type DigestResultRow } from "./compose";
@@ -246,11 +247,14 @@ export async function indicatorLabels(workspaceId: number): Promise<Map<string, 
   return new Map(rows.map((r) => [r.code, r.label]));
 }
 
-/** Indicators a subscriber can pick: those with an indicator record or analysed by a completed run. */
-export async function pickableIndicators(workspaceId: number): Promise<{ code: string; label: string }[]> {
+/**
+ * Indicators a subscriber can pick: those with an indicator record the reader
+ * may see (lib/intake/queries `indicatorVisibleSql`) or analysed by a completed run.
+ */
+export async function pickableIndicators(workspaceId: number, visibility: IndicatorVisibility): Promise<{ code: string; label: string }[]> {
   const rows = await db().query<{ code: string; label: string | null }>(
     `SELECT code, max(label) AS label FROM (
-        SELECT code, label FROM indicators WHERE workspace_id = $1
+        SELECT i.code, i.label FROM indicators i WHERE i.workspace_id = $1 AND ${indicatorVisibleSql("i", visibility)}
         UNION ALL
         SELECT DISTINCT rp.indicator_code, NULL FROM run_pieces rp JOIN runs r ON r.id = rp.run_id WHERE r.workspace_id = $1 AND r.state = 'completed'
       ) x GROUP BY code ORDER BY code`,

@@ -16,6 +16,7 @@ import { getObjectBytes } from "@/lib/storage/s3";
 import { parsePeriod, sortPeriods, type Period } from "./periods";
 import { intakePool } from "./ingest-db";
 import type { VersionState } from "@/models/intake-types";
+import { can, type Role } from "@/lib/auth/roles";
 
 export interface PeriodRef {
   key: string;
@@ -431,10 +432,39 @@ export interface IndicatorMeta {
   higherIsBetter: boolean | null;
 }
 
-/** Indicator metadata of a workspace by code. */
-export async function indicatorMetadata(workspaceId: number): Promise<IndicatorMeta[]> {
+/**
+ * Which indicator records a reader may see listed. An indicator record is
+ * written when a panel version is ingested, before anyone validates or
+ * publishes it, so its code, label and description can describe embargoed
+ * data. "published" keeps only indicators that have observations in a
+ * published panel version or that a run analysed (runs start only on published
+ * versions); "all" is for roles holding `data.view-unpublished` (DESIGN §Roles).
+ */
+export type IndicatorVisibility = "all" | "published";
+
+export function indicatorVisibilityFor(role: Role): IndicatorVisibility {
+  return can(role, "data.view-unpublished") ? "all" : "published";
+}
+
+/**
+ * SQL condition: the indicator row aliased `alias` may be listed under
+ * `visibility`. Both probes are index lookups (the observations' primary key
+ * starts with panel_version_id, indicator_code).
+ */
+export function indicatorVisibleSql(alias: string, visibility: IndicatorVisibility): string {
+  if (visibility === "all") return "TRUE";
+  return `(EXISTS (SELECT 1 FROM panel_versions vis_pv JOIN panels vis_p ON vis_p.id = vis_pv.panel_id
+                    WHERE vis_p.workspace_id = ${alias}.workspace_id AND vis_pv.state = 'published'
+                      AND EXISTS (SELECT 1 FROM observations vis_o WHERE vis_o.panel_version_id = vis_pv.id AND vis_o.indicator_code = ${alias}.code))
+        OR EXISTS (SELECT 1 FROM runs vis_r JOIN run_pieces vis_rp ON vis_rp.run_id = vis_r.id
+                    WHERE vis_r.workspace_id = ${alias}.workspace_id AND vis_rp.indicator_code = ${alias}.code))`;
+}
+
+/** Indicator metadata of a workspace by code, limited to what `visibility` allows. */
+export async function indicatorMetadata(workspaceId: number, visibility: IndicatorVisibility): Promise<IndicatorMeta[]> {
   const rows = await db().query<{ code: string; label: string; unit: string | null; description: string | null; source: string | null; higher_is_better: boolean | null }>(
-    "SELECT code, label, unit, description, source, higher_is_better FROM indicators WHERE workspace_id = :workspaceId ORDER BY code",
+    `SELECT i.code, i.label, i.unit, i.description, i.source, i.higher_is_better FROM indicators i
+      WHERE i.workspace_id = :workspaceId AND ${indicatorVisibleSql("i", visibility)} ORDER BY i.code`,
     { replacements: { workspaceId }, type: QueryTypes.SELECT },
   );
   return rows.map((r) => ({ code: r.code, label: r.label, unit: r.unit, description: r.description, source: r.source, higherIsBetter: r.higher_is_better }));
@@ -596,7 +626,7 @@ export async function intakeOverview(workspaceId: number, includeUnpublished: bo
     panels: panels
       .map((p) => ({ id: p.id, name: p.name, boundarySetId: p.boundary_set_id, boundarySetName: p.boundary_set_name, versions: panelVersions.get(p.id) ?? [] }))
       .filter((p) => includeUnpublished || p.versions.length > 0),
-    indicators: await indicatorMetadata(workspaceId),
+    indicators: await indicatorMetadata(workspaceId, includeUnpublished ? "all" : "published"),
   };
 }
 

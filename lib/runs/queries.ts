@@ -128,7 +128,8 @@ export interface RunOption {
 
 export async function runOptions(workspaceId: number): Promise<RunOption[]> {
   const versions = await publishedPanelVersions(workspaceId);
-  const meta = await indicatorMetadata(workspaceId);
+  // Every indicator of a published version is visible to every role.
+  const meta = await indicatorMetadata(workspaceId, "published");
   const labels = new Map(meta.map((m) => [m.code, m.label]));
   const out: RunOption[] = [];
   for (const v of versions) {
@@ -310,7 +311,9 @@ export async function resolveRunForIndicator(workspaceId: number, indicator: str
 }
 
 export async function indicatorOf(workspaceId: number, code: string): Promise<IndicatorMeta> {
-  const all = await indicatorMetadata(workspaceId);
+  // Any code can be asked for with any run id; a code a run analysed is always
+  // "published", so this never hides metadata a result needs.
+  const all = await indicatorMetadata(workspaceId, "published");
   return all.find((m) => m.code === code) ?? { code, label: code, unit: null, description: null, source: null, higherIsBetter: null };
 }
 
@@ -450,7 +453,7 @@ export async function deskSummary(workspaceId: number): Promise<DeskSummary> {
   if (!completed[0]) return { runs, latest: null, previous: null, movements: [], classChanges: [], counts: null };
   const latestId = completed[0].id;
   const latest = await getRun(workspaceId, latestId);
-  const labels = new Map((await indicatorMetadata(workspaceId)).map((m) => [m.code, m.label]));
+  const labels = new Map((await indicatorMetadata(workspaceId, "published")).map((m) => [m.code, m.label]));
   const moved = await db().query<{ indicator_code: string; period_key: string; prev: string | null; i: number; delta_i: number; significance: SignificanceClass | null }>(
     `SELECT rr.indicator_code, rr.period_key, prev.period_key AS prev, rr.i, rr.delta_i, rr.significance
        FROM run_results rr

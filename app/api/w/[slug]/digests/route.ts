@@ -1,6 +1,7 @@
 import { memberRoute } from "@/lib/auth/route";
 import { deliveryHistory, getOwnSubscription, pickableIndicators } from "@/lib/digests/queries";
 import { subscriptionInputSchema } from "@/lib/digests/schemas";
+import { indicatorVisibilityFor } from "@/lib/intake/queries";
 import { saveSubscription } from "@/lib/digests/service";
 
 /** The signed-in member's own subscription, the indicators they can pick, and their delivery history. */
@@ -8,7 +9,7 @@ export const GET = memberRoute({ capability: "digests.subscribe" }, async ({ mem
   const subscription = await getOwnSubscription(member.workspace.id, member.user.id);
   return Response.json({
     subscription,
-    indicators: await pickableIndicators(member.workspace.id),
+    indicators: await pickableIndicators(member.workspace.id, indicatorVisibilityFor(member.role)),
     deliveries: subscription ? await deliveryHistory(subscription.id) : [],
     canSeeSubscribers: member.role === "manager",
   });

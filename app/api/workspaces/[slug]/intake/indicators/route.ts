@@ -1,4 +1,4 @@
 import { memberRoute } from "@/lib/auth/route";
-import { indicatorMetadata } from "@/lib/intake/queries";
+import { indicatorMetadata, indicatorVisibilityFor } from "@/lib/intake/queries";
 
-export const GET = memberRoute({ capability: "results.view" }, async ({ member }) => Response.json({ indicators: await indicatorMetadata(member.workspace.id) }));
+export const GET = memberRoute({ capability: "results.view" }, async ({ member }) => Response.json({ indicators: await indicatorMetadata(member.workspace.id, indicatorVisibilityFor(member.role)) }));
