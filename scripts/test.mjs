@@ -75,6 +75,8 @@ function testEnvironment() {
     S3_FORCE_PATH_STYLE: "true",
     SMTP_PORT: String(ports.SMTP.port),
     SMTP_HOST: HOST,
+    // The test stack always starts its own sink on SMTP_PORT (so the Outbox page is on).
+    SMTP_SINK_PORT: String(ports.SMTP.port),
     MAIL_FROM: "Tessera test <no-reply@tessera.invalid>",
     TESSERA_OUTBOX: "1",
     TESSERA_TEST: "1",

@@ -1,3 +1,5 @@
+import { QueryTypes } from "sequelize";
+import { db } from "@/lib/db";
 import { sendMail } from "@/lib/mail/send";
 import type { InvitationEmailPayload } from "./invitation-mail-schema";
 
@@ -57,7 +59,15 @@ export function renderInvitationEmail(p: InvitationEmailPayload): { subject: str
   return { subject, text, html };
 }
 
+/** The workspace an invitation belongs to, read from its row rather than trusted from the job payload. */
+async function invitationWorkspaceId(invitationId: number): Promise<number> {
+  const rows = await db().query<{ workspace_id: number }>("SELECT workspace_id FROM invitations WHERE id = $1", { bind: [invitationId], type: QueryTypes.SELECT });
+  if (!rows[0]) throw new Error(`invitation ${invitationId} no longer exists; its e-mail is not sent`);
+  return Number(rows[0].workspace_id);
+}
+
 export async function sendInvitationEmail(payload: InvitationEmailPayload, jobId: string): Promise<string> {
   const mail = renderInvitationEmail(payload);
-  return sendMail({ to: payload.to, ...mail, headers: { "X-Tessera-Job": jobId, "X-Tessera-Kind": "invitation" } });
+  const workspaceId = await invitationWorkspaceId(payload.invitationId);
+  return sendMail({ to: payload.to, ...mail, headers: { "X-Tessera-Job": jobId, "X-Tessera-Kind": "invitation" }, workspaceId });
 }

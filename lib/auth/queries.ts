@@ -2,6 +2,7 @@ import { countMembers, listAudit, listMembers, listPendingInvitations, workspace
 import { requireMember, requireUser } from "./guard";
 import { can, type Capability, type Role } from "./roles";
 import { env } from "@/lib/config/env";
+import { outboxEnabled } from "@/lib/mail/outbox-gate";
 
 // Reads for server components. Each calls the guard first and returns plain objects.
 
@@ -17,7 +18,7 @@ const SCREENS: { key: string; label: string; capability: Capability; devOnly?: b
   { key: "outbox", label: "Outbox", capability: "team.manage", devOnly: true },
 ];
 
-/** The screens a role may open, in nav order. Outbox only while TESSERA_OUTBOX=1. */
+/** The screens a role may open, in nav order. Outbox only while mail goes to the local sink (lib/mail/outbox-gate.ts). */
 export function navFor(slug: string, role: Role, outboxEnabled: boolean): NavItem[] {
   return SCREENS.filter((s) => can(role, s.capability) && (!s.devOnly || outboxEnabled)).map((s) => ({
     key: s.key,
@@ -34,7 +35,7 @@ export async function getShell(slug: string) {
     role: member.role,
     workspace: member.workspace,
     workspaces,
-    nav: navFor(member.workspace.slug, member.role, env().TESSERA_OUTBOX),
+    nav: navFor(member.workspace.slug, member.role, outboxEnabled(env())),
   };
 }
 

@@ -18,6 +18,8 @@ const schema = z.object({
   SMTP_PORT: z.coerce.number().int().positive().default(2525),
   MAIL_FROM: z.string().default("Tessera <no-reply@tessera.invalid>"),
   TESSERA_OUTBOX: z.enum(["0", "1"]).default("1").transform((v) => v === "1"),
+  // The port the project's scripts started the local SMTP sink on (scripts/services/stack.mjs sets it; unset when none runs).
+  SMTP_SINK_PORT: z.preprocess((v) => (typeof v === "string" && v.trim() === "" ? undefined : v), z.coerce.number().int().positive().max(65535).optional()),
   // Hours after which a pending upload (ticket issued, never completed) is swept (lib/intake/abandoned-uploads.ts).
   UPLOAD_ABANDON_HOURS: z.preprocess(
     (v) => (typeof v === "string" && v.trim() === "" ? undefined : v),

@@ -41,6 +41,8 @@ export interface OutgoingMail {
   /** The same on every attempt at one digest (digestMessageId). */
   messageId: string;
   headers: Record<string, string>;
+  /** The subscription's workspace (the local sink files the mail under it). */
+  workspaceId: number;
 }
 /** Sends one mail and returns its Message-ID (default: lib/mail/send over SMTP). */
 export type MailSender = (mail: OutgoingMail) => Promise<string>;
@@ -223,6 +225,7 @@ export async function deliverDigest(payload: DigestSendPayload, options: { send?
         text: built.rendered.text,
         html: built.rendered.html,
         messageId: digestMessageId(payload.idempotencyKey),
+        workspaceId: built.workspace.id,
         headers: {
           "List-Unsubscribe": `<${built.unsubscribeUrl}>`,
           "List-Unsubscribe-Post": "List-Unsubscribe=One-Click",

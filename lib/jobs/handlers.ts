@@ -19,7 +19,7 @@ export type JobHandler<Q extends QueueName> = (payload: JobPayload<Q>, context: 
  */
 export const handlers: { [Q in QueueName]: JobHandler<Q> } = {
   "mail-test": async (payload, context) => {
-    const messageId = await sendMail({ to: payload.to, subject: payload.subject, text: payload.text, headers: { "X-Tessera-Job": context.id } });
+    const messageId = await sendMail({ to: payload.to, subject: payload.subject, text: payload.text, headers: { "X-Tessera-Job": context.id }, workspaceId: null });
     context.log(`sent ${messageId} to ${payload.to}`);
   },
   "invitation-email": async (payload, context) => {

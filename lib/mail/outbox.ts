@@ -49,29 +49,36 @@ const listOptions = z.object({
   offset: z.coerce.number().int().min(0).default(0),
 });
 
-/** Newest first. */
-export async function listCapturedMail(options: z.input<typeof listOptions> = {}): Promise<CapturedMailSummary[]> {
+const workspaceIdSchema = z.number().int().positive();
+
+/**
+ * Mail sent on behalf of `workspaceId`, newest first. Mail of another
+ * workspace, or of none (the worker's self-check, mail captured before
+ * workspaces were recorded), is never listed.
+ */
+export async function listCapturedMail(workspaceId: number, options: z.input<typeof listOptions> = {}): Promise<CapturedMailSummary[]> {
   const { limit, offset } = listOptions.parse(options);
   const rows = await db().query<Omit<Row, "text" | "html" | "headers">>(
     `SELECT id, message_id, "from", "to", subject, received_at FROM outbox_messages
+     WHERE workspace_id = :workspaceId
      ORDER BY received_at DESC, id DESC LIMIT :limit OFFSET :offset`,
-    { type: QueryTypes.SELECT, replacements: { limit, offset } },
+    { type: QueryTypes.SELECT, replacements: { workspaceId: workspaceIdSchema.parse(workspaceId), limit, offset } },
   );
   return rows.map((r) => ({ id: Number(r.id), messageId: r.message_id, from: r.from, to: r.to ?? [], subject: r.subject, receivedAt: new Date(r.received_at) }));
 }
 
-/** One message with bodies and headers, or null when there is no such id. */
-export async function getCapturedMail(id: number | string): Promise<CapturedMail | null> {
-  const parsed = z.coerce.number().int().positive().safeParse(id);
+/** One message of `workspaceId` with bodies and headers, or null when there is no such id in that workspace. */
+export async function getCapturedMail(workspaceId: number, id: number | string): Promise<CapturedMail | null> {
+  const parsed = z.coerce.number().int().positive().max(2_147_483_647).safeParse(id);
   if (!parsed.success) return null;
   const rows = await db().query<Row>(
-    `SELECT id, message_id, "from", "to", subject, text, html, headers, received_at FROM outbox_messages WHERE id = :id`,
-    { type: QueryTypes.SELECT, replacements: { id: parsed.data } },
+    `SELECT id, message_id, "from", "to", subject, text, html, headers, received_at FROM outbox_messages WHERE id = :id AND workspace_id = :workspaceId`,
+    { type: QueryTypes.SELECT, replacements: { id: parsed.data, workspaceId: workspaceIdSchema.parse(workspaceId) } },
   );
   return rows[0] ? toMail(rows[0]) : null;
 }
 
-/** The most recent message addressed (To, Cc or Bcc) to `address`, optionally only those received after `since`. */
+/** For tests and scripts, across all workspaces: the most recent message addressed (To, Cc or Bcc) to `address`, optionally only those received after `since`. */
 export async function latestMailTo(address: string, options: { since?: Date; subjectContains?: string } = {}): Promise<CapturedMail | null> {
   const email = z.string().email().parse(address.trim()).toLowerCase();
   const rows = await db().query<Row>(

@@ -14,6 +14,12 @@ export const sendMailSchema = z
     text: z.string().max(1_000_000).optional(),
     html: z.string().max(2_000_000).optional(),
     headers: z.record(z.string(), z.string()).optional(),
+    /**
+     * The workspace the mail is sent on behalf of, or null for mail of no
+     * workspace (the worker's self-check). Required, so no new kind of mail can
+     * forget it: the Outbox page of a workspace shows only mail naming it.
+     */
+    workspaceId: z.number().int().positive().max(2_147_483_647).nullable(),
     /** A Message-ID chosen by the caller ("<local@domain>"), so a resend of the same mail carries the same one; default: nodemailer makes one. */
     messageId: z
       .string()
@@ -23,6 +29,19 @@ export const sendMailSchema = z
   .refine((m) => m.text !== undefined || m.html !== undefined, { message: "a mail needs text or html", path: ["text"] });
 
 export type SendMailInput = z.input<typeof sendMailSchema>;
+
+/** Carries `workspaceId` to the local sink, which files the mail under that workspace (scripts/services/smtp-sink.mjs). */
+export const WORKSPACE_HEADER = "X-Tessera-Workspace";
+
+/**
+ * The caller's headers with ours set last: a caller-supplied copy of the
+ * workspace header (any case) is dropped, so the one a mail carries always
+ * comes from `workspaceId`.
+ */
+export function headersFor(headers: Record<string, string> | undefined, workspaceId: number | null): Record<string, string> {
+  const own = Object.fromEntries(Object.entries(headers ?? {}).filter(([name]) => name.toLowerCase() !== WORKSPACE_HEADER.toLowerCase()));
+  return workspaceId === null ? own : { ...own, [WORKSPACE_HEADER]: String(workspaceId) };
+}
 
 const globalForMail = globalThis as unknown as { tesseraMailer?: Transporter };
 
@@ -66,7 +85,9 @@ export async function sendMail(input: SendMailInput): Promise<string> {
       subject: mail.subject,
       text: mail.text,
       html: mail.html,
-      headers: mail.headers,
+      // Kept on real mail too: the captured copy is byte for byte what a relay gets, and the
+      // header names only the id of a workspace the recipient was written to on behalf of.
+      headers: headersFor(mail.headers, mail.workspaceId),
       messageId: mail.messageId,
     });
     return String(info.messageId);

@@ -40,6 +40,17 @@ function headersObject(headerLines) {
   return out;
 }
 
+// lib/mail/send.ts names the workspace a mail belongs to in this header; the
+// Outbox page of a workspace lists only its own mail. Anything but one plain
+// positive integer (absent, repeated, garbled) stores NULL: shown nowhere.
+const WORKSPACE_HEADER = "x-tessera-workspace";
+function workspaceIdOf(parsed) {
+  const value = parsed.headers.get(WORKSPACE_HEADER);
+  if (typeof value !== "string" || !/^[1-9][0-9]{0,9}$/.test(value.trim())) return null;
+  const id = Number(value.trim());
+  return id <= 2_147_483_647 ? id : null;
+}
+
 async function store(raw, session) {
   const parsed = await simpleParser(raw, { skipImageLinks: true, skipTextToHtml: true });
   const envelopeTo = (session.envelope.rcptTo ?? []).map((r) => r.address.toLowerCase());
@@ -47,8 +58,8 @@ async function store(raw, session) {
   const to = envelopeTo.length ? envelopeTo : [...addressList(parsed.to), ...addressList(parsed.cc)];
   const from = parsed.from?.text || session.envelope.mailFrom?.address || "";
   const { rows } = await pool.query(
-    `INSERT INTO outbox_messages (message_id, "from", "to", subject, text, html, headers, raw, received_at)
-     VALUES ($1, $2, $3, $4, $5, $6, $7, $8, now()) RETURNING id`,
+    `INSERT INTO outbox_messages (message_id, "from", "to", subject, text, html, headers, raw, workspace_id, received_at)
+     VALUES ($1, $2, $3, $4, $5, $6, $7, $8, (SELECT id FROM workspaces WHERE id = $9), now()) RETURNING id`,
     [
       parsed.messageId ?? null,
       from,
@@ -58,6 +69,7 @@ async function store(raw, session) {
       typeof parsed.html === "string" ? parsed.html : null,
       JSON.stringify(headersObject(parsed.headerLines)),
       raw.toString("utf8"),
+      workspaceIdOf(parsed),
     ],
   );
   return { id: rows[0].id, to, subject: parsed.subject ?? "" };

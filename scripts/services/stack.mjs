@@ -75,6 +75,9 @@ export async function startServices(stack) {
     log("services", `using the external S3 at ${env.S3_ENDPOINT} (S3_ENDPOINT); bucket ${env.S3_BUCKET} and its CORS rule must exist there`);
   }
   let smtp = null;
+  // The app shows its Outbox page only while SMTP_PORT is this port (lib/mail/outbox-gate.ts).
+  if (local.smtp) env.SMTP_SINK_PORT = String(ports.SMTP.port);
+  else delete env.SMTP_SINK_PORT;
   if (local.smtp) {
     smtp = supervisor.spawn("smtp-sink", process.execPath, [path.join(ROOT, "scripts/services/smtp-sink.mjs")], {
       env,

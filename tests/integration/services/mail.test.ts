@@ -3,6 +3,7 @@ import { sendMail } from "@/lib/mail/send";
 import { requireTestServices, uniqueAddress } from "@/tests/helpers/env";
 import { waitForMailTo } from "@/tests/helpers/mail";
 import { closeConnections } from "@/tests/helpers/teardown";
+import { makeWorkspace } from "@/tests/integration/auth/fixtures";
 
 beforeAll(async () => {
   await requireTestServices();
@@ -15,7 +16,9 @@ describe("mail through the SMTP sink into outbox_messages", () => {
     const to = uniqueAddress("mail");
     const cc = uniqueAddress("cc");
     const subject = `Unemployment clustering rose in 2014 (${Date.now()})`;
+    const { workspace } = await makeWorkspace({ manager: "manager" });
     const messageId = await sendMail({
+      workspaceId: workspace.id,
       to,
       cc,
       subject,
@@ -36,17 +39,18 @@ describe("mail through the SMTP sink into outbox_messages", () => {
 
     // The Cc recipient finds the same message; the list and the detail agree.
     expect((await latestMailTo(cc))?.id).toBe(mail.id);
-    const listed = await listCapturedMail({ limit: 20 });
+    const listed = await listCapturedMail(workspace.id, { limit: 20 });
     expect(listed.map((m) => m.id)).toContain(mail.id);
-    const detail = await getCapturedMail(mail.id);
+    const detail = await getCapturedMail(workspace.id, mail.id);
     expect(detail?.subject).toBe(subject);
-    expect(await getCapturedMail(999_999_999)).toBeNull();
-    expect(await getCapturedMail("not-a-number")).toBeNull();
+    expect(await getCapturedMail(workspace.id, 999_999_999)).toBeNull();
+    expect(await getCapturedMail(workspace.id, "not-a-number")).toBeNull();
   });
 
   test("sendMail refuses bad input with the field named", async () => {
-    await expect(sendMail({ to: "not-an-address", subject: "x", text: "y" })).rejects.toThrow(/invalid to/);
-    await expect(sendMail({ to: uniqueAddress(), subject: "", text: "y" })).rejects.toThrow(/subject/);
-    await expect(sendMail({ to: uniqueAddress(), subject: "no body" })).rejects.toThrow(/text or html/);
+    await expect(sendMail({ to: "not-an-address", subject: "x", text: "y", workspaceId: null })).rejects.toThrow(/invalid to/);
+    await expect(sendMail({ to: uniqueAddress(), subject: "", text: "y", workspaceId: null })).rejects.toThrow(/subject/);
+    await expect(sendMail({ to: uniqueAddress(), subject: "no body", workspaceId: null })).rejects.toThrow(/text or html/);
+    await expect(sendMail({ to: uniqueAddress(), subject: "no workspace", text: "y", workspaceId: 0 })).rejects.toThrow(/invalid workspaceId/);
   });
 });

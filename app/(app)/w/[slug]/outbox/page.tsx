@@ -6,6 +6,7 @@ import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
 import { env } from "@/lib/config/env";
 import { listCapturedMail } from "@/lib/mail/outbox";
+import { outboxEnabled } from "@/lib/mail/outbox-gate";
 
 export const metadata: Metadata = { title: "Outbox" };
 
@@ -13,17 +14,17 @@ const timeFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeS
 
 export default async function OutboxPage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
-  // Development only: with TESSERA_OUTBOX off the screen does not exist.
-  if (!env().TESSERA_OUTBOX) notFound();
+  // Local setup only: unless mail goes to the local sink, the screen does not exist.
+  if (!outboxEnabled(env())) notFound();
   const access = await guardPage(`/w/${slug}/outbox`, async () => {
-    await requireMember(slug, "team.manage");
-    return listCapturedMail({ limit: 100 });
+    const member = await requireMember(slug, "team.manage");
+    return listCapturedMail(member.workspace.id, { limit: 100 });
   });
   const mails = access;
   return (
     <div>
       <PageHeader title="Outbox" eyebrow="Development only">
-        Every e-mail Tessera sent, as captured by the local mail sink. Nothing here left this machine.
+        Every e-mail Tessera sent on behalf of this workspace, as captured by the local mail sink. Nothing here left this machine.
       </PageHeader>
       {mails.length === 0 ? (
         <p className="rounded-lg border border-dashed border-ink-200 p-6 text-sm text-ink-500">No mail has been sent yet.</p>

@@ -6,15 +6,17 @@ import { requireMember } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
 import { env } from "@/lib/config/env";
 import { getCapturedMail } from "@/lib/mail/outbox";
+import { outboxEnabled } from "@/lib/mail/outbox-gate";
 
 export const metadata: Metadata = { title: "Outbox message" };
 
 export default async function OutboxMessagePage({ params }: { params: Promise<{ slug: string; id: string }> }) {
   const { slug, id } = await params;
-  if (!env().TESSERA_OUTBOX) notFound();
+  if (!outboxEnabled(env())) notFound();
   const access = await guardPage(`/w/${slug}/outbox/${id}`, async () => {
-    await requireMember(slug, "team.manage");
-    return getCapturedMail(id);
+    const member = await requireMember(slug, "team.manage");
+    // Another workspace's mail is "no such message", exactly like an id that does not exist.
+    return getCapturedMail(member.workspace.id, id);
   });
   const mail = access;
   if (!mail) notFound();
