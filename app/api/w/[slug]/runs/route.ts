@@ -3,6 +3,7 @@ import { runsError } from "@/lib/runs/http";
 import { listRuns } from "@/lib/runs/queries";
 import { startRunSchema } from "@/lib/runs/schemas";
 import { startRun } from "@/lib/runs/service";
+import { limitAction } from "@/lib/security/rate-limits";
 
 export const dynamic = "force-dynamic";
 
@@ -11,6 +12,9 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member }
 });
 
 export const POST = memberRoute({ capability: "runs.manage", body: startRunSchema }, async ({ member, body }) => {
+  // Each completed run e-mails the members subscribed to after-run digests.
+  const limited = await limitAction("run-start", member.user.id);
+  if (limited) return limited;
   try {
     const { panelVersionId, ...choice } = body;
     const started = await startRun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, panelVersionId, choice });

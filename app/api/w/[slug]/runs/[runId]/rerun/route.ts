@@ -1,10 +1,14 @@
 import { jsonError, memberRoute } from "@/lib/auth/route";
 import { idParam, runsError } from "@/lib/runs/http";
 import { rerun } from "@/lib/runs/service";
+import { limitAction } from "@/lib/security/rate-limits";
 
 export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, params }) => {
   const runId = idParam(params.runId);
   if (runId === null) return jsonError(404, `There is no run ${String(params.runId)} in this workspace.`);
+  // Counted with starts: a rerun e-mails after-run subscribers as a new run does.
+  const limited = await limitAction("run-start", member.user.id);
+  if (limited) return limited;
   try {
     const started = await rerun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, runId });
     return Response.json({ runId: started.runId, rerunOf: runId }, { status: 201 });
