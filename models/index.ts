@@ -165,6 +165,8 @@ function initModels(): void {
     fileName: { type: DataTypes.STRING(255), allowNull: false },
     byteSize: { type: DataTypes.BIGINT, allowNull: false },
     sha256: { type: DataTypes.STRING(64), allowNull: false },
+    // The version's own copy (lib/intake/version-files.ts); null on rows made before copies existed.
+    fileKey: { type: DataTypes.STRING(512), allowNull: true },
   };
   const versionLifecycle = {
     report: { type: DataTypes.JSONB, allowNull: true },
@@ -189,6 +191,7 @@ function initModels(): void {
       idProperty: { type: DataTypes.STRING(200), allowNull: false },
       nameProperty: { type: DataTypes.STRING(200), allowNull: true },
       regionCount: { type: DataTypes.INTEGER, allowNull: true },
+      topologySha256: { type: DataTypes.STRING(64), allowNull: true },
       ...versionLifecycle,
     },
     { ...common, tableName: "boundary_versions", modelName: "BoundaryVersion" },

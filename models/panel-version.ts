@@ -7,10 +7,14 @@ export class PanelVersion extends Model<InferAttributes<PanelVersion>, InferCrea
   declare version: number;
   declare state: CreationOptional<VersionState>;
   declare uploadId: string | null;
+  /** The version's own copy (fileKey) for versions made since copies exist; the upload's key on older rows. */
   declare s3Key: string;
   declare fileName: string;
   declare byteSize: number | string;
+  /** SHA-256 of the source file as checked at upload; the version's own copy (fileKey) must still have it when read. */
   declare sha256: string;
+  /** The version's own copy of its source file, under a key no presigned URL was issued for; null on rows made before copies existed. */
+  declare fileKey: CreationOptional<string | null>;
   declare layout: PanelLayoutName;
   declare decimalSeparator: DecimalSeparatorName;
   /** A lib/intake ColumnMapping. */

@@ -1,7 +1,7 @@
 import type { z } from "zod";
 import { isDatabaseUnavailable } from "@/lib/db";
 import { UNAVAILABLE_MESSAGES } from "@/lib/service-unavailable";
-import { StorageUnavailableError } from "@/lib/storage/errors";
+import { StorageUnavailableError, StoredFileChecksumError } from "@/lib/storage/errors";
 import { AccessError, ConflictError, NotFoundError } from "./errors";
 import { requireMember, type MemberContext } from "./guard";
 import type { Capability } from "./roles";
@@ -43,6 +43,11 @@ export function errorResponse(error: unknown): Response {
   if (outage) {
     console.warn(`[tessera] service unavailable: ${error instanceof StorageUnavailableError ? error.detail : String(error)}`);
     return jsonError(503, outage, { retryable: true });
+  }
+  // A version's file that no longer has its recorded checksum: say which, so the steward can act; never its bytes.
+  if (error instanceof StoredFileChecksumError) {
+    console.error(`[tessera] ${error.message}`);
+    return jsonError(error.status, error.message);
   }
   console.error("[tessera] route handler failed", error);
   return jsonError(500, "Something went wrong on our side. Try again; if it keeps happening, tell your manager.");

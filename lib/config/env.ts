@@ -20,7 +20,7 @@ const schema = z.object({
   TESSERA_OUTBOX: z.enum(["0", "1"]).default("1").transform((v) => v === "1"),
   // The port the project's scripts started the local SMTP sink on (scripts/services/stack.mjs sets it; unset when none runs).
   SMTP_SINK_PORT: z.preprocess((v) => (typeof v === "string" && v.trim() === "" ? undefined : v), z.coerce.number().int().positive().max(65535).optional()),
-  // Hours after which a pending upload (ticket issued, never completed) is swept (lib/intake/abandoned-uploads.ts).
+  // Hours after which a pending, failed or unused upload is swept (lib/intake/abandoned-uploads.ts).
   UPLOAD_ABANDON_HOURS: z.preprocess(
     (v) => (typeof v === "string" && v.trim() === "" ? undefined : v),
     z.coerce
@@ -29,6 +29,16 @@ const schema = z.object({
       .min(1, "must be at least 1 hour")
       .max(8760, "must be at most 8760 hours (a year)")
       .default(24),
+  ),
+  // File storage one workspace may use, in MB: pending and received uploads plus each version's own copy (lib/intake/storage-quota.ts).
+  WORKSPACE_STORAGE_QUOTA_MB: z.preprocess(
+    (v) => (typeof v === "string" && v.trim() === "" ? undefined : v),
+    z.coerce
+      .number({ error: "must be a number of megabytes" })
+      .int("must be a whole number of megabytes")
+      .min(1, "must be at least 1 MB")
+      .max(1_048_576, "must be at most 1048576 MB (1 TB)")
+      .default(5120),
   ),
 });
 

@@ -1,9 +1,10 @@
 /**
- * The sweep of abandoned uploads (rule: abandoned-uploads.ts), run daily by
- * the `uploads-sweep` job. For each abandoned upload: lock its row, remove
- * its object from S3 if there is one, then delete the row, in that order and
- * in one transaction, so a row disappears only once its object is gone or
- * known to be absent. When the store fails, the row stays for the next sweep.
+ * The sweep of abandoned uploads — pending, failed, or received and never
+ * used (rule: abandoned-uploads.ts) — run daily by the `uploads-sweep` job.
+ * For each: lock its row, remove its object from S3 if there is one, then
+ * delete the row, in that order and in one transaction, so a row disappears
+ * only once its object is gone or known to be absent. When the store fails,
+ * the row stays for the next sweep.
  */
 import { QueryTypes, type Transaction } from "sequelize";
 import { env } from "@/lib/config/env";
@@ -16,8 +17,8 @@ import { abandonCutoff, emptySweepReport, isAbandoned, type UploadSweepReport } 
 /** Uploads looked at per sweep, oldest first; any beyond wait for the next sweep. */
 export const SWEEP_LIMIT = 1000;
 
-// The version tables copy the upload's key (s3_key) as their own file, so a
-// version naming either the upload or its object keeps both.
+// A version names its upload (upload_id); rows made before versions had their
+// own copies read the upload's object itself (s3_key), so either keeps it.
 const REFERENCED_SQL = `(
   EXISTS (SELECT 1 FROM boundary_versions v WHERE v.upload_id = u.id OR v.s3_key = u.s3_key)
   OR EXISTS (SELECT 1 FROM panel_versions v WHERE v.upload_id = u.id OR v.s3_key = u.s3_key)
@@ -44,13 +45,14 @@ async function storeCall<T>(call: () => Promise<T>): Promise<T> {
 /**
  * Removes one abandoned upload: its object (if any), then its row. The row is
  * locked and the rule's database-side conditions checked again first, so an
- * upload completed, or named by a new version, since it was read is kept.
+ * upload named by a new version since it was read is kept (a version being
+ * made holds its upload's row, which SKIP LOCKED passes over).
  */
 async function removeUpload(id: string, now: Date, cutoff: Date): Promise<"object removed" | "no object" | "in use"> {
   return db().transaction(async (transaction: Transaction) => {
     const [row] = await db().query<{ s3_key: string }>(
       `SELECT u.s3_key FROM uploads u
-        WHERE u.id = :id AND u.state = 'pending' AND u.created_at < :cutoff AND u.expires_at <= :now AND NOT ${REFERENCED_SQL}
+        WHERE u.id = :id AND u.created_at < :cutoff AND u.expires_at <= :now AND NOT ${REFERENCED_SQL}
         FOR UPDATE OF u SKIP LOCKED`,
       { replacements: { id, cutoff, now }, type: QueryTypes.SELECT, transaction },
     );
@@ -81,9 +83,11 @@ export async function sweepAbandonedUploads(options: SweepOptions = {}): Promise
   const hours = options.abandonAfterHours ?? env().UPLOAD_ABANDON_HOURS;
   const cutoff = abandonCutoff(now, hours);
   const log = options.log ?? ((line: string) => console.warn(line));
+  // Uploads a version names are left out here, not just kept below: they stay for good, and the oldest
+  // first window would otherwise fill with them and never reach newer unused ones.
   const candidates = await db().query<CandidateRow>(
     `SELECT u.id, u.s3_key, u.state, u.created_at, u.expires_at, ${REFERENCED_SQL} AS referenced
-       FROM uploads u WHERE u.state = 'pending' AND u.created_at < :cutoff ORDER BY u.created_at, u.id LIMIT :limit`,
+       FROM uploads u WHERE u.created_at < :cutoff AND NOT ${REFERENCED_SQL} ORDER BY u.created_at, u.id LIMIT :limit`,
     { replacements: { cutoff, limit: options.limit ?? SWEEP_LIMIT }, type: QueryTypes.SELECT },
   );
   const report = emptySweepReport();

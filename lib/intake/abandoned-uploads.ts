@@ -1,12 +1,15 @@
 /**
- * Which upload tickets are abandoned: pure rules, no database and no S3. The
- * sweep that acts on them (deletes the object, then the row) is
+ * Which uploads are abandoned: pure rules, no database and no S3. The sweep
+ * that acts on them (deletes the object, then the row) is
  * abandoned-uploads-sweep.ts; the queue `uploads-sweep` runs it daily.
  *
  * A ticket (POST …/intake/uploads) records a pending upload and signs a PUT
- * URL; only POST …/complete moves it to received. A browser that closes half
- * way, or a PUT that reached the store but was never completed, leaves a
- * pending row, and perhaps an object that nothing references.
+ * URL; only POST …/complete moves it to received (or failed). Three kinds of
+ * upload are left behind, each holding storage (and quota) for nothing: a
+ * browser that closed half way leaves a pending row, perhaps with an object;
+ * a failed check leaves a failed row; a received file that never became a
+ * version leaves a received row and its object. A version keeps its own copy
+ * of its file, but an upload a version names is still never swept.
  */
 import type { UploadState } from "@/models/intake-types";
 
@@ -16,12 +19,12 @@ export interface UploadForSweep {
   createdAt: Date;
   /** When its presigned PUT URL stops working. */
   expiresAt: Date;
-  /** A boundary or panel version names this upload (or its object): the object is that version's file. */
+  /** A boundary or panel version names this upload (or its object). */
   referencedByVersion: boolean;
 }
 
 /** Why an upload is left alone, or null when it is abandoned. */
-export type KeepReason = "not pending" | "referenced by a version" | "too recent" | "upload URL still valid";
+export type KeepReason = "referenced by a version" | "too recent" | "upload URL still valid";
 
 /** Uploads created before this instant may be abandoned. */
 export function abandonCutoff(now: Date, abandonAfterHours: number): Date {
@@ -30,15 +33,14 @@ export function abandonCutoff(now: Date, abandonAfterHours: number): Date {
 }
 
 /**
- * Why `upload` must be kept at `now`, or null when it is abandoned: still
- * pending, created more than `abandonAfterHours` ago, its PUT URL expired
- * (so no browser can still be sending it), and named by no version.
- * Received and failed uploads are never abandoned.
+ * Why `upload` must be kept at `now`, or null when it is abandoned: in any
+ * state (pending, failed, or received but never used), created more than
+ * `abandonAfterHours` ago, its PUT URL expired (so no browser can still be
+ * sending it), and named by no version.
  *
- * @example keepReason({ state: "pending", createdAt: twoDaysAgo, expiresAt: twoDaysAgo, referencedByVersion: false }, now, 24); // null
+ * @example keepReason({ state: "failed", createdAt: twoDaysAgo, expiresAt: twoDaysAgo, referencedByVersion: false }, now, 24); // null
  */
 export function keepReason(upload: UploadForSweep, now: Date, abandonAfterHours: number): KeepReason | null {
-  if (upload.state !== "pending") return "not pending";
   if (upload.referencedByVersion) return "referenced by a version";
   if (upload.createdAt.getTime() >= abandonCutoff(now, abandonAfterHours).getTime()) return "too recent";
   if (upload.expiresAt.getTime() > now.getTime()) return "upload URL still valid";
@@ -51,13 +53,13 @@ export function isAbandoned(upload: UploadForSweep, now: Date, abandonAfterHours
 
 /** What one sweep did. examined = deleted + keptInUse + keptStoreFailed. */
 export interface UploadSweepReport {
-  /** Pending uploads older than the cutoff that the sweep looked at. */
+  /** Uploads older than the cutoff, named by no version, that the sweep looked at (any state). */
   examined: number;
   /** Rows removed (each after its object was removed or found absent). */
   deleted: number;
   /** Objects removed from the store (the other deleted rows had none). */
   objectsRemoved: number;
-  /** Kept because a version names them, their URL is still valid, or they were completed while the sweep ran. */
+  /** Kept because a version came to name them while the sweep ran, or their URL is still valid. */
   keptInUse: number;
   /** Kept because the file store failed; the next sweep tries them again. */
   keptStoreFailed: number;
@@ -70,7 +72,7 @@ export function emptySweepReport(): UploadSweepReport {
 /** One log line for a sweep. */
 export function describeSweep(report: UploadSweepReport, abandonAfterHours: number): string {
   return (
-    `${report.examined} pending upload(s) older than ${abandonAfterHours} h: ${report.deleted} deleted (${report.objectsRemoved} stored file(s) removed), ` +
+    `${report.examined} pending, failed or unused upload(s) older than ${abandonAfterHours} h: ${report.deleted} deleted (${report.objectsRemoved} stored file(s) removed), ` +
     `${report.keptInUse} kept in use, ${report.keptStoreFailed} kept because the file store failed`
   );
 }

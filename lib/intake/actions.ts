@@ -9,7 +9,9 @@
  * Checksums: the browser computes SHA-256 with crypto.subtle before it uploads
  * and declares it; the server streams the stored object back from S3, hashes
  * it and compares. A mismatch or a short object marks the upload failed,
- * deletes the object, and records no version.
+ * deletes the object, and records no version. A version made from a received
+ * upload gets its own copy of the object (version-files.ts), verified against
+ * that checksum on every read.
  */
 import { createHash, randomUUID } from "node:crypto";
 import type { Readable } from "node:stream";
@@ -20,13 +22,16 @@ import { auditMember, versionTarget } from "@/lib/auth/audit";
 import { ConflictError, NotFoundError } from "@/lib/auth/errors";
 import type { MemberContext } from "@/lib/auth/guard";
 import { enqueue } from "@/lib/jobs/enqueue";
-import { deleteObject, getObjectBytes, getObjectStream, headObject, presignPut } from "@/lib/storage/s3";
+import { env } from "@/lib/config/env";
+import { copyObject, deleteObject, getObjectBytes, getObjectStream, headObject, presignPut } from "@/lib/storage/s3";
 import { models } from "@/models";
 import type { UploadKind } from "@/models/intake-types";
 import { inspectBoundaries, loadBoundaries, BoundaryError, type BoundarySummary } from "./boundaries";
 import { normaliseHeader } from "./mapping";
 import { readPanelHeader, type PanelPreview } from "./preview";
 import { columnMappingSchema, decimalSchema, type ColumnMapping } from "./schemas";
+import { StorageQuotaError, lockWorkspaceQuota, quotaRefusal, workspaceStorageUsed } from "./storage-quota";
+import { versionFileKey } from "./version-files";
 
 /** Largest file accepted, in bytes (checked before anything is read or signed). */
 export const MAX_UPLOAD_BYTES = 200 * 1024 * 1024;
@@ -48,6 +53,9 @@ export class IntakeInputError extends Error {
 /** Maps intake errors to responses; returns null for anything the generic handler should see. */
 export function intakeErrorResponse(error: unknown): Response | null {
   if (error instanceof IntakeInputError) return Response.json({ error: error.message, field: error.field }, { status: 400 });
+  if (error instanceof StorageQuotaError) {
+    return Response.json({ error: error.message, field: "size", usedBytes: error.usedBytes, quotaBytes: error.quotaBytes }, { status: error.status });
+  }
   if (error instanceof ConflictError || error instanceof NotFoundError) return Response.json({ error: error.message }, { status: error.status });
   return null;
 }
@@ -151,8 +159,12 @@ async function findDuplicate(workspaceId: number, kind: UploadKind, sha256: stri
   return r ? `This file was already uploaded as version ${r.version} of boundary set '${r.name}' (${r.state}).` : null;
 }
 
-/** Step 1: records a pending upload and signs a PUT URL for it. */
-export async function createUpload(member: MemberContext, input: CreateUploadInput): Promise<UploadTicket> {
+/**
+ * Step 1: records a pending upload and signs a PUT URL for it, unless the
+ * declared size would take the workspace over its storage quota
+ * (WORKSPACE_STORAGE_QUOTA_MB; `options.quotaMb` overrides it for tests).
+ */
+export async function createUpload(member: MemberContext, input: CreateUploadInput, options: { quotaMb?: number } = {}): Promise<UploadTicket> {
   if (!EXTENSIONS[input.kind].test(input.fileName)) {
     throw new IntakeInputError(
       input.kind === "panel"
@@ -168,19 +180,36 @@ export async function createUpload(member: MemberContext, input: CreateUploadInp
   const s3Key = `workspaces/${member.workspace.id}/uploads/${id}/${safeFileName(input.fileName)}`;
   const contentType = CONTENT_TYPES[input.kind];
   const expiresAt = new Date(Date.now() + UPLOAD_URL_SECONDS * 1000);
-  const url = await presignPut(s3Key, contentType, { expiresInSeconds: UPLOAD_URL_SECONDS, contentLength: input.size });
-  await Upload.create({
-    id,
-    workspaceId: member.workspace.id,
-    kind: input.kind,
-    s3Key,
-    fileName: input.fileName,
-    declaredSize: input.size,
-    contentType,
-    sha256: input.sha256,
-    error: null,
-    createdBy: member.user.id,
-    expiresAt,
+  const config = env();
+  const url = await db().transaction(async (transaction) => {
+    // Checked and recorded under one lock, so uploads started together cannot add up past the quota.
+    await lockWorkspaceQuota(member.workspace.id, transaction);
+    const refusal = quotaRefusal({
+      workspaceName: member.workspace.name,
+      usedBytes: await workspaceStorageUsed(member.workspace.id, transaction),
+      requestBytes: input.size,
+      quotaMb: options.quotaMb ?? config.WORKSPACE_STORAGE_QUOTA_MB,
+      abandonAfterHours: config.UPLOAD_ABANDON_HOURS,
+    });
+    if (refusal) throw refusal;
+    const signed = await presignPut(s3Key, contentType, { expiresInSeconds: UPLOAD_URL_SECONDS, contentLength: input.size });
+    await Upload.create(
+      {
+        id,
+        workspaceId: member.workspace.id,
+        kind: input.kind,
+        s3Key,
+        fileName: input.fileName,
+        declaredSize: input.size,
+        contentType,
+        sha256: input.sha256,
+        error: null,
+        createdBy: member.user.id,
+        expiresAt,
+      },
+      { transaction },
+    );
+    return signed;
   });
   return { uploadId: id, url, contentType, expiresAt: expiresAt.toISOString() };
 }
@@ -351,11 +380,47 @@ export interface CreatedVersion {
   jobId: string | null;
 }
 
+/**
+ * Inside a version's creating transaction: holds the upload (the sweep skips
+ * a locked row, and a row it already removed is reported here rather than as
+ * a foreign-key error).
+ */
+async function holdUpload(uploadId: string, transaction: import("sequelize").Transaction): Promise<void> {
+  const rows = await db().query<{ state: string }>("SELECT state FROM uploads WHERE id = :uploadId FOR KEY SHARE", {
+    replacements: { uploadId },
+    type: QueryTypes.SELECT,
+    transaction,
+  });
+  if (rows[0]?.state !== "received") {
+    throw new ConflictError(`This upload is no longer available (unused uploads are removed ${env().UPLOAD_ABANDON_HOURS} hours after they were started); upload the file again.`);
+  }
+}
+
+/**
+ * Gives a just-created version its own copy of the upload's object (S3
+ * CopyObject) under a key no presigned URL is issued for, and points the
+ * version at it. The copy is checked against the version's sha256 whenever it
+ * is read (version-files.ts), so bytes PUT to the upload's URL after its check
+ * either never reach the version or are refused when read.
+ */
+async function giveVersionItsOwnCopy(
+  row: { id: number; update(values: { s3Key: string; fileKey: string }, options: { transaction: import("sequelize").Transaction }): Promise<unknown> },
+  kind: UploadKind,
+  workspaceId: number,
+  upload: { s3Key: string; sha256: string },
+  transaction: import("sequelize").Transaction,
+): Promise<void> {
+  const fileKey = versionFileKey(workspaceId, kind, row.id, upload.sha256);
+  await copyObject(upload.s3Key, fileKey);
+  await row.update({ s3Key: fileKey, fileKey }, { transaction });
+}
+
 /** Records a boundary version (state uploaded) from a received upload and queues its validation. */
 export async function createBoundaryVersion(member: MemberContext, input: CreateBoundaryVersionInput, options: { enqueueJob?: boolean } = {}): Promise<CreatedVersion> {
   const upload = await receivedUpload(member, input.uploadId, "boundaries");
   const { BoundarySet, BoundaryVersion } = models();
   const created = await db().transaction(async (transaction) => {
+    await holdUpload(upload.id, transaction);
     let set;
     if (input.boundarySetId !== undefined) {
       set = await BoundarySet.findOne({ where: { id: input.boundarySetId, workspaceId: member.workspace.id }, transaction, lock: transaction.LOCK.UPDATE });
@@ -392,6 +457,7 @@ export async function createBoundaryVersion(member: MemberContext, input: Create
       },
       { transaction },
     );
+    await giveVersionItsOwnCopy(row, "boundaries", member.workspace.id, upload, transaction);
     await auditMember(
       member,
       {
@@ -413,6 +479,7 @@ export async function createPanelVersion(member: MemberContext, input: CreatePan
   const { Panel, PanelVersion, BoundarySet, BoundaryVersion, ColumnMappingMemory } = models();
   const header = input.remember ? (await readPanelHeader((await getObjectStream(upload.s3Key)) as Readable)).header : null;
   const created = await db().transaction(async (transaction) => {
+    await holdUpload(upload.id, transaction);
     let panel;
     if (input.panelId !== undefined) {
       panel = await Panel.findOne({ where: { id: input.panelId, workspaceId: member.workspace.id }, transaction, lock: transaction.LOCK.UPDATE });
@@ -472,6 +539,7 @@ export async function createPanelVersion(member: MemberContext, input: CreatePan
       },
       { transaction },
     );
+    await giveVersionItsOwnCopy(row, "panel", member.workspace.id, upload, transaction);
     if (header) {
       const signature = headerSignature(header);
       const [memory, createdMemory] = await ColumnMappingMemory.findOrCreate({

@@ -11,10 +11,12 @@
 import { createHash } from "node:crypto";
 import type { Topology, GeometryObject } from "topojson-specification";
 import type { GeoJsonProperties } from "geojson";
-import { getObjectBytes, putObject } from "@/lib/storage/s3";
+import { putObject } from "@/lib/storage/s3";
+import { StoredFileChecksumError } from "@/lib/storage/errors";
 import { contiguityWeights, summariseWeights } from "@/lib/spatial";
 import { BoundaryError, boundaryIds, inspectBoundaries, loadBoundaries, type BoundarySummary } from "./boundaries";
 import { inTransaction, intakePool } from "./ingest-db";
+import { readVersionFile, sha256Hex, versionTopologyKey } from "./version-files";
 import type { VersionDiff } from "@/models/intake-types";
 
 export interface BoundaryProblem {
@@ -224,6 +226,7 @@ interface BoundaryVersionRow {
   version: number;
   state: string;
   s3_key: string;
+  file_key: string | null;
   sha256: string;
   object_name: string;
   id_property: string;
@@ -237,9 +240,14 @@ async function markRejected(versionId: number, report: BoundaryReport): Promise<
   );
 }
 
-/** The key under which a version's TopoJSON is stored (GeoJSON uploads are converted there). */
-export function topologyKeyFor(uploadKey: string): string {
-  return `${uploadKey.replace(/\/[^/]*$/, "")}/topology-${createHash("sha256").update(uploadKey).digest("hex").slice(0, 12)}.json`;
+/**
+ * Where a version's TopoJSON is stored: a TopoJSON file is its own copy as it
+ * is; a GeoJSON file is converted and stored beside that copy. Rows made
+ * before versions had copies keep the older key beside the upload's object.
+ */
+export function topologyKeyFor(version: { s3_key: string; file_key: string | null }, readsOwnCopy: boolean, topologySha256: string): string {
+  if (version.file_key === null) return `${version.s3_key.replace(/\/[^/]*$/, "")}/topology-${createHash("sha256").update(version.s3_key).digest("hex").slice(0, 12)}.json`;
+  return readsOwnCopy ? version.file_key : versionTopologyKey(version.file_key, topologySha256);
 }
 
 /**
@@ -248,7 +256,7 @@ export function topologyKeyFor(uploadKey: string): string {
  */
 export async function ingestBoundaryVersion(versionId: number, options: { text?: string } = {}): Promise<BoundaryIngestOutcome> {
   const { rows } = await intakePool().query<BoundaryVersionRow>(
-    "SELECT id, boundary_set_id, version, state, s3_key, sha256, object_name, id_property, name_property FROM boundary_versions WHERE id = $1",
+    "SELECT id, boundary_set_id, version, state, s3_key, file_key, sha256, object_name, id_property, name_property FROM boundary_versions WHERE id = $1",
     [versionId],
   );
   const version = rows[0];
@@ -266,15 +274,13 @@ export async function ingestBoundaryVersion(versionId: number, options: { text?:
   try {
     if (options.text !== undefined) text = options.text;
     else {
-      // The upload's presigned PUT URL outlives the checksum check, so what is read now must still be what was checked.
-      const bytes = await getObjectBytes(version.s3_key);
-      const actual = createHash("sha256").update(bytes).digest("hex");
-      if (actual !== version.sha256) {
-        return fail(`the stored file changed after its upload was checked (checksum ${actual.slice(0, 12)}… instead of ${version.sha256.slice(0, 12)}…); upload it again`);
-      }
-      text = bytes.toString("utf8");
+      // The version's copy was made after the upload's check, while the upload's PUT URL was still valid: what is read must still be what was checked.
+      text = (await readVersionFile(version.s3_key, version.sha256, `boundary version ${version.version} (id ${versionId})`)).toString("utf8");
     }
   } catch (err) {
+    if (err instanceof StoredFileChecksumError) {
+      return fail(`the stored file changed after its upload was checked (checksum ${err.actual.slice(0, 12)}… instead of ${err.expected.slice(0, 12)}…); upload it again`);
+    }
     return fail(`the boundary file could not be read from storage: ${err instanceof Error ? err.message : String(err)}`);
   }
   const checked = checkBoundaryText(text, version.object_name, version.id_property, version.name_property);
@@ -282,12 +288,17 @@ export async function ingestBoundaryVersion(versionId: number, options: { text?:
     await markRejected(versionId, checked.report);
     return { state: "rejected", report: checked.report };
   }
-  // The version keeps its own copy (GeoJSON converted to TopoJSON) under a key
-  // no URL was ever signed for, so a late PUT to the upload's URL cannot change
-  // published boundaries. Stored before the transaction; if the transaction
-  // then fails, the orphan object is harmless and overwritten on retry.
-  const topologyKey = topologyKeyFor(version.s3_key);
-  await putObject(topologyKey, checked.report.sourceFormat === "geojson" ? JSON.stringify(checked.topology) : text, "application/json");
+  // What maps and runs read, under a key no URL was ever signed for, with its
+  // checksum recorded so every read can verify it. A GeoJSON file's converted
+  // topology is stored before the transaction; if the transaction then fails,
+  // the orphan object is harmless and overwritten on retry.
+  const sourceFormat = checked.report.sourceFormat === "geojson" ? "geojson" : "topojson";
+  const topologyText = sourceFormat === "geojson" ? JSON.stringify(checked.topology) : text;
+  // A TopoJSON file is read from the version's copy itself, whose checksum is the upload's.
+  const readsOwnCopy = sourceFormat === "topojson" && version.file_key !== null && options.text === undefined;
+  const topologySha256 = readsOwnCopy ? version.sha256 : sha256Hex(topologyText);
+  const topologyKey = topologyKeyFor(version, readsOwnCopy, topologySha256);
+  if (!readsOwnCopy) await putObject(topologyKey, topologyText, "application/json");
   try {
     const diff = await inTransaction(async (client) => {
       const locked = await client.query<{ state: string }>("SELECT state FROM boundary_versions WHERE id = $1 FOR UPDATE", [versionId]);
@@ -317,9 +328,9 @@ export async function ingestBoundaryVersion(versionId: number, options: { text?:
         };
       }
       await client.query(
-        `UPDATE boundary_versions SET state = 'validated', s3_key = $2, region_count = $3, report = $4, diff = $5,
+        `UPDATE boundary_versions SET state = 'validated', s3_key = $2, topology_sha256 = $6, region_count = $3, report = $4, diff = $5,
                 validated_at = now(), updated_at = now() WHERE id = $1`,
-        [versionId, topologyKey, checked.ids.length, JSON.stringify(checked.report), JSON.stringify(diff)],
+        [versionId, topologyKey, checked.ids.length, JSON.stringify(checked.report), JSON.stringify(diff), topologySha256],
       );
       return diff;
     });

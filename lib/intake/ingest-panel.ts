@@ -9,16 +9,15 @@
  * rolled back and nothing is left behind; the version is then marked
  * `rejected` with its report in a second, tiny transaction.
  */
-import { createHash, type Hash } from "node:crypto";
 import { once } from "node:events";
-import type { Readable } from "node:stream";
 import { from as copyFrom } from "pg-copy-streams";
 import type pg from "pg";
-import { getObjectStream } from "@/lib/storage/s3";
+import { StoredFileChecksumError } from "@/lib/storage/errors";
 import { validatePanelStream } from "./validate";
 import { columnMappingSchema, type ColumnMapping } from "./schemas";
 import type { Observation, PanelReport } from "./report";
 import { inTransaction, intakePool } from "./ingest-db";
+import { drainable, streamVersionFile } from "./version-files";
 import type { VersionDiff } from "@/models/intake-types";
 
 export interface IngestPanelOptions {
@@ -221,9 +220,10 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
       const { rows: regionRows } = await client.query<{ code: string }>("SELECT code FROM regions WHERE boundary_version_id = $1 ORDER BY id", [
         version.boundary_version_id,
       ]);
-      // The upload's presigned PUT URL outlives the checksum check, so what is read now must still be what was checked.
-      const checksum = options.source ? null : createHash("sha256");
-      const source: AsyncIterable<Uint8Array> = options.source ?? hashing((await getObjectStream(version.s3_key)) as Readable, checksum as Hash);
+      // The version's copy was made after the upload's check, while the upload's PUT URL was still valid: the
+      // stream throws at its end unless the bytes are what was checked, and the throw rolls the COPY back.
+      const verified = options.source ? null : drainable(await streamVersionFile(version.s3_key, version.sha256, `panel version ${version.version} (id ${versionId})`));
+      const source: AsyncIterable<Uint8Array> = options.source ?? (verified as NonNullable<typeof verified>).source;
       const writer = new CopyWriter(client);
       const iterator = validatePanelStream({
         source,
@@ -243,15 +243,14 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
             throw new Error(`ingest of panel version ${versionId} stopped on purpose after ${writer.written} observations (test hook)`);
           }
         }
+        // The validator may have stopped early (bad header, too many errors): read the rest so the checksum is
+        // checked before its report, or any row, is kept.
+        await verified?.drain();
       } catch (err) {
         writer.abort();
         await iterator.return(undefined as never).catch(() => undefined);
+        await verified?.close().catch(() => undefined);
         throw err;
-      }
-      const actual = checksum && report.ok ? checksum.digest("hex") : null;
-      if (actual !== null && actual !== version.sha256) {
-        writer.abort();
-        throw new Error(`the stored file changed after its upload was checked (checksum ${actual.slice(0, 12)}… instead of ${version.sha256.slice(0, 12)}…); upload it again`);
       }
       if (!report.ok) {
         writer.abort();
@@ -278,19 +277,17 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
       await markRejected(versionId, err.report);
       return { state: "rejected", report: err.report };
     }
+    if (err instanceof StoredFileChecksumError) {
+      const report = failureReport(`the stored file changed after its upload was checked (checksum ${err.actual.slice(0, 12)}… instead of ${err.expected.slice(0, 12)}…); upload it again`);
+      await markRejected(versionId, report);
+      return { state: "rejected", report };
+    }
     const message = err instanceof Error ? err.message : String(err);
     const report = failureReport(`The panel could not be read and stored (nothing was kept): ${message}`);
     await markRejected(versionId, report);
     return { state: "rejected", report };
   }
   return outcome;
-}
-
-async function* hashing(stream: AsyncIterable<Uint8Array>, hash: Hash): AsyncGenerator<Uint8Array> {
-  for await (const chunk of stream) {
-    hash.update(chunk);
-    yield chunk;
-  }
 }
 
 class RejectedPanel extends Error {

@@ -12,9 +12,9 @@ import { QueryTypes } from "sequelize";
 import type { Topology } from "topojson-specification";
 import { db } from "@/lib/db";
 import { regionCentroids, summariseWeights, weightsFromTopology } from "@/lib/spatial";
-import { getObjectBytes } from "@/lib/storage/s3";
 import { parsePeriod, sortPeriods, type Period } from "./periods";
 import { intakePool } from "./ingest-db";
+import { readVersionFile } from "./version-files";
 import type { VersionState } from "@/models/intake-types";
 import { can, type Role } from "@/lib/auth/roles";
 
@@ -285,9 +285,34 @@ export async function loadPanelColumns(panelVersionId: number, selection: PanelS
   return { panelVersionId, boundaryVersionId: head.boundary_version_id, state: head.state, indicators, periods, regionCodes, columns };
 }
 
-// Versions never change content, so a parsed topology can be kept; a few at most.
-const topologyCache = new Map<number, { topology: Topology; coordinates: "planar" | "lonlat" }>();
+// Versions never change content, so a parsed topology can be kept; a few at most. Only topologies whose
+// checksum was verified are kept, keyed by id, key and checksum (validation moves a GeoJSON version's key).
+const topologyCache = new Map<string, { topology: Topology; coordinates: "planar" | "lonlat" }>();
 const TOPOLOGY_CACHE_SIZE = 4;
+
+/** Forgets the verified topologies this process keeps (tests that change a stored file behind the app's back). */
+export function forgetCachedTopologies(): void {
+  topologyCache.clear();
+}
+
+interface TopologySource {
+  s3_key: string;
+  file_key: string | null;
+  sha256: string;
+  topology_sha256: string | null;
+  format: string;
+}
+
+/**
+ * The SHA-256 the file at s3_key must have: recorded at validation; before it,
+ * the version's own copy's; null only for a GeoJSON version validated before
+ * checksums of converted topologies were recorded (read as before, unverified).
+ */
+export function expectedTopologySha256(v: TopologySource): string | null {
+  if (v.topology_sha256 !== null) return v.topology_sha256;
+  if (v.s3_key === v.file_key || v.format === "topojson") return v.sha256;
+  return null;
+}
 
 function coordinatesOf(topology: Topology): "planar" | "lonlat" {
   let bbox = topology.bbox as number[] | undefined;
@@ -319,15 +344,21 @@ function coordinatesOf(topology: Topology): "planar" | "lonlat" {
  * @throws naming the boundary version when it does not exist or its file cannot be read.
  */
 export async function loadBoundaryTopology(boundaryVersionId: number): Promise<BoundaryTopology> {
-  const rows = await db().query<{ id: number; state: VersionState; s3_key: string; object_name: string; id_property: string; name_property: string | null }>(
-    "SELECT id, state, s3_key, object_name, id_property, name_property FROM boundary_versions WHERE id = :id",
+  const rows = await db().query<
+    { id: number; version: number; set_name: string; state: VersionState; object_name: string; id_property: string; name_property: string | null } & TopologySource
+  >(
+    `SELECT v.id, v.version, s.name AS set_name, v.state, v.s3_key, v.file_key, v.sha256, v.topology_sha256, v.format, v.object_name, v.id_property, v.name_property
+       FROM boundary_versions v JOIN boundary_sets s ON s.id = v.boundary_set_id WHERE v.id = :id`,
     { replacements: { id: boundaryVersionId }, type: QueryTypes.SELECT },
   );
   const version = rows[0];
   if (!version) throw new Error(`boundary version ${boundaryVersionId} does not exist`);
-  let cached = topologyCache.get(boundaryVersionId);
+  const expected = expectedTopologySha256(version);
+  const cacheKey = `${boundaryVersionId}\u0000${version.s3_key}\u0000${expected ?? ""}`;
+  let cached = topologyCache.get(cacheKey);
   if (!cached) {
-    const bytes = await getObjectBytes(version.s3_key);
+    // Throws StoredFileChecksumError, naming the version, when the stored file is not the one recorded.
+    const bytes = await readVersionFile(version.s3_key, expected, `boundary version ${version.version} of '${version.set_name}' (id ${boundaryVersionId})`);
     let topology: Topology;
     try {
       topology = JSON.parse(bytes.toString("utf8")) as Topology;
@@ -335,7 +366,7 @@ export async function loadBoundaryTopology(boundaryVersionId: number): Promise<B
       throw new Error(`boundary version ${boundaryVersionId}: stored TopoJSON ${version.s3_key} is not JSON (${err instanceof Error ? err.message : String(err)})`);
     }
     cached = { topology, coordinates: coordinatesOf(topology) };
-    topologyCache.set(boundaryVersionId, cached);
+    topologyCache.set(cacheKey, cached);
     if (topologyCache.size > TOPOLOGY_CACHE_SIZE) {
       const oldest = topologyCache.keys().next().value;
       if (oldest !== undefined) topologyCache.delete(oldest);

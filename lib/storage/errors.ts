@@ -41,3 +41,26 @@ export function isStorageOutage(error: unknown): boolean {
   }
   return false;
 }
+
+/**
+ * A version's stored file no longer has the checksum recorded when the version
+ * was made: it was changed or damaged in the store. The bytes are never used;
+ * the message names the version (HTTP 500: the fault is on the server's side,
+ * and trying again will not help).
+ */
+export class StoredFileChecksumError extends Error {
+  readonly status = 500;
+  constructor(
+    /** What was read, for the message: e.g. `panel version 3 of 'Jobs' (id 17)`. */
+    readonly what: string,
+    readonly objectKey: string,
+    readonly expected: string,
+    readonly actual: string,
+  ) {
+    super(
+      `The stored file of ${what} does not match the checksum recorded when the version was made (found ${actual.slice(0, 12)}…, expected ${expected.slice(0, 12)}…): ` +
+        `it was changed or damaged in storage, so it was not used. Upload the file again as a new version, or ask the operator to restore ${objectKey} from a backup.`,
+    );
+    this.name = "StoredFileChecksumError";
+  }
+}

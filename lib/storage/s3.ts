@@ -1,4 +1,4 @@
-import { DeleteObjectCommand, GetObjectCommand, HeadObjectCommand, PutObjectCommand, S3Client, S3ServiceException } from "@aws-sdk/client-s3";
+import { CopyObjectCommand, DeleteObjectCommand, GetObjectCommand, HeadObjectCommand, PutObjectCommand, S3Client, S3ServiceException } from "@aws-sdk/client-s3";
 import { getSignedUrl } from "@aws-sdk/s3-request-presigner";
 import { PassThrough, type Readable } from "node:stream";
 import { z } from "zod";
@@ -56,8 +56,14 @@ function where(k: string): string {
   return `s3://${bucket()}/${k} at ${env().S3_ENDPOINT}`;
 }
 
-type Action = "PUT" | "GET" | "HEAD" | "DELETE";
-const WHAT_FAILED: Record<Action, string> = { PUT: "the file could not be stored", GET: "the file could not be read", HEAD: "the file could not be checked", DELETE: "the file could not be removed" };
+type Action = "PUT" | "GET" | "HEAD" | "DELETE" | "COPY";
+const WHAT_FAILED: Record<Action, string> = {
+  PUT: "the file could not be stored",
+  GET: "the file could not be read",
+  HEAD: "the file could not be checked",
+  DELETE: "the file could not be removed",
+  COPY: "the file could not be copied",
+};
 
 /**
  * An outage (refused, timed out, 5xx) becomes a StorageUnavailableError whose
@@ -173,6 +179,24 @@ export async function headObject(objectKey: string): Promise<ObjectHead | null> 
   } catch (err) {
     if (err instanceof S3ServiceException && (err.$metadata.httpStatusCode === 404 || err.name === "NotFound" || err.name === "NoSuchKey")) return null;
     throw wrap("HEAD", k, err);
+  }
+}
+
+/**
+ * Server-side copy inside the bucket (S3 CopyObject): the bytes never pass
+ * through the app. Used to give a version its own copy of an upload under a
+ * key no presigned URL was issued for. Throws when the source is missing.
+ */
+export async function copyObject(sourceKey: string, targetKey: string): Promise<{ etag: string | null }> {
+  const from = key(sourceKey);
+  const to = key(targetKey);
+  try {
+    // CopySource is "bucket/key" with the key URL-encoded segment by segment (the slashes stay).
+    const source = `${bucket()}/${from.split("/").map(encodeURIComponent).join("/")}`;
+    const out = await s3Client().send(new CopyObjectCommand({ Bucket: bucket(), Key: to, CopySource: source }));
+    return { etag: out.CopyObjectResult?.ETag ?? null };
+  } catch (err) {
+    throw wrap("COPY", `${from} -> ${to}`, err);
   }
 }
 

@@ -11,7 +11,8 @@ import { closeConnections } from "@/tests/helpers/teardown";
 import { makeWorkspace } from "@/tests/integration/auth/fixtures";
 import { asSession, gridGeoJson, sha256 } from "@/tests/integration/intake/fixtures";
 
-// The sweep of uploads started but never completed, against the suite's
+// The sweep of uploads started but never completed, failed, or received and
+// never used by a version, against the suite's
 // PostgreSQL and an s3rver of this file's own (S3_ENDPOINT is set before
 // anything reads the configuration), which it stops to play a store outage
 // without touching the store the other tests share. Tickets are issued and
@@ -56,6 +57,11 @@ async function age(uploadId: string, hours: number): Promise<void> {
   });
 }
 
+async function setId(): Promise<number> {
+  const [row] = await db().query<{ id: number }>("SELECT id FROM boundary_sets WHERE workspace_id = $1 AND name = $2", { bind: [workspaceId, SET_NAME], type: QueryTypes.SELECT });
+  return row.id;
+}
+
 async function uploadState(uploadId: string): Promise<string> {
   const [row] = await db().query<{ state: string }>("SELECT state FROM uploads WHERE id = $1", { bind: [uploadId], type: QueryTypes.SELECT });
   return row?.state ?? "gone";
@@ -85,7 +91,7 @@ afterAll(async () => {
   await closeConnections();
 });
 
-describe("sweeping uploads that were started but never completed (UPLOAD_ABANDON_HOURS unset: 24 h)", () => {
+describe("sweeping uploads that were never completed, failed, or were never used (UPLOAD_ABANDON_HOURS unset: 24 h)", () => {
   const uploads: Record<string, Issued> = {};
   let report: Awaited<ReturnType<typeof sweepAbandonedUploads>>;
   const logged: string[] = [];
@@ -111,9 +117,36 @@ describe("sweeping uploads that were started but never completed (UPLOAD_ABANDON
     await put(uploads.versioned);
     await completeUpload(steward, uploads.versioned.uploadId);
     await createBoundaryVersion(steward, { uploadId: uploads.versioned.uploadId, setName: SET_NAME, objectName: "regions", idProperty: "code" }, { enqueueJob: false });
-    // Set back to pending, so that only the version naming it can keep it (a received upload is kept for its state alone).
-    await db().query("UPDATE uploads SET state = 'pending' WHERE id = $1", { bind: [uploads.versioned.uploadId] });
     await age(uploads.versioned.uploadId, 48);
+
+    uploads.versionedPending = await issue();
+    await put(uploads.versionedPending);
+    await completeUpload(steward, uploads.versionedPending.uploadId);
+    await createBoundaryVersion(steward, { uploadId: uploads.versionedPending.uploadId, boundarySetId: await setId(), objectName: "regions", idProperty: "code" }, { enqueueJob: false });
+    // Set back to pending: a version naming it keeps it whatever its state.
+    await db().query("UPDATE uploads SET state = 'pending' WHERE id = $1", { bind: [uploads.versionedPending.uploadId] });
+    await age(uploads.versionedPending.uploadId, 48);
+
+    // Completed before any byte arrived: failed, no object.
+    uploads.failedNoFile = await issue();
+    expect((await completeUpload(steward, uploads.failedNoFile.uploadId)).state).toBe("failed");
+    await age(uploads.failedNoFile.uploadId, 48);
+
+    // Failed, and then the still-valid URL brought the file anyway: a failed row with an object.
+    uploads.failedLatePut = await issue();
+    expect((await completeUpload(steward, uploads.failedLatePut.uploadId)).state).toBe("failed");
+    await put(uploads.failedLatePut);
+    await age(uploads.failedLatePut.uploadId, 48);
+
+    uploads.recentFailed = await issue();
+    expect((await completeUpload(steward, uploads.recentFailed.uploadId)).state).toBe("failed");
+    await put(uploads.recentFailed);
+    await age(uploads.recentFailed.uploadId, 23);
+
+    uploads.recentReceived = await issue();
+    await put(uploads.recentReceived);
+    await completeUpload(steward, uploads.recentReceived.uploadId);
+    await age(uploads.recentReceived.uploadId, 23);
 
     expect(await storedFile(uploads.oldWithFile.s3Key)).toBe("present");
     expect(await storedFile(uploads.oldNoFile.s3Key)).toBe("absent");
@@ -134,23 +167,40 @@ describe("sweeping uploads that were started but never completed (UPLOAD_ABANDON
     expect(await storedFile(uploads.recent.s3Key)).toBe("present");
   });
 
-  it("leaves an old received upload, and its file, alone", async () => {
-    expect(await uploadState(uploads.received.uploadId)).toBe("received");
-    expect(await storedFile(uploads.received.s3Key)).toBe("present");
+  it("deletes an old received upload that no version uses, and its stored file", async () => {
+    expect(await uploadState(uploads.received.uploadId)).toBe("gone");
+    expect(await storedFile(uploads.received.s3Key)).toBe("absent");
   });
 
-  it("leaves an old upload that a boundary version names, and the version's file, alone", async () => {
-    expect(await uploadState(uploads.versioned.uploadId)).toBe("pending");
-    expect(await storedFile(uploads.versioned.s3Key)).toBe("present");
-    const [version] = await db().query<{ upload_id: string; s3_key: string }>("SELECT upload_id, s3_key FROM boundary_versions WHERE upload_id = $1", {
-      bind: [uploads.versioned.uploadId],
+  it("deletes old failed uploads, and the file a late PUT stored for one", async () => {
+    expect(await uploadState(uploads.failedNoFile.uploadId)).toBe("gone");
+    expect(await uploadState(uploads.failedLatePut.uploadId)).toBe("gone");
+    expect(await storedFile(uploads.failedLatePut.s3Key)).toBe("absent");
+  });
+
+  it("leaves failed and received uploads younger than 24 hours, and their files, alone", async () => {
+    expect(await uploadState(uploads.recentFailed.uploadId)).toBe("failed");
+    expect(await storedFile(uploads.recentFailed.s3Key)).toBe("present");
+    expect(await uploadState(uploads.recentReceived.uploadId)).toBe("received");
+    expect(await storedFile(uploads.recentReceived.s3Key)).toBe("present");
+  });
+
+  it.each(["versioned", "versionedPending"])("leaves an old upload that a boundary version names (%s), its file and the version's own copy alone", async (name) => {
+    const upload = uploads[name];
+    expect(await uploadState(upload.uploadId)).toBe(name === "versioned" ? "received" : "pending");
+    expect(await storedFile(upload.s3Key)).toBe("present");
+    const [version] = await db().query<{ upload_id: string; s3_key: string; file_key: string }>("SELECT upload_id, s3_key, file_key FROM boundary_versions WHERE upload_id = $1", {
+      bind: [upload.uploadId],
       type: QueryTypes.SELECT,
     });
-    expect(version).toEqual({ upload_id: uploads.versioned.uploadId, s3_key: uploads.versioned.s3Key });
+    expect(version.s3_key).toBe(version.file_key);
+    expect(version.file_key).toMatch(new RegExp(`^workspaces/${workspaceId}/versions/boundaries/\\d+/${sha256(upload.bytes)}$`));
+    expect(await storedFile(version.file_key)).toBe("present");
   });
 
   it("reports what it examined, deleted, removed and kept, and logs nothing when the store answered", () => {
-    expect(report).toEqual({ examined: 3, deleted: 2, objectsRemoved: 1, keptInUse: 1, keptStoreFailed: 0 });
+    // Examined: the two old pending, the unused received and the two failed ones; uploads versions name are not candidates.
+    expect(report).toEqual({ examined: 5, deleted: 5, objectsRemoved: 3, keptInUse: 0, keptStoreFailed: 0 });
     expect(logged).toEqual([]);
   });
 });
@@ -166,8 +216,7 @@ describe("sweeping while the file store is down", () => {
     await store.stop();
     const logged: string[] = [];
     const during = await sweepAbandonedUploads({ log: (line) => logged.push(line) });
-    // keptInUse: the pending upload named by a version, from the sweep above.
-    expect(during).toEqual({ examined: 3, deleted: 0, objectsRemoved: 0, keptInUse: 1, keptStoreFailed: 2 });
+    expect(during).toEqual({ examined: 2, deleted: 0, objectsRemoved: 0, keptInUse: 0, keptStoreFailed: 2 });
     expect(await uploadState(withFile.uploadId)).toBe("pending");
     expect(await uploadState(noFile.uploadId)).toBe("pending");
     expect(logged).toHaveLength(1);
@@ -178,7 +227,7 @@ describe("sweeping while the file store is down", () => {
     await store.start();
     expect(await storedFile(withFile.s3Key)).toBe("present");
     const after = await sweepAbandonedUploads({ log: (line) => logged.push(line) });
-    expect(after).toEqual({ examined: 3, deleted: 2, objectsRemoved: 1, keptInUse: 1, keptStoreFailed: 0 });
+    expect(after).toEqual({ examined: 2, deleted: 2, objectsRemoved: 1, keptInUse: 0, keptStoreFailed: 0 });
     expect(await uploadState(withFile.uploadId)).toBe("gone");
     expect(await uploadState(noFile.uploadId)).toBe("gone");
     expect(await storedFile(withFile.s3Key)).toBe("absent");

@@ -137,7 +137,7 @@ export async function versionIn(world: Pick<World, "workspace">, state: VersionS
   return loadVeldmarkPanel(world.workspace.id, { state, indicators: ["unemployment_rate"], periods: ["2012"] });
 }
 
-/** Validated (unpublished) boundaries: a new set whose version copies the world's published regions and stored topology. */
+/** Validated (unpublished) boundaries: a new set whose version copies the world's published regions and stored topology (with its checksum). */
 export async function validatedBoundaries(world: Pick<World, "workspace" | "panel">): Promise<number> {
   return db().transaction(async (transaction) => {
     const q = <T extends object>(sql: string, bind: unknown[]) => db().query<T>(sql, { bind, type: QueryTypes.SELECT, transaction });
@@ -146,9 +146,9 @@ export async function validatedBoundaries(world: Pick<World, "workspace" | "pane
       `Unpublished districts ${tag()}`,
     ]);
     const [version] = await q<{ id: number }>(
-      `INSERT INTO boundary_versions (boundary_set_id, version, state, s3_key, file_name, byte_size, sha256, format, object_name, id_property,
+      `INSERT INTO boundary_versions (boundary_set_id, version, state, s3_key, file_name, byte_size, sha256, topology_sha256, format, object_name, id_property,
                                       name_property, region_count, validated_at, created_at, updated_at)
-       SELECT $1, 1, 'validated', s3_key, file_name, byte_size, $2, format, object_name, id_property, name_property, region_count, now(), now(), now()
+       SELECT $1, 1, 'validated', s3_key, file_name, byte_size, $2, COALESCE(topology_sha256, sha256), format, object_name, id_property, name_property, region_count, now(), now(), now()
          FROM boundary_versions WHERE id = $3 RETURNING id`,
       [set.id, randomBytes(32).toString("hex"), world.panel.boundaryVersionId],
     );

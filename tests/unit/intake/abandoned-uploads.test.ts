@@ -22,14 +22,18 @@ describe("which uploads are abandoned", () => {
     expect(keepReason(ticket(25), now, 48)).toBe("too recent");
   });
 
-  it("received and failed uploads are never abandoned, however old", () => {
-    expect(keepReason(ticket(24 * 400, { state: "received" }), now, 24)).toBe("not pending");
-    expect(keepReason(ticket(24 * 400, { state: "failed" }), now, 24)).toBe("not pending");
+  it("a failed upload, and a received one no version uses, are abandoned by the same rule as a pending one", () => {
+    for (const state of ["failed", "received"] as const) {
+      expect(keepReason(ticket(25, { state }), now, 24)).toBeNull();
+      expect(keepReason(ticket(23, { state }), now, 24)).toBe("too recent");
+      expect(keepReason(ticket(30, { state, expiresAt: new Date(now.getTime() + 60_000) }), now, 24)).toBe("upload URL still valid");
+    }
   });
 
-  it("an upload that a boundary or panel version names is never abandoned, even if still pending", () => {
-    expect(keepReason(ticket(100, { referencedByVersion: true }), now, 24)).toBe("referenced by a version");
-    expect(keepReason(ticket(100, { state: "received", referencedByVersion: true }), now, 24)).toBe("not pending");
+  it("an upload that a boundary or panel version names is never abandoned, in any state and however old", () => {
+    for (const state of ["pending", "failed", "received"] as const) {
+      expect(keepReason(ticket(24 * 400, { state, referencedByVersion: true }), now, 24)).toBe("referenced by a version");
+    }
   });
 
   it("an old ticket whose PUT URL still works is kept, since a browser may still be sending the file", () => {
@@ -54,7 +58,7 @@ describe("which uploads are abandoned", () => {
 describe("the sweep's log line", () => {
   it("says how many were examined, deleted, had a file removed and were kept for each reason", () => {
     expect(describeSweep({ examined: 6, deleted: 3, objectsRemoved: 2, keptInUse: 1, keptStoreFailed: 2 }, 24)).toBe(
-      "6 pending upload(s) older than 24 h: 3 deleted (2 stored file(s) removed), 1 kept in use, 2 kept because the file store failed",
+      "6 pending, failed or unused upload(s) older than 24 h: 3 deleted (2 stored file(s) removed), 1 kept in use, 2 kept because the file store failed",
     );
   });
 });
