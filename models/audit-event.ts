@@ -4,6 +4,7 @@ export type AuditAction =
   | "sign-in.succeeded"
   | "sign-in.failed"
   | "sign-in.throttled"
+  | "account.password-changed"
   | "invitation.sent"
   | "invitation.accepted"
   | "member.role-changed"

@@ -5,5 +5,7 @@ export class LoginAttempt extends Model<InferAttributes<LoginAttempt>, InferCrea
   declare email: string;
   declare ip: string;
   declare succeeded: boolean;
+  /** The device cookie's nonce for a trusted client; null for an untrusted one. */
+  declare device: CreationOptional<string | null>;
   declare at: CreationOptional<Date>;
 }

@@ -4,6 +4,7 @@ import { signIn } from "next-auth/react";
 import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { inputClass, labelClass, primaryButton } from "@/components/ui/button-styles";
+import { safeCallbackPath } from "@/lib/auth/callback";
 import { signInMessage } from "@/lib/auth/messages";
 import { signInSchema } from "@/lib/auth/schemas";
 
@@ -29,13 +30,16 @@ export function SignInForm({ callbackUrl, initialError, email: presetEmail }: { 
     setFieldErrors({});
     setError(null);
     setBusy(true);
-    const result = await signIn("credentials", { ...parsed.data, redirect: false, callbackUrl });
+    // Checked again here, against the origin the browser is really on: the prop
+    // comes from the server, but this is the line that navigates.
+    const destination = safeCallbackPath(callbackUrl, window.location.origin);
+    const result = await signIn("credentials", { ...parsed.data, redirect: false, callbackUrl: destination });
     if (!result || result.error) {
       setBusy(false);
       setError(signInMessage(result?.error ?? "unknown"));
       return;
     }
-    router.replace(callbackUrl);
+    router.replace(destination);
     router.refresh();
   }
 

@@ -26,9 +26,9 @@ export function TopBar(props: {
         </Link>
         <div className="ml-auto flex items-center gap-4">
           <div className="text-right leading-tight">
-            <p className="text-sm font-medium" data-testid="user-name">
-              {props.userName}
-            </p>
+            <Link href="/account" className="text-sm font-medium text-white hover:text-ochre-300" title="Your account: change password">
+              <p data-testid="user-name">{props.userName}</p>
+            </Link>
             <p className="text-xs text-ochre-300" data-testid="user-role">
               {ROLE_LABELS[props.role]}
             </p>

@@ -2,9 +2,12 @@ import type { NextAuthOptions } from "next-auth";
 import CredentialsProvider from "next-auth/providers/credentials";
 import { env } from "@/lib/config/env";
 import { isHttpsUrl, sessionCookie } from "@/lib/security/cookies";
+import { safeCallbackPath } from "./callback";
 import { verifySignIn } from "./credentials";
+import { deviceCookieName, readCookie } from "./device-cookie";
 import { SIGN_IN_ERROR_CODES } from "./messages";
 import { signInSchema } from "./schemas";
+import { currentSessionVersion, endSessions } from "./session-version";
 
 /**
  * The client address the sign-in throttle counts against. `next start` keeps
@@ -45,8 +48,12 @@ export function buildAuthOptions(appUrl: string): NextAuthOptions {
         async authorize(credentials, req) {
           const parsed = signInSchema.safeParse(credentials ?? {});
           if (!parsed.success) return null;
-          const result = await verifySignIn(parsed.data.email, parsed.data.password, clientIp(req?.headers));
-          if (result.ok) return { id: String(result.user.id), email: result.user.email, name: result.user.name };
+          const device = readCookie(req?.headers?.cookie, deviceCookieName(appUrl));
+          const result = await verifySignIn(parsed.data.email, parsed.data.password, clientIp(req?.headers), device);
+          if (result.ok) {
+            const { id, email, name, sessionVersion } = result.user;
+            return { id: String(id), email, name, sessionVersion };
+          }
           // next-auth passes a thrown message through to the form as its error code.
           if (result.reason === "throttled") throw new Error(SIGN_IN_ERROR_CODES.throttled);
           return null;
@@ -55,12 +62,36 @@ export function buildAuthOptions(appUrl: string): NextAuthOptions {
     ],
     callbacks: {
       async jwt({ token, user }) {
-        if (user) token.uid = Number(user.id);
+        if (user) {
+          token.uid = Number(user.id);
+          token.sv = user.sessionVersion;
+        }
         return token;
       },
+      // Runs for every getServerSession (so for every guarded page and route,
+      // through lib/auth/session.ts) and for /api/auth/session: a session
+      // whose version is no longer the user's is answered as no session.
       async session({ session, token }) {
-        if (session.user && typeof token.uid === "number") session.user.id = token.uid;
+        const uid = token.uid;
+        const valid = typeof uid === "number" && typeof token.sv === "number" && (await currentSessionVersion(uid)) === token.sv;
+        if (!valid) return { expires: session.expires };
+        if (session.user) session.user.id = uid;
         return session;
+      },
+      // Where next-auth sends the browser after signing in or out: only this
+      // site's paths (lib/auth/callback.ts); anything else goes to the home page.
+      redirect({ url, baseUrl }) {
+        return `${baseUrl}${safeCallbackPath(url, baseUrl)}`;
+      },
+    },
+    events: {
+      // Signing out ends the user's sessions in every browser, not just this
+      // cookie, which a copy could outlive. A session that had already ended
+      // changes nothing.
+      async signOut({ token }) {
+        if (typeof token?.uid === "number" && typeof token.sv === "number") {
+          await endSessions(token.uid, { onlyIfVersion: token.sv });
+        }
       },
     },
   };

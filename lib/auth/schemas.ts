@@ -24,6 +24,17 @@ export const passwordSchema = z
   .min(10, "Use at least 10 characters for your password.")
   .max(200, "Use at most 200 characters for your password.");
 
+export const changePasswordSchema = z
+  .object({
+    currentPassword: z.string({ error: "Enter your current password." }).min(1, "Enter your current password.").max(200, "That is not your current password."),
+    newPassword: passwordSchema,
+  })
+  .refine((v) => v.newPassword !== v.currentPassword, {
+    path: ["newPassword"],
+    message: "Choose a new password that differs from the current one.",
+  });
+export type ChangePasswordInput = z.infer<typeof changePasswordSchema>;
+
 export const inviteSchema = z.object({ email, role: roleSchema });
 export type InviteInput = z.infer<typeof inviteSchema>;
 

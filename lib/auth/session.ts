@@ -3,7 +3,13 @@ import { authOptions } from "./options";
 
 export type SessionUser = { id: number; email: string; name: string };
 
-/** The signed-in user from the JWT session cookie, or null. Database checks happen in the guard. */
+/**
+ * The signed-in user from the JWT session cookie, or null. A session that has
+ * ended (its version is no longer the user's: signed out, removed from the
+ * last workspace, password changed) is null too: the session callback in
+ * lib/auth/options.ts checks it with one primary-key lookup on every call.
+ * Membership checks happen in the guard.
+ */
 export async function getSessionUser(): Promise<SessionUser | null> {
   const session = await getServerSession(authOptions);
   const user = session?.user;

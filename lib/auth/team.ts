@@ -9,6 +9,7 @@ import type { MemberContext } from "./guard";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { hashPassword } from "./passwords";
 import { ROLE_LABELS, isRole, type Role } from "./roles";
+import { endSessions } from "./session-version";
 import { createToken, hashToken, invitationExpiry, looksLikeToken } from "./tokens";
 
 // Team operations. Every exported mutation takes a MemberContext, which only
@@ -172,7 +173,15 @@ export async function removeMember(actor: MemberContext, userId: number): Promis
       throw new ConflictError("This is the workspace's last manager and cannot be removed. Make someone else a manager first.");
     }
     const role = membership.role;
+    // The user's row is locked so that two removals from their last two
+    // workspaces at once cannot each see the other membership and both skip
+    // ending the sessions.
+    await db().query("SELECT id FROM users WHERE id = $1 FOR UPDATE", { bind: [userId], transaction });
     await membership.destroy({ transaction });
+    // Someone left with no workspace has no reason to stay signed in: their
+    // open sessions end now rather than when the JWT expires.
+    const { Membership } = models();
+    if ((await Membership.count({ where: { userId }, transaction })) === 0) await endSessions(userId, { transaction });
     await audit(
       {
         workspaceId,
@@ -328,10 +337,17 @@ export class InvitationError extends Error {
 }
 
 /**
- * Accepts an invitation. Someone without an account gives a name and password
- * and the account is created; someone with an account must be signed in as the
- * invited address. Single use: the row is locked and marked accepted in the
- * same transaction that creates the membership.
+ * Accepts an invitation. The token is bound to the invited address: it only
+ * ever adds that address's account to the workspace.
+ * - An account for the address exists: the caller must be signed in as it.
+ * - No account exists: the caller gives a name and password and exactly that
+ *   address's account is created — but only when nobody is signed in. A
+ *   visitor signed in as another account (say a manager of another workspace
+ *   who came across the link) is refused, so one person never ends up
+ *   creating another's account from their own session.
+ * Refusals change nothing and leave the invitation pending for its addressee.
+ * Single use: the row is locked and marked accepted in the same transaction
+ * that creates the membership.
  */
 export async function acceptInvitation(input: {
   token: string;
@@ -364,6 +380,12 @@ export async function acceptInvitation(input: {
         );
       }
     } else {
+      if (input.sessionUserId !== null) {
+        throw new InvitationError(
+          403,
+          `This invitation is for ${inv.email}, but you are signed in with another account. Sign out, then open the link again.`,
+        );
+      }
       if (!input.name) throw new InvitationError(400, "name: Enter your name.", "name");
       if (!input.password) throw new InvitationError(400, "password: Choose a password.", "password");
       user = await User.create(

@@ -2,27 +2,16 @@ import type { Metadata } from "next";
 import { redirect } from "next/navigation";
 import { SignInForm } from "@/components/auth/sign-in-form";
 import { getSessionUser } from "@/lib/auth/session";
+import { safeCallbackPath } from "@/lib/auth/callback";
 import { signInMessage } from "@/lib/auth/messages";
 import { env } from "@/lib/config/env";
 
 export const metadata: Metadata = { title: "Sign in" };
 
-/** Only paths on this site are followed after sign-in, never another origin. */
-function safeCallback(value: string | string[] | undefined): string {
-  const v = Array.isArray(value) ? value[0] : value;
-  if (!v) return "/";
-  try {
-    const base = new URL(env().NEXTAUTH_URL);
-    const url = new URL(v, base);
-    return url.origin === base.origin ? url.pathname + url.search : "/";
-  } catch {
-    return "/";
-  }
-}
-
 export default async function SignInPage({ searchParams }: { searchParams: Promise<Record<string, string | string[] | undefined>> }) {
   const params = await searchParams;
-  const callbackUrl = safeCallback(params.callbackUrl);
+  // Only paths on this site are followed after sign-in, never another origin.
+  const callbackUrl = safeCallbackPath(params.callbackUrl, env().NEXTAUTH_URL);
   if (await getSessionUser()) redirect(callbackUrl);
   const error = typeof params.error === "string" ? signInMessage(params.error) : null;
   return (

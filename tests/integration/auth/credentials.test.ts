@@ -20,7 +20,7 @@ describe("sign-in with e-mail and password", () => {
   it("accepts the right password, with the address in any case", async () => {
     const user = await makeUser("ok");
     const result = await verifySignIn(`  ${user.email.toUpperCase()} `, PASSWORD, ip());
-    expect(result).toEqual({ ok: true, user: { id: user.id, email: user.email, name: user.name } });
+    expect(result).toEqual({ ok: true, user: { id: user.id, email: user.email, name: user.name, sessionVersion: 0 }, trustedDevice: false });
   });
 
   it("gives the same answer and message for a wrong password and an unknown address", async () => {

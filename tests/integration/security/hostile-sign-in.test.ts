@@ -1,7 +1,8 @@
 import { randomBytes } from "node:crypto";
+import { deviceCookieName, issueDeviceCookie } from "@/lib/auth/device-cookie";
 import { authOptions } from "@/lib/auth/options";
 import { SIGN_IN_ERROR_CODES, SIGN_IN_MESSAGES, signInMessage } from "@/lib/auth/messages";
-import { MAX_FAILURES_PER_EMAIL, MAX_FAILURES_PER_IP, THROTTLE_WINDOW_MINUTES } from "@/lib/auth/throttle";
+import { MAX_FAILURES_PER_DEVICE, MAX_FAILURES_PER_EMAIL, MAX_FAILURES_PER_IP, THROTTLE_WINDOW_MINUTES } from "@/lib/auth/throttle";
 import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { PASSWORD, makeUser, unique } from "../auth/fixtures";
@@ -20,10 +21,16 @@ function ip(): string {
   return `198.51.${b[0]}.${b[1]}`;
 }
 
-/** One sign-in attempt as next-auth makes it; "throttled" when the provider refuses to check. */
-async function attempt(email: string, password: string, forwardedFor: string): Promise<"signed in" | "wrong" | "throttled"> {
+/**
+ * One sign-in attempt as next-auth makes it; "throttled" when the provider
+ * refuses to check. `deviceCookie` is what the browser sends as its device
+ * cookie (lib/auth/device-cookie.ts), if it has one.
+ */
+async function attempt(email: string, password: string, forwardedFor: string, deviceCookie?: string): Promise<"signed in" | "wrong" | "throttled"> {
+  const headers: Record<string, string> = { "x-forwarded-for": forwardedFor };
+  if (deviceCookie) headers.cookie = `other=1; ${deviceCookieName(process.env.NEXTAUTH_URL ?? "")}=${deviceCookie}`;
   try {
-    const user = await authorize({ email, password }, { headers: { "x-forwarded-for": forwardedFor } });
+    const user = await authorize({ email, password }, { headers });
     return user ? "signed in" : "wrong";
   } catch (error) {
     // next-auth sends a thrown message to the form as its error code.
@@ -42,7 +49,7 @@ afterAll(async () => {
 });
 
 describe("sign-in rate limiting", () => {
-  it(`refuses an address after ${MAX_FAILURES_PER_EMAIL} wrong passwords, even with the right one and from another network`, async () => {
+  it(`refuses an address to clients without its device cookie after ${MAX_FAILURES_PER_EMAIL} wrong passwords, even with the right one and from another network`, async () => {
     const user = await makeUser("guessed");
     const from = ip();
     for (let i = 0; i < MAX_FAILURES_PER_EMAIL; i++) expect(await attempt(user.email, `guess-${i}`, from)).toBe("wrong");
@@ -66,6 +73,57 @@ describe("sign-in rate limiting", () => {
     }
     const user = await makeUser("behind-proxy");
     expect(await attempt(user.email, PASSWORD, `${ip()}, ${real}`)).toBe("throttled");
+  });
+
+  // OWASP device cookies: the owner's browser got a device cookie from its last
+  // successful sign-in (the sign-in route sets it; tests/integration/auth/sessions.test.ts
+  // follows that through the real route). The cookie is made here the same way.
+  it(`does not let a guesser's ${MAX_FAILURES_PER_EMAIL} wrong passwords lock out the owner's browser, which holds its device cookie`, async () => {
+    const owner = await makeUser("device-owner");
+    const ownersBrowser = issueDeviceCookie(owner.email, process.env.NEXTAUTH_SECRET);
+    const attacker = ip();
+    for (let i = 0; i < MAX_FAILURES_PER_EMAIL; i++) expect(await attempt(owner.email, `guess-${i}`, attacker)).toBe("wrong");
+    // Every untrusted client is locked out, the attacker's and any other, even with the right password…
+    expect(await attempt(owner.email, PASSWORD, attacker)).toBe("throttled");
+    expect(await attempt(owner.email, PASSWORD, ip())).toBe("throttled");
+    // …but the owner's browser signs in, from its own network or the attacker's.
+    expect(await attempt(owner.email, PASSWORD, ip(), ownersBrowser)).toBe("signed in");
+    expect(await attempt(owner.email, PASSWORD, attacker, ownersBrowser)).toBe("signed in");
+    // The untrusted lockout stands: the owner's success does not reopen it for the guesser.
+    expect(await attempt(owner.email, PASSWORD, ip())).toBe("throttled");
+  });
+
+  it(`throttles a trusted browser on its own after ${MAX_FAILURES_PER_DEVICE} wrong passwords, leaving other trusted browsers alone`, async () => {
+    const owner = await makeUser("device-typos");
+    const laptop = issueDeviceCookie(owner.email, process.env.NEXTAUTH_SECRET);
+    const phone = issueDeviceCookie(owner.email, process.env.NEXTAUTH_SECRET);
+    for (let i = 0; i < MAX_FAILURES_PER_DEVICE; i++) expect(await attempt(owner.email, `typo-${i}`, ip(), laptop)).toBe("wrong");
+    expect(await attempt(owner.email, PASSWORD, ip(), laptop)).toBe("throttled");
+    expect(await attempt(owner.email, PASSWORD, ip(), phone)).toBe("signed in");
+    // The laptop's failures are its own: untrusted clients were not locked out by them.
+    expect(await attempt(owner.email, PASSWORD, ip())).toBe("signed in");
+  });
+
+  it("treats a device cookie for another address, or a forged one, as no cookie at all", async () => {
+    const owner = await makeUser("device-victim");
+    const attackersOwn = await makeUser("device-attacker");
+    const attackersCookie = issueDeviceCookie(attackersOwn.email, process.env.NEXTAUTH_SECRET);
+    const forged = issueDeviceCookie(owner.email, "a secret the attacker made up");
+    const from = ip();
+    for (let i = 0; i < MAX_FAILURES_PER_EMAIL; i++) {
+      expect(await attempt(owner.email, `guess-${i}`, from, i % 2 ? attackersCookie : forged)).toBe("wrong");
+    }
+    expect(await attempt(owner.email, PASSWORD, ip(), attackersCookie)).toBe("throttled");
+    expect(await attempt(owner.email, PASSWORD, ip(), forged)).toBe("throttled");
+    expect(await attempt(owner.email, PASSWORD, ip())).toBe("throttled");
+  });
+
+  it("keeps the per-network limit for untrusted clients, while a browser with its device cookie still signs in from that network", async () => {
+    const noisy = ip();
+    for (let i = 0; i < MAX_FAILURES_PER_IP; i++) expect(await attempt(`${unique("spray2")}@tessera-test.invalid`, "password1", noisy)).toBe("wrong");
+    const user = await makeUser("same-office");
+    expect(await attempt(user.email, PASSWORD, noisy)).toBe("throttled");
+    expect(await attempt(user.email, PASSWORD, noisy, issueDeviceCookie(user.email, process.env.NEXTAUTH_SECRET))).toBe("signed in");
   });
 
   it("tells the refused person plainly what happened and how long to wait, without saying whether the password was right", () => {

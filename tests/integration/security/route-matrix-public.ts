@@ -1,6 +1,7 @@
 import { randomBytes } from "node:crypto";
 import { NextRequest } from "next/server";
 import { QueryTypes } from "sequelize";
+import { verifySignIn } from "@/lib/auth/credentials";
 import { db } from "@/lib/db";
 import { signUnsubscribeToken } from "@/lib/digests/token";
 import { makeUser, PASSWORD } from "@/tests/integration/auth/fixtures";
@@ -46,6 +47,29 @@ async function attemptsFor(email: string): Promise<number> {
   const rows = await db().query<{ n: number }>("SELECT count(*)::int AS n FROM login_attempts WHERE email = $1", { bind: [email], type: QueryTypes.SELECT });
   return rows[0]?.n ?? 0;
 }
+
+async function accountExists(email: string): Promise<boolean> {
+  const rows = await db().query("SELECT 1 FROM users WHERE email = $1", { bind: [email], type: QueryTypes.SELECT });
+  return rows.length > 0;
+}
+
+async function sessionVersionOf(userId: number): Promise<number | null> {
+  const rows = await db().query<{ v: number }>("SELECT session_version AS v FROM users WHERE id = $1", { bind: [userId], type: QueryTypes.SELECT });
+  return rows[0]?.v ?? null;
+}
+
+const changePasswordCall = (handler: Handler, body: unknown) =>
+  handler(
+    new Request(`${BASE}/api/account/password`, {
+      method: "POST",
+      // A network of its own per call, so the wrong-password case never counts against a shared address.
+      headers: { "content-type": "application/json", "x-forwarded-for": clientIp() },
+      body: JSON.stringify(body),
+    }),
+    {
+      params: Promise.resolve({}),
+    },
+  );
 
 async function roleOf(world: World, email: string): Promise<string | null> {
   const rows = await db().query<{ role: string }>(
@@ -302,6 +326,81 @@ export const PUBLIC_ROWS: PublicRow[] = [
           signInAs(user);
           const response = await accept(handler, { token: invitation.token });
           expect(await roleOf(world, user.email)).toBe("economist");
+          return response;
+        },
+      },
+      {
+        name: "a new address's invitation, signed in as someone else (a manager of another workspace), gets 403, no account and no membership",
+        status: 403,
+        run: async ({ handler, world, signInAs }) => {
+          const invitation = await pendingInvitation(world);
+          signInAs(world.outsider);
+          const response = await accept(handler, { token: invitation.token, name: "Not Me", password: "a long new password" });
+          expect(await accountExists(invitation.email)).toBe(false);
+          expect(await roleOf(world, world.outsider.email)).toBeNull();
+          return response;
+        },
+      },
+    ],
+  },
+  {
+    kind: "public",
+    route: "app/api/account/password/route.ts",
+    method: "POST",
+    rule: "the signed-in user's own password (no workspace): requireUser; the current password must be given; a change ends every session issued before (users.session_version)",
+    readsBodyItself: "a user-level route has no workspace membership for memberRoute to check; the body is parsed with changePasswordSchema (lib/auth/schemas.ts)",
+    cases: [
+      {
+        name: "a signed-out visitor gets 401 and nothing changes",
+        status: 401,
+        run: ({ handler }) => changePasswordCall(handler, { currentPassword: PASSWORD, newPassword: "a brand new password" }),
+        check: async (response) => expect(await response.json()).toEqual({ error: "Sign in to continue." }),
+      },
+      {
+        name: "malformed JSON gets 400",
+        status: 400,
+        run: async ({ handler, signInAs }) => {
+          signInAs(await makeUser("matrix-pw-json"));
+          return handler(new Request(`${BASE}/api/account/password`, { method: "POST", headers: { "content-type": "application/json" }, body: "{current" }), { params: Promise.resolve({}) });
+        },
+      },
+      {
+        name: "a new password that is too short gets 400 naming newPassword; the password and sessions stay",
+        status: 400,
+        invalidBody: true,
+        run: async ({ handler, signInAs }) => {
+          const user = await makeUser("matrix-pw-short");
+          signInAs(user);
+          const response = await changePasswordCall(handler, { currentPassword: PASSWORD, newPassword: "short" });
+          expect(await sessionVersionOf(user.id)).toBe(0);
+          return response;
+        },
+        check: async (response) => expect(await response.json()).toMatchObject({ field: "newPassword" }),
+      },
+      {
+        name: "a wrong current password gets 400 naming currentPassword, counts as a failed attempt, and changes nothing",
+        status: 400,
+        run: async ({ handler, signInAs }) => {
+          const user = await makeUser("matrix-pw-wrong");
+          signInAs(user);
+          const response = await changePasswordCall(handler, { currentPassword: "not the password at all", newPassword: "a brand new password" });
+          expect(await sessionVersionOf(user.id)).toBe(0);
+          expect(await attemptsFor(user.email)).toBe(1);
+          expect((await verifySignIn(user.email, PASSWORD, clientIp())).ok).toBe(true);
+          return response;
+        },
+        check: async (response) => expect(await response.json()).toMatchObject({ field: "currentPassword" }),
+      },
+      {
+        name: "the right current password gets 200: the new password works, the old does not, and every earlier session has ended",
+        status: 200,
+        run: async ({ handler, signInAs }) => {
+          const user = await makeUser("matrix-pw-ok");
+          signInAs(user);
+          const response = await changePasswordCall(handler, { currentPassword: PASSWORD, newPassword: "a brand new password" });
+          expect(await sessionVersionOf(user.id)).toBe(1);
+          expect((await verifySignIn(user.email, PASSWORD, clientIp())).ok).toBe(false);
+          expect((await verifySignIn(user.email, "a brand new password", clientIp())).ok).toBe(true);
           return response;
         },
       },

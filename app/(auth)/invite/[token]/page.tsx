@@ -42,11 +42,10 @@ export default async function InvitePage({ params }: { params: Promise<{ token: 
         <p className="mt-1 text-ink-400">{ROLE_SUMMARIES[invitation.role]}</p>
       </div>
 
-      {!invitation.accountExists ? (
-        <AcceptInvitation token={token} email={invitation.email} mode="create" />
-      ) : signedInAsInvitee ? (
+      {signedInAsInvitee ? (
         <AcceptInvitation token={token} email={invitation.email} mode="accept" />
       ) : session ? (
+        // Signed in as someone else: never offer to join or to create the invitee's account from this session.
         <div className="mt-6 space-y-4 text-sm text-ink-600">
           <p role="alert">
             This invitation is for {invitation.email}, but you are signed in as {session.email}. Sign out, then open the link
@@ -56,6 +55,8 @@ export default async function InvitePage({ params }: { params: Promise<{ token: 
             <SignOutButton />
           </div>
         </div>
+      ) : !invitation.accountExists ? (
+        <AcceptInvitation token={token} email={invitation.email} mode="create" />
       ) : (
         <div className="mt-6">
           <p className="text-sm text-ink-600">You already have a Tessera account. Sign in to accept.</p>
