@@ -1,6 +1,10 @@
 import { QueryTypes } from "sequelize";
 import { POST as acceptRoute } from "@/app/api/invitations/accept/route";
 import { POST as postInvitation } from "@/app/api/workspaces/[slug]/invitations/route";
+import InvitePage from "@/app/(auth)/invite/[token]/page";
+import { AcceptInvitation } from "@/components/auth/accept-invitation";
+import { SignInForm } from "@/components/auth/sign-in-form";
+import { SignOutButton } from "@/components/shell/sign-out-button";
 import { authorizeMember } from "@/lib/auth/guard";
 import { verifySignIn } from "@/lib/auth/credentials";
 import { getSessionUser } from "@/lib/auth/session";
@@ -32,6 +36,18 @@ async function accept(body: Record<string, unknown>) {
     }),
   );
   return { status: response.status, body: (await response.json()) as Record<string, unknown> };
+}
+
+/** The component types in a rendered server component's element tree (client components are not run). */
+function componentsIn(node: unknown, found: unknown[] = []): unknown[] {
+  if (Array.isArray(node)) {
+    for (const child of node) componentsIn(child, found);
+  } else if (node && typeof node === "object" && "props" in node) {
+    const element = node as { type: unknown; props: { children?: unknown } };
+    if (typeof element.type === "function") found.push(element.type);
+    componentsIn(element.props.children, found);
+  }
+  return found;
 }
 
 async function managerContext() {
@@ -135,6 +151,79 @@ describe("invitations", () => {
     sessionMock.mockResolvedValue({ id: existing.id, email: existing.email, name: existing.name });
     expect(await accept({ token })).toEqual({ status: 200, body: { workspaceSlug: workspace.slug, email: existing.email, createdAccount: false } });
     expect((await authorizeMember(existing.id, workspace.slug, "data.curate")).role).toBe("steward");
+  });
+
+  describe("a captured or forwarded link used by a manager of another workspace, signed in as themselves", () => {
+    /** Everything the link could have changed: accounts, memberships in either workspace, the invitation itself. */
+    async function snapshot(workspaceIds: number[], invitee: string, token: string) {
+      const [counts] = await db().query<{ memberships: number; invitee: number }>(
+        `SELECT (SELECT count(*)::int FROM memberships WHERE workspace_id = ANY($1::int[])) AS memberships,
+                (SELECT count(*)::int FROM users WHERE email = $2) AS invitee`,
+        { bind: [workspaceIds, invitee], type: QueryTypes.SELECT },
+      );
+      return { ...counts, state: (await viewInvitation(token)).state };
+    }
+
+    async function setting() {
+      const victim = await managerContext();
+      const other = await makeWorkspace({ rival: "manager" });
+      const rival = other.users.rival;
+      sessionMock.mockResolvedValue({ id: rival.id, email: rival.email, name: rival.name });
+      return { victim, other, rival };
+    }
+
+    it("cannot create the invitee's account or join anyone when the address has no account yet", async () => {
+      const { victim, other, rival } = await setting();
+      const invitee = uniqueAddress("captured-new");
+      const { token } = await createInvitation(victim.member, invitee, "manager");
+      const before = await snapshot([victim.workspace.id, other.workspace.id], invitee, token);
+
+      const attempt = await accept({ token, name: "Rival Manager", password: "rival's own password" });
+      expect(attempt.status).toBe(403);
+      expect(attempt.body.error).toMatch(/signed in with another account\. Sign out/);
+      // Without a name and password either, and with the invited address itself as the "name".
+      expect((await accept({ token })).status).toBe(403);
+      expect((await accept({ token, name: invitee, password: "long enough password" })).status).toBe(403);
+
+      expect(await snapshot([victim.workspace.id, other.workspace.id], invitee, token)).toEqual(before);
+      expect(before).toMatchObject({ invitee: 0, state: "pending" });
+      await expect(authorizeMember(rival.id, victim.workspace.slug, "results.view")).rejects.toMatchObject({ status: 404 });
+
+      // The invitee, signed out, can still use their link.
+      sessionMock.mockResolvedValue(null);
+      expect(await accept({ token, name: "Real Invitee", password: "long enough password" })).toMatchObject({ status: 200, body: { email: invitee, createdAccount: true } });
+    });
+
+    it("cannot join the rival or the invitee when the address already has an account", async () => {
+      const { victim, other, rival } = await setting();
+      const invitee = await makeUser("captured-existing");
+      const { token } = await createInvitation(victim.member, invitee.email, "steward");
+      const before = await snapshot([victim.workspace.id, other.workspace.id], invitee.email, token);
+
+      const attempt = await accept({ token });
+      expect(attempt.status).toBe(403);
+      expect(attempt.body.error).toMatch(/signed in with another account/);
+      expect(await snapshot([victim.workspace.id, other.workspace.id], invitee.email, token)).toEqual(before);
+      await expect(authorizeMember(rival.id, victim.workspace.slug, "results.view")).rejects.toMatchObject({ status: 404 });
+      await expect(authorizeMember(invitee.id, victim.workspace.slug, "results.view")).rejects.toMatchObject({ status: 404 });
+      expect(before.state).toBe("pending");
+    });
+
+    it("is shown, on the invitation page, a sign-out prompt and neither the create-account nor the accept form", async () => {
+      const { victim } = await setting();
+      const fresh = await createInvitation(victim.member, uniqueAddress("captured-view"), "economist");
+      const existing = await createInvitation(victim.member, (await makeUser("captured-view-existing")).email, "economist");
+      for (const { token } of [fresh, existing]) {
+        const shown = componentsIn(await InvitePage({ params: Promise.resolve({ token }) }));
+        expect(shown).toContain(SignOutButton);
+        expect(shown).not.toContain(AcceptInvitation);
+        expect(shown).not.toContain(SignInForm);
+      }
+      // Signed out, the same links offer the create form and the sign-in form respectively.
+      sessionMock.mockResolvedValue(null);
+      expect(componentsIn(await InvitePage({ params: Promise.resolve({ token: fresh.token }) }))).toContain(AcceptInvitation);
+      expect(componentsIn(await InvitePage({ params: Promise.resolve({ token: existing.token }) }))).toContain(SignInForm);
+    });
   });
 
   it("only the newest invitation to an address works", async () => {
