@@ -128,8 +128,11 @@ describe("security headers on the running app", () => {
     expect(await session.page.evaluate(() => document.cookie)).not.toContain("session-token");
   });
 
-  it(`refuses the right password after ${MAX_FAILURES_PER_EMAIL} wrong ones, and the form says why`, async () => {
+  it(`refuses the right password after ${MAX_FAILURES_PER_EMAIL} wrong ones in a browser that never signed in as that address, and the form says why`, async () => {
     const user = await makeUser("browser-guessed");
+    // A fresh browser has no device cookie for this address, so it is an untrusted
+    // client: the wrong guesses lock it out (lib/auth/throttle.ts). A browser holding
+    // the owner's device cookie would still sign in; tests/integration/security/hostile-sign-in.test.ts holds that.
     session = await openBrowser();
     const { page, context } = session;
     // An address of its own (a documentation range), so this test's failures do not count
