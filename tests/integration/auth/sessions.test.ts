@@ -3,6 +3,8 @@ import { QueryTypes } from "sequelize";
 import { GET as authGet, POST as authPost } from "@/app/api/auth/[...nextauth]/route";
 import { POST as changePasswordRoute } from "@/app/api/account/password/route";
 import { GET as digestsGet } from "@/app/api/w/[slug]/digests/route";
+import SignInPage from "@/app/(auth)/sign-in/page";
+import { SignInForm } from "@/components/auth/sign-in-form";
 import { deviceCookieName, verifyDeviceCookie } from "@/lib/auth/device-cookie";
 import { authorizeMember, requireUser } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
@@ -126,6 +128,53 @@ describe("device cookie from the sign-in route", () => {
     const other = await makeUser("other-on-same-browser");
     const theirs = await signIn(other.email, PASSWORD, { [DEVICE()]: first.jar[DEVICE()] });
     expect(verifyDeviceCookie(theirs.jar[DEVICE()], other.email, process.env.NEXTAUTH_SECRET)).not.toBeNull();
+  });
+});
+
+describe("next-auth's redirect after signing in", () => {
+  it.each(["//evil.example/w/x/desk", "/\\evil.example", "///evil.example", "/%2F%2Fevil.example", "https://evil.example/", "javascript:alert(1)"])(
+    "sends a sign-in with callbackUrl %j to this site's home page",
+    async (callbackUrl) => {
+      const user = await makeUser("redirect");
+      const c = await csrf();
+      const response = await auth("POST", ["callback", "credentials"], {
+        cookies: c.cookies,
+        form: { email: user.email, password: PASSWORD, csrfToken: c.token, callbackUrl, json: "true" },
+      });
+      expect(setCookies(response).values[SESSION]).toBeTruthy();
+      expect(((await response.json()) as { url: string }).url).toBe(`${new URL(APP()).origin}/`);
+    },
+  );
+
+  it("hands the sign-in form only this site's paths (the sign-in page)", async () => {
+    const formCallback = async (callbackUrl: string) => {
+      let seen: unknown;
+      await callInRequestScope(
+        async () => {
+          const tree = (await SignInPage({ searchParams: Promise.resolve({ callbackUrl }) })) as { props: { children: unknown[] } };
+          seen = tree.props.children.flat().find((c) => (c as { type?: unknown })?.type === SignInForm);
+          return new Response("rendered");
+        },
+        request("/sign-in"),
+        "/sign-in/page",
+        {},
+      );
+      return (seen as { props: { callbackUrl: string } }).props.callbackUrl;
+    };
+    expect(await formCallback("//evil.example")).toBe("/");
+    expect(await formCallback("/%2F%2Fevil.example")).toBe("/");
+    expect(await formCallback("/.//evil.example")).toBe("/");
+    expect(await formCallback("/w/somewhere/desk")).toBe("/w/somewhere/desk");
+  });
+
+  it("keeps a path on this site", async () => {
+    const user = await makeUser("redirect-local");
+    const c = await csrf();
+    const response = await auth("POST", ["callback", "credentials"], {
+      cookies: c.cookies,
+      form: { email: user.email, password: PASSWORD, csrfToken: c.token, callbackUrl: "/w/somewhere/desk?x=1", json: "true" },
+    });
+    expect(((await response.json()) as { url: string }).url).toBe(`${new URL(APP()).origin}/w/somewhere/desk?x=1`);
   });
 });
 
