@@ -1,3 +1,4 @@
+import { SLUG_PATTERN } from "@/lib/http/params";
 import { models } from "@/models";
 import { can, isRole, type Capability, type Role } from "./roles";
 import { ACCESS_MESSAGES, AccessError } from "./errors";
@@ -25,6 +26,8 @@ export async function authorizeMember(
   capability: Capability,
 ): Promise<MemberContext> {
   if (userId === null) throw new AccessError(401, ACCESS_MESSAGES[401]);
+  // A slug PostgreSQL would refuse (a NUL byte) or that cannot exist is no workspace: no query for it.
+  if (typeof ref === "string" && !SLUG_PATTERN.test(ref)) throw new AccessError(404, ACCESS_MESSAGES[404]);
   const { Membership, Workspace, User } = models();
   const where = typeof ref === "number" ? { id: ref } : { slug: ref };
   const workspace = await Workspace.findOne({ where, attributes: ["id", "slug", "name"] });

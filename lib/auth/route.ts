@@ -1,5 +1,6 @@
 import type { z } from "zod";
 import { isDatabaseUnavailable } from "@/lib/db";
+import { SLUG_PATTERN } from "@/lib/http/params";
 import { UNAVAILABLE_MESSAGES } from "@/lib/service-unavailable";
 import { StorageUnavailableError, StoredFileChecksumError } from "@/lib/storage/errors";
 import { AccessError, ConflictError, NotFoundError } from "./errors";
@@ -53,6 +54,23 @@ export function errorResponse(error: unknown): Response {
   return jsonError(500, "Something went wrong on our side. Try again; if it keeps happening, tell your manager.");
 }
 
+/**
+ * Every answer of a workspace route depends on who asks, so no cache may keep
+ * it (OWASP Session Management Cheat Sheet, "Web Content Caching"); proxy.ts
+ * says the same for every /api answer, this holds it where proxy.ts does not run.
+ */
+export function noStore(response: Response): Response {
+  try {
+    response.headers.set("cache-control", "no-store");
+    return response;
+  } catch {
+    // Immutable headers (Response.redirect): copy them into a response we may change.
+    const headers = new Headers(response.headers);
+    headers.set("cache-control", "no-store");
+    return new Response(response.body, { status: response.status, statusText: response.statusText, headers });
+  }
+}
+
 async function readJson(request: Request): Promise<{ ok: true; value: unknown } | { ok: false }> {
   const text = await request.text();
   if (text.trim() === "") return { ok: true, value: {} };
@@ -67,11 +85,14 @@ export function memberRoute<Schema extends z.ZodType | undefined = undefined>(
   options: { capability: Capability; body?: Schema; workspaceParam?: string },
   handler: MemberHandler<Schema extends z.ZodType ? z.infer<Schema> : undefined>,
 ) {
-  return async (request: Request, context: RouteContext): Promise<Response> => {
+  const answer = async (request: Request, context: RouteContext): Promise<Response> => {
     try {
       const params = await context.params;
-      const ref = params[options.workspaceParam ?? "slug"];
+      const slugParam = options.workspaceParam ?? "slug";
+      const ref = params[slugParam];
       if (typeof ref !== "string") return jsonError(404, "There is no such workspace, or you are not a member of it.");
+      // Only the shape is checked here, which tells a caller nothing about which workspaces exist.
+      if (!SLUG_PATTERN.test(ref)) return jsonError(400, `${slugParam}: not a workspace address (lowercase letters, digits and hyphens)`, { field: slugParam });
       const member = await requireMember(ref, options.capability);
       let body: unknown = undefined;
       if (options.body) {
@@ -91,4 +112,8 @@ export function memberRoute<Schema extends z.ZodType | undefined = undefined>(
       return errorResponse(error);
     }
   };
+  const route = async (request: Request, context: RouteContext): Promise<Response> => noStore(await answer(request, context));
+  // The schema travels with the handler so the route fuzzer
+  // (tests/integration/security/fuzz-routes.test.ts) mutates exactly the fields this route parses.
+  return Object.assign(route, { bodySchema: options.body });
 }

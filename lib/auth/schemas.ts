@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { idText, SLUG_PATTERN, text } from "@/lib/http/params";
 import { ROLES } from "./roles";
 
 // Shared by route handlers and the forms that call them, so the browser and
@@ -44,10 +45,11 @@ export type ChangeRoleInput = z.infer<typeof changeRoleSchema>;
 export const acceptInvitationSchema = z.object({
   token: z.string().min(1, "The invitation link is incomplete.").max(200),
   // Only for someone without an account yet; an existing user accepts while signed in.
-  name: z.string().trim().min(1, "Enter your name.").max(200, "Use at most 200 characters for your name.").optional(),
+  name: text({ min: 1, max: 200, empty: "Enter your name.", tooLong: "Use at most 200 characters for your name." }).optional(),
   password: passwordSchema.optional(),
 });
 export type AcceptInvitationInput = z.infer<typeof acceptInvitationSchema>;
 
-export const slugSchema = z.string().regex(/^[a-z0-9][a-z0-9-]{0,63}$/, "Not a workspace address.");
-export const idParamSchema = z.coerce.number({ error: "Not a valid id." }).int().positive("Not a valid id.");
+export const slugSchema = z.string().regex(SLUG_PATTERN, "Not a workspace address.");
+/** A row id in a URL segment; the one parser of lib/http/params.ts. */
+export const idParamSchema = idText();

@@ -27,7 +27,9 @@ import { copyObject, deleteObject, getObjectBytes, getObjectStream, headObject, 
 import { models } from "@/models";
 import type { UploadKind } from "@/models/intake-types";
 import { inspectBoundaries, loadBoundaries, BoundaryError, type BoundarySummary } from "./boundaries";
+import { id, idText, text, uuidText } from "@/lib/http/params";
 import { normaliseHeader } from "./mapping";
+import { PREVIEW_RULES } from "./queries";
 import { readPanelHeader, type PanelPreview } from "./preview";
 import { columnMappingSchema, decimalSchema, type ColumnMapping } from "./schemas";
 import { StorageQuotaError, lockWorkspaceQuota, quotaRefusal, workspaceStorageUsed } from "./storage-quota";
@@ -70,7 +72,7 @@ const sha256Schema = z
 
 export const createUploadSchema = z.object({
   kind: z.enum(["boundaries", "panel"]),
-  fileName: z.string().trim().min(1, "the file needs a name").max(255, "the file name is longer than 255 characters"),
+  fileName: text({ min: 1, max: 255, empty: "the file needs a name", tooLong: "the file name is longer than 255 characters" }),
   size: z
     .number()
     .int()
@@ -83,11 +85,11 @@ export type CreateUploadInput = z.infer<typeof createUploadSchema>;
 export const createBoundaryVersionSchema = z
   .object({
     uploadId: z.string().uuid("uploadId is not an upload id"),
-    boundarySetId: z.number().int().positive().optional(),
-    setName: z.string().trim().min(1, "name the boundary set").max(200).optional(),
-    objectName: z.string().trim().min(1, "choose the object that holds the regions").max(200),
-    idProperty: z.string().trim().min(1, "choose the property that holds the region code").max(200),
-    nameProperty: z.string().trim().min(1).max(200).nullable().optional(),
+    boundarySetId: id().optional(),
+    setName: text({ min: 1, max: 200, empty: "name the boundary set" }).optional(),
+    objectName: text({ min: 1, max: 200, empty: "choose the object that holds the regions" }),
+    idProperty: text({ min: 1, max: 200, empty: "choose the property that holds the region code" }),
+    nameProperty: text({ min: 1, max: 200 }).nullable().optional(),
   })
   .refine((v) => v.boundarySetId !== undefined || v.setName !== undefined, { message: "choose a boundary set or name a new one", path: ["setName"] });
 export type CreateBoundaryVersionInput = z.infer<typeof createBoundaryVersionSchema>;
@@ -95,12 +97,12 @@ export type CreateBoundaryVersionInput = z.infer<typeof createBoundaryVersionSch
 export const createPanelVersionSchema = z
   .object({
     uploadId: z.string().uuid("uploadId is not an upload id"),
-    panelId: z.number().int().positive().optional(),
-    panelName: z.string().trim().min(1, "name the panel").max(200).optional(),
+    panelId: id().optional(),
+    panelName: text({ min: 1, max: 200, empty: "name the panel" }).optional(),
     /** For a new panel: the boundary set its regions come from. */
-    boundarySetId: z.number().int().positive().optional(),
+    boundarySetId: id().optional(),
     /** The boundary version to match against; default the newest published (else validated) version of the set. */
-    boundaryVersionId: z.number().int().positive().optional(),
+    boundaryVersionId: id().optional(),
     decimal: decimalSchema.default("."),
     mapping: columnMappingSchema,
     remember: z.boolean().default(true),
@@ -110,15 +112,32 @@ export const createPanelVersionSchema = z
 export type CreatePanelVersionInput = z.infer<typeof createPanelVersionSchema>;
 
 export const indicatorPatchSchema = z.object({
-  label: z.string().trim().min(1, "the label cannot be empty").max(200),
-  unit: z.string().trim().max(80).nullable().default(null),
-  description: z.string().trim().max(4000).nullable().default(null),
-  source: z.string().trim().max(400).nullable().default(null),
+  label: text({ min: 1, max: 200, empty: "the label cannot be empty" }),
+  unit: text({ max: 80 }).nullable().default(null),
+  description: text({ max: 4000, multiline: true }).nullable().default(null),
+  source: text({ max: 400 }).nullable().default(null),
   higherIsBetter: z.boolean().nullable().default(null),
 });
 export type IndicatorPatch = z.infer<typeof indicatorPatchSchema>;
 
-export const versionKindSchema = z.enum(["boundaries", "panel"]);
+export const versionKindSchema = z.enum(["boundaries", "panel"], { error: "must be boundaries or panel" });
+
+/** An indicator's code as it appears in URLs and run choices. */
+export const indicatorCodeSchema = text({ min: 1, max: 120, empty: "the indicator code must have 1 to 120 characters", tooLong: "the indicator code must have 1 to 120 characters" });
+
+/** Path parameters of …/indicators/[code]. */
+export const indicatorParamsSchema = z.object({ code: indicatorCodeSchema });
+
+/** Path parameters of …/uploads/[uploadId]/…. */
+export const uploadParamsSchema = z.object({ uploadId: uuidText() });
+
+/** Path parameters of …/versions/[kind]/[versionId]. */
+export const versionParamsSchema = z.object({ kind: versionKindSchema, versionId: idText() });
+
+/** Search parameters of the neighbours preview (GET …/boundaries/[versionId]/weights). */
+export const weightsPreviewQuerySchema = z.object({
+  rule: z.string().regex(PREVIEW_RULES, "use queen, rook, knn:K (K from 1 to 99), band or band:D").default("queen"),
+});
 export type VersionKind = z.infer<typeof versionKindSchema>;
 
 // ---------------------------------------------------------------- uploads
@@ -643,8 +662,9 @@ const INDICATOR_FIELDS = ["label", "unit", "description", "source", "higherIsBet
 
 /** Creates or updates one indicator's metadata. */
 export async function saveIndicator(member: MemberContext, code: string, patch: IndicatorPatch) {
-  const trimmed = code.trim();
-  if (trimmed === "" || trimmed.length > 120) throw new IntakeInputError("the indicator code must have 1 to 120 characters", "code");
+  const parsed = indicatorCodeSchema.safeParse(code);
+  if (!parsed.success) throw new IntakeInputError(`code: ${parsed.error.issues[0]?.message ?? "not an indicator code"}`, "code");
+  const trimmed = parsed.data;
   const { Indicator } = models();
   return db().transaction(async (transaction) => {
     const [row, created] = await Indicator.findOrCreate({
@@ -669,10 +689,4 @@ export async function withIntakeErrors(work: () => Promise<Response>): Promise<R
     if (response) return response;
     throw error;
   }
-}
-
-/** A positive integer id from a URL segment, or null. */
-export function idParam(value: string | string[] | undefined): number | null {
-  const parsed = z.coerce.number().int().positive().max(2_147_483_647).safeParse(value);
-  return parsed.success ? parsed.data : null;
 }

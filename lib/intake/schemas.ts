@@ -3,8 +3,10 @@
  * boundary selection, and the CLI arguments. The web forms reuse these.
  */
 import { z } from "zod";
+import { text } from "@/lib/http/params";
 
-const columnName = z.string().trim().min(1, "a column name is required");
+// Stored as jsonb, where PostgreSQL refuses NUL: the shared text block refuses control characters.
+const columnName = text({ min: 1, max: 500, empty: "a column name is required" });
 
 /** Long layout: one observation per row (region, period, indicator, value). */
 export const longMappingSchema = z.object({

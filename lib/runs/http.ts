@@ -19,11 +19,6 @@ export function parseSearch<S extends z.ZodType>(request: Request, schema: S): {
   return { ok: true, value: parsed.data };
 }
 
-/** A positive integer route parameter, or null. */
-export function idParam(value: string | string[] | undefined): number | null {
-  return typeof value === "string" && /^\d{1,9}$/.test(value) ? Number(value) : null;
-}
-
 /**
  * Resolves the run that analysed `indicator` (the given one, or the latest
  * completed) and answers with `respond(run)`; 404 when there is none, and

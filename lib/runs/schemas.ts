@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { idText, PG_INT4_MAX, text } from "@/lib/http/params";
 import { parseWeightsSpecification } from "@/lib/spatial";
 
 // Parameters of a run, shared by the start form, the route handler, the job
@@ -46,7 +47,7 @@ const weightsRule = z
     }
   });
 
-const code = z.string().trim().min(1).max(120);
+const code = text({ min: 1, max: 120 });
 
 /** What a user chooses (start form, API body). */
 export const runParamsInputSchema = z.object({
@@ -74,7 +75,7 @@ export type RunParamsChoice = z.output<typeof runParamsInputSchema>;
 
 /** The body of POST /api/w/[slug]/runs. */
 export const startRunSchema = runParamsInputSchema.extend({
-  panelVersionId: z.coerce.number().int().positive("Choose a published panel version."),
+  panelVersionId: z.coerce.number().int("Choose a published panel version.").min(1, "Choose a published panel version.").max(PG_INT4_MAX, "Choose a published panel version."),
 });
 export type StartRunInput = z.input<typeof startRunSchema>;
 
@@ -111,13 +112,10 @@ export function freshSeed(): number {
 
 // ——— Search parameters of the read endpoints ———
 
-const optionalRunId = z
-  .string()
-  .regex(/^\d+$/, "run must be a run number.")
-  .transform(Number)
-  .nullable()
-  .default(null);
-const period = z.string().trim().min(1).max(120);
+// Run numbers go to PostgreSQL as int4: one beyond its range was a 500.
+const runNumber = idText("run must be a run number.");
+const optionalRunId = runNumber.nullable().default(null);
+const period = text({ min: 1, max: 120 });
 
 export const SIGNIFICANCE_CLASSES = ["clustering", "dispersion", "not-significant"] as const;
 
@@ -130,13 +128,13 @@ export const catalogueQuerySchema = z.object({
     .pipe(z.array(z.enum(SIGNIFICANCE_CLASSES, { message: "class must be clustering, dispersion or not-significant." }))),
   from: period.nullable().default(null),
   to: period.nullable().default(null),
-  q: z.string().trim().max(200).nullable().default(null),
+  q: text({ max: 200 }).nullable().default(null),
 });
 
-export const timelineQuerySchema = z.object({ indicator: z.string().trim().min(1).max(120), run: optionalRunId });
+export const timelineQuerySchema = z.object({ indicator: text({ min: 1, max: 120 }), run: optionalRunId });
 export const periodQuerySchema = timelineQuerySchema.extend({ period });
 export const compareQuerySchema = timelineQuerySchema.extend({ a: period, b: period });
-export const geometryQuerySchema = z.object({ run: z.string().regex(/^\d+$/, "run must be a run number.").transform(Number) });
+export const geometryQuerySchema = z.object({ run: runNumber });
 
 /** Reads URLSearchParams into a plain object (absent keys stay absent, so defaults apply). */
 export function searchObject(url: string): Record<string, string> {

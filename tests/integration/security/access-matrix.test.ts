@@ -2,7 +2,7 @@ import { readdirSync, readFileSync } from "node:fs";
 import path from "node:path";
 import { ACCESS_MESSAGES } from "@/lib/auth/errors";
 import { CAPABILITIES, ROLES, can } from "@/lib/auth/roles";
-import { getSessionUser, type SessionUser } from "@/lib/auth/session";
+import { getSessionUser } from "@/lib/auth/session";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
@@ -14,12 +14,10 @@ import {
   SERVER_ACTION_FILES,
   WORKSPACE_ROWS,
   urlOf,
-  type Call,
-  type Method,
   type PublicRow,
   type WorkspaceRow,
 } from "./route-matrix";
-import type { Handler } from "./route-matrix-public";
+import { bodyOf, handlerOf, routeModule, send, signedInAs as signSessionAs, signInCaller as signSessionCaller } from "./route-calls";
 
 // Every route handler, called in-process with a real Request as each role,
 // as a manager of another workspace and signed out, against the real
@@ -43,13 +41,11 @@ afterAll(async () => {
 });
 
 function signedInAs(user: { id: number; email: string; name: string } | null): void {
-  sessionMock.mockResolvedValue(user ? ({ id: user.id, email: user.email, name: user.name } satisfies SessionUser) : null);
+  signSessionAs(sessionMock, user);
 }
 
 function signInCaller(caller: Caller): void {
-  if (caller === "signed-out") signedInAs(null);
-  else if (caller === "outsider") signedInAs(world.outsider);
-  else signedInAs(world.users[caller]);
+  signSessionCaller(sessionMock, world, caller);
 }
 
 /** Files under `dir` (relative to the project root) whose names match `pattern`. */
@@ -59,33 +55,6 @@ function filesUnder(dir: string, pattern: RegExp): string[] {
     .filter((entry) => entry.isFile() && pattern.test(entry.name))
     .map((entry) => path.relative(ROOT, path.join(entry.parentPath, entry.name)).split(path.sep).join("/"))
     .sort();
-}
-
-const modules = new Map<string, Record<string, unknown>>();
-async function routeModule(route: string): Promise<Record<string, unknown>> {
-  let loaded = modules.get(route);
-  if (!loaded) {
-    loaded = (await import(path.join(ROOT, route))) as Record<string, unknown>;
-    modules.set(route, loaded);
-  }
-  return loaded;
-}
-
-async function handlerOf(route: string, method: Method): Promise<Handler> {
-  const handler = (await routeModule(route))[method];
-  if (typeof handler !== "function") throw new Error(`${route} exports no ${method} handler`);
-  return handler as Handler;
-}
-
-function requestFor(row: WorkspaceRow, call: Call, rawBody?: string): Request {
-  const url = `http://tessera.test${urlOf(row.route).replace(/\[(\w+)\]/g, (_, name: string) => call.params[name] ?? name)}${call.search !== undefined ? `?${call.search}` : ""}`;
-  const body = rawBody ?? (call.body === undefined ? undefined : JSON.stringify(call.body));
-  return new Request(url, { method: row.method, headers: body === undefined ? {} : { "content-type": "application/json" }, body });
-}
-
-async function send(row: WorkspaceRow, call: Call, rawBody?: string): Promise<Response> {
-  const handler = await handlerOf(row.route, row.method);
-  return handler(requestFor(row, call, rawBody), { params: Promise.resolve(call.params) });
 }
 
 function expectedStatus(row: WorkspaceRow, caller: Caller): number {
@@ -102,16 +71,6 @@ const CALLER_LABELS: Record<Caller, string> = {
   outsider: "manager of another workspace",
   "signed-out": "signed-out visitor",
 };
-
-/** The body of a response, as JSON when it is JSON; for messages in failures. */
-async function bodyOf(response: Response): Promise<unknown> {
-  const text = await response.text();
-  try {
-    return JSON.parse(text);
-  } catch {
-    return text.slice(0, 300);
-  }
-}
 
 describe("the matrix lists every route handler and server action", () => {
   it("has a row for every (route file, exported method) pair and none for a pair that is gone", async () => {

@@ -12,8 +12,8 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
   try {
     const run = await getRun(member.workspace.id, search.value.run);
     if (!run) return jsonError(404, `There is no run ${search.value.run} in this workspace.`);
-    // Boundary versions never change, so the browser may keep this for a day.
-    return Response.json(await mapGeometry(run), { headers: { "cache-control": "private, max-age=86400" } });
+    // Not cached by the browser, though boundary versions never change: like every signed-in answer it is no-store (memberRoute).
+    return Response.json(await mapGeometry(run));
   } catch (error) {
     return runsError(error);
   }

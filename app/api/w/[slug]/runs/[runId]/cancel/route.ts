@@ -1,10 +1,12 @@
-import { jsonError, memberRoute } from "@/lib/auth/route";
-import { idParam, runsError } from "@/lib/runs/http";
+import { memberRoute } from "@/lib/auth/route";
+import { parseIdParam } from "@/lib/http/params";
+import { runsError } from "@/lib/runs/http";
 import { cancelRun } from "@/lib/runs/service";
 
 export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, params }) => {
-  const runId = idParam(params.runId);
-  if (runId === null) return jsonError(404, `There is no run ${String(params.runId)} in this workspace.`);
+  const parsed = parseIdParam(params, "runId");
+  if (!parsed.ok) return parsed.response;
+  const runId = parsed.value;
   try {
     await cancelRun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, runId });
     return Response.json({ runId, state: "cancelled" });

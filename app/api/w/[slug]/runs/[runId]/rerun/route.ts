@@ -1,11 +1,13 @@
-import { jsonError, memberRoute } from "@/lib/auth/route";
-import { idParam, runsError } from "@/lib/runs/http";
+import { memberRoute } from "@/lib/auth/route";
+import { parseIdParam } from "@/lib/http/params";
+import { runsError } from "@/lib/runs/http";
 import { rerun } from "@/lib/runs/service";
 import { limitAction } from "@/lib/security/rate-limits";
 
 export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, params }) => {
-  const runId = idParam(params.runId);
-  if (runId === null) return jsonError(404, `There is no run ${String(params.runId)} in this workspace.`);
+  const parsed = parseIdParam(params, "runId");
+  if (!parsed.ok) return parsed.response;
+  const runId = parsed.value;
   // Counted with starts: a rerun e-mails after-run subscribers as a new run does.
   const limited = await limitAction("run-start", member.user.id);
   if (limited) return limited;

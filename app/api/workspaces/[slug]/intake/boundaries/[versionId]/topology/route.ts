@@ -1,17 +1,22 @@
 import { can } from "@/lib/auth/roles";
 import { jsonError, memberRoute } from "@/lib/auth/route";
-import { idParam } from "@/lib/intake/actions";
+import { parseIdParam } from "@/lib/http/params";
 import { boundaryVersionInWorkspace, loadBoundaryTopology } from "@/lib/intake/queries";
 
 // The stored TopoJSON of a validated boundary version, with the object and properties that hold the regions.
 export const GET = memberRoute({ capability: "results.view" }, async ({ member, params }) => {
-  const versionId = idParam(params.versionId);
-  const visible = versionId !== null && (await boundaryVersionInWorkspace(member.workspace.id, versionId, !can(member.role, "data.view-unpublished")));
-  if (!visible || versionId === null) return jsonError(404, "There are no such boundaries in this workspace.");
+  const parsed = parseIdParam(params, "versionId");
+  if (!parsed.ok) return parsed.response;
+  const versionId = parsed.value;
+  if (!(await boundaryVersionInWorkspace(member.workspace.id, versionId, !can(member.role, "data.view-unpublished")))) return jsonError(404, "There are no such boundaries in this workspace.");
   const b = await loadBoundaryTopology(versionId);
   if (b.state === "uploaded" || b.state === "rejected") return jsonError(409, "These boundaries have not passed validation, so there is nothing to draw.");
-  return Response.json(
-    { topology: b.topology, objectName: b.objectName, idProperty: b.idProperty, nameProperty: b.nameProperty, coordinates: b.coordinates, regionNames: Object.fromEntries(b.regionNames) },
-    { headers: { "Cache-Control": "private, max-age=3600" } },
-  );
+  return Response.json({
+    topology: b.topology,
+    objectName: b.objectName,
+    idProperty: b.idProperty,
+    nameProperty: b.nameProperty,
+    coordinates: b.coordinates,
+    regionNames: Object.fromEntries(b.regionNames),
+  });
 });

@@ -1,12 +1,12 @@
-import { jsonError, memberRoute } from "@/lib/auth/route";
-import { publishVersion, idParam, versionKindSchema, withIntakeErrors } from "@/lib/intake/actions";
+import { memberRoute } from "@/lib/auth/route";
+import { parseParams } from "@/lib/http/params";
+import { publishVersion, versionParamsSchema, withIntakeErrors } from "@/lib/intake/actions";
 
 // Publishes a validated version (stewards and managers); a wrong state answers 409 with the reason.
 export const POST = memberRoute({ capability: "data.curate" }, async ({ member, params }) =>
   withIntakeErrors(async () => {
-    const kind = versionKindSchema.safeParse(params.kind);
-    const versionId = idParam(params.versionId);
-    if (!kind.success || versionId === null) return jsonError(404, "There is no such version in this workspace.");
-    return Response.json(await publishVersion(member, kind.data, versionId));
+    const version = parseParams(params, versionParamsSchema);
+    if (!version.ok) return version.response;
+    return Response.json(await publishVersion(member, version.value.kind, version.value.versionId));
   }),
 );
