@@ -93,7 +93,7 @@ export const MINIMUM_REGIONS = 4;
 
 export type PeriodParams = Pick<
   ResolvedRunParams,
-  "weights" | "transform" | "islandPolicy" | "permutations" | "seed" | "alpha" | "correction" | "local"
+  "weights" | "transform" | "islandPolicy" | "permutations" | "seed" | "alpha" | "correction" | "local" | "sequentialExtremes"
 >;
 
 /**
@@ -240,7 +240,11 @@ export function computePeriod(
 }
 
 /** Local Moran with conditional permutation, plus the Moran scatter plot coordinates. */
-export function computeLocal(prepared: PreparedAnalysis, params: Pick<PeriodParams, "permutations" | "seed" | "alpha" | "correction">): LocalFields {
+export function computeLocal(
+  prepared: PreparedAnalysis,
+  params: Pick<PeriodParams, "permutations" | "seed" | "alpha" | "correction" | "sequentialExtremes">,
+): LocalFields {
+  const sequential = params.sequentialExtremes ?? null;
   const result = localMoran(prepared.values, prepared.weights, {
     permutations: params.permutations,
     random: createRandomSource(statisticSeed(params.seed, "local")),
@@ -248,6 +252,7 @@ export function computeLocal(prepared: PreparedAnalysis, params: Pick<PeriodPara
     correction: params.correction,
     moments: "conditional",
     pValueSource: "permutation",
+    sequentialExtremes: sequential,
   });
   const x = prepared.values;
   const n = x.length;
@@ -284,6 +289,14 @@ export function computeLocal(prepared: PreparedAnalysis, params: Pick<PeriodPara
     moments: "conditional",
     slope: cross / squares,
     counts,
+    // Only sequential runs carry these, so a fixed-count run stores the same JSON as before the option existed.
+    ...(sequential === null
+      ? {}
+      : {
+          sequentialExtremes: sequential,
+          permutationsUsed: result.regions.map((r) => r.permutationsUsed),
+          stopped: result.regions.filter((r) => r.permutationsUsed !== null && r.permutationsUsed < params.permutations).length,
+        }),
   };
 }
 

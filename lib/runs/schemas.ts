@@ -18,6 +18,9 @@ export const WEIGHTS_CHOICES = [
 ] as const;
 
 export const TRANSFORMS = ["row-standardised", "binary"] as const;
+
+/** Most permutations a run may use (the start form and the stored parameters). */
+export const MAX_RUN_PERMUTATIONS = 99_999;
 export const ISLAND_POLICIES = ["exclude", "keep", "attach"] as const;
 export const CORRECTIONS = ["none", "bonferroni", "fdr"] as const;
 
@@ -58,7 +61,7 @@ export const runParamsInputSchema = z.object({
     .number()
     .int("Permutations must be a whole number.")
     .min(99, "Use at least 99 permutations.")
-    .max(99_999, "Use at most 99,999 permutations.")
+    .max(MAX_RUN_PERMUTATIONS, "Use at most 99,999 permutations.")
     .default(999),
   seed: z.coerce.number().int("The seed must be a whole number.").min(0, "The seed must be 0 or more.").max(2_147_483_647).optional(),
   alpha: z.coerce.number().gt(0, "Alpha must be above 0.").max(0.2, "Alpha above 0.2 is not offered.").default(0.05),
@@ -69,6 +72,12 @@ export const runParamsInputSchema = z.object({
   periods: z.array(code).max(500).optional(),
   /** Local Moran per region (cluster maps). Off makes very large runs faster. */
   local: z.boolean().default(true),
+  /**
+   * Sequential Monte Carlo p-values for the local statistics (Besag & Clifford
+   * 1991): a region stops drawing once SEQUENTIAL_EXTREMES permuted values in
+   * each tail are as extreme as its own. Off by default.
+   */
+  sequential: z.boolean().default(false),
 });
 export type RunParamsInput = z.input<typeof runParamsInputSchema>;
 export type RunParamsChoice = z.output<typeof runParamsInputSchema>;
@@ -84,13 +93,19 @@ export const resolvedRunParamsSchema = z.object({
   weights: weightsRule,
   transform: z.enum(TRANSFORMS),
   islandPolicy: z.enum(ISLAND_POLICIES),
-  permutations: z.number().int().min(99).max(99_999),
+  permutations: z.number().int().min(99).max(MAX_RUN_PERMUTATIONS),
   seed: z.number().int().min(0).max(2_147_483_647),
   alpha: z.number().gt(0).max(0.2),
   correction: z.enum(CORRECTIONS),
   indicators: z.array(code).min(1),
   periods: z.array(code).min(1),
   local: z.boolean(),
+  /**
+   * h of sequential stopping for local Moran, present only when the run asked
+   * for sequential p-values; absent (runs before the option, or with it off)
+   * means every region used all the permutations.
+   */
+  sequentialExtremes: z.number().int().min(1).max(99_999).optional(),
   panelVersionId: z.number().int().positive(),
   boundaryVersionId: z.number().int().positive(),
   /**
@@ -98,12 +113,22 @@ export const resolvedRunParamsSchema = z.object({
    * /2: Geary's C and General G take their pseudo p-values from the same
    * permutations as Moran's I (one shared test); /1 drew them separately.
    * Every other number is the same under both. Stored /1 runs still read.
+   * Sequential p-values did not bump it: a run without `sequentialExtremes`
+   * computes exactly what /2 computed, and one with it says so itself.
    */
   method: z.enum(["tessera-runs/1", "tessera-runs/2"]),
 });
 export type ResolvedRunParams = z.output<typeof resolvedRunParamsSchema>;
 
 export const RUN_METHOD = "tessera-runs/2" as const;
+
+/**
+ * h of sequential stopping when a run asks for sequential p-values. Besag &
+ * Clifford (1991) show h of 10–20 already loses little power against the
+ * fixed-count test; 20 is the careful end of that common practice. A stopped
+ * region's folded p is at least 2h/R, far above any usual alpha.
+ */
+export const SEQUENTIAL_EXTREMES = 20;
 
 /** A fresh seed for a run whose user left the seed empty (stored, so reruns repeat it). */
 export function freshSeed(): number {

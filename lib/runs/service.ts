@@ -11,7 +11,7 @@ import { loadBoundaryTopology, panelDimensions } from "@/lib/intake/queries";
 import { weightsFromTopology } from "@/lib/spatial";
 import { db } from "@/lib/db";
 import { QueryTypes, type Transaction } from "sequelize";
-import { freshSeed, RUN_METHOD, resolvedRunParamsSchema, type ResolvedRunParams, type RunParamsChoice } from "./schemas";
+import { freshSeed, RUN_METHOD, resolvedRunParamsSchema, SEQUENTIAL_EXTREMES, type ResolvedRunParams, type RunParamsChoice } from "./schemas";
 import { cancelRun as cancelRunRow, failRunAtStart, insertRun, setPieceJobIds } from "./store";
 import { weightsProblem } from "./weights-check";
 
@@ -104,6 +104,8 @@ export async function resolveRunParams(workspaceId: number, panelVersionId: numb
     indicators: [...indicators].sort(),
     periods,
     local: choice.local,
+    // Only with local statistics, and only when asked: a run without it stores exactly the parameters it always did.
+    ...(choice.local && choice.sequential ? { sequentialExtremes: SEQUENTIAL_EXTREMES } : {}),
     panelVersionId,
     boundaryVersionId: version.boundary_version_id,
     method: RUN_METHOD,
@@ -167,6 +169,7 @@ function paramsSummary(params: ResolvedRunParams): Record<string, unknown> {
     permutations: params.permutations,
     seed: params.seed,
     local: params.local,
+    ...(params.sequentialExtremes === undefined ? {} : { sequentialExtremes: params.sequentialExtremes }),
   };
 }
 

@@ -117,6 +117,14 @@ export interface LocalFields {
   readonly slope: number;
   /** Counts per cluster class. */
   readonly counts: Record<ClusterClass, number>;
+  /**
+   * Present only when the run used sequential p-values (Besag & Clifford
+   * 1991): h, the permutations each region drew (R unless it stopped early;
+   * null without neighbours) and how many regions stopped early.
+   */
+  readonly sequentialExtremes?: number;
+  readonly permutationsUsed?: (number | null)[];
+  readonly stopped?: number;
 }
 
 /** One indicator × period of a run, as computed by a piece (before run-wide correction). */

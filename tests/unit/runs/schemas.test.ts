@@ -10,6 +10,7 @@ describe("run parameters", () => {
       alpha: 0.05,
       correction: "fdr",
       local: true,
+      sequential: false,
     });
   });
 
