@@ -1,14 +1,11 @@
+import { STATIC_SECURITY_HEADERS } from "./lib/security/static-headers.mjs";
+
 // Security headers that never change per request, on every response including
-// static files and redirects. The Content-Security-Policy needs a fresh nonce
-// per page, so proxy.ts sets it; static files get a fixed one here instead
-// (proxy.ts does not run for them, and two CSP headers would both apply).
-const securityHeaders = [
-  { key: "X-Content-Type-Options", value: "nosniff" },
-  { key: "X-Frame-Options", value: "DENY" },
-  { key: "Referrer-Policy", value: "strict-origin-when-cross-origin" },
-  { key: "Permissions-Policy", value: "accelerometer=(), camera=(), geolocation=(), gyroscope=(), magnetometer=(), microphone=(), payment=(), usb=()" },
-  { key: "Cross-Origin-Opener-Policy", value: "same-origin" },
-];
+// static files. The Content-Security-Policy needs a fresh nonce per page, so
+// proxy.ts sets it (with these headers again, and Cache-Control, on every
+// answer it gives, redirects included); static files get a fixed one here
+// instead (proxy.ts does not run for them, and two CSP headers would both apply).
+const securityHeaders = [...STATIC_SECURITY_HEADERS];
 
 /** @type {import('next').NextConfig} */
 const nextConfig = {
@@ -17,6 +14,8 @@ const nextConfig = {
   poweredByHeader: false,
   typescript: { tsconfigPath: "tsconfig.build.json" },
   reactStrictMode: true,
+  // proxy.ts answers the trailing-slash redirect itself, so the 308 carries every security header.
+  skipTrailingSlashRedirect: true,
   // forbidden() from next/navigation, so a member whose role is too small gets a real 403 page.
   experimental: { authInterrupts: true },
   async headers() {

@@ -3,6 +3,7 @@ import { withAuth, type NextRequestWithAuth } from "next-auth/middleware";
 import { env } from "@/lib/config/env";
 import { sessionCookie, isHttpsUrl } from "@/lib/security/cookies";
 import { contentSecurityPolicy, newNonce, uploadOrigin } from "@/lib/security/csp";
+import { securityHeaders, withoutTrailingSlash } from "@/lib/security/headers";
 import { crossSiteRefusal } from "@/lib/security/origin";
 
 // Three jobs, on every request but static files:
@@ -15,8 +16,11 @@ import { crossSiteRefusal } from "@/lib/security/origin";
 //    lib/auth/guard.ts on the server; API routes answer 401 themselves.
 // 3. API requests that change data and come from another site's page are
 //    refused with 403 before any handler runs (lib/security/origin.ts).
-// The other security headers (nosniff, frame options, referrer and permissions
-// policies) are static and come from next.config.mjs, for static files too.
+// Every answer it gives, redirects and refusals included, carries the CSP, the
+// static security headers (also set by next.config.mjs, which alone reaches
+// static files) and Cache-Control: no-store (lib/security/headers.ts). It also
+// answers the trailing-slash 308 itself (skipTrailingSlashRedirect), so that
+// redirect carries them too.
 
 const requireSession = withAuth({
   pages: { signIn: "/sign-in" },
@@ -37,15 +41,22 @@ function policy(nonce: string): string {
   });
 }
 
-function withSecurityHeaders<R extends Response>(response: R, csp: string): R {
-  response.headers.set("content-security-policy", csp);
-  if (isHttpsUrl(env().NEXTAUTH_URL)) response.headers.set("strict-transport-security", "max-age=31536000; includeSubDomains");
+function withSecurityHeaders<R extends Response>(response: R, csp: string, pathname: string): R {
+  for (const [name, value] of securityHeaders({ pathname, csp, https: isHttpsUrl(env().NEXTAUTH_URL) })) response.headers.set(name, value);
   return response;
 }
 
 export default async function proxy(request: NextRequest, event: NextFetchEvent) {
   const nonce = newNonce();
   const csp = policy(nonce);
+  const { pathname } = request.nextUrl;
+  const slashless = withoutTrailingSlash(pathname);
+  if (slashless) {
+    // A path-only Location (RFC 9110 §10.2.2): this origin as the browser sees it. NextURL would
+    // put the trailing slash back, and names 127.0.0.1 "localhost", whose cookies are not these.
+    const location = `${slashless}${request.nextUrl.search}`;
+    return withSecurityHeaders(new NextResponse(null, { status: 308, headers: { location } }), csp, pathname);
+  }
   const refusal = crossSiteRefusal({
     method: request.method,
     pathname: request.nextUrl.pathname,
@@ -54,16 +65,16 @@ export default async function proxy(request: NextRequest, event: NextFetchEvent)
     host: request.headers.get("host"),
     appUrl: env().NEXTAUTH_URL,
   });
-  if (refusal) return withSecurityHeaders(NextResponse.json({ error: refusal, field: null }, { status: 403 }), csp);
+  if (refusal) return withSecurityHeaders(NextResponse.json({ error: refusal, field: null }, { status: 403 }), csp, pathname);
   if (isWorkspacePath(request.nextUrl.pathname)) {
     // withAuth answers a redirect when there is no valid session, nothing otherwise.
     const denied = await requireSession(request as NextRequestWithAuth, event);
-    if (denied) return withSecurityHeaders(denied, csp);
+    if (denied) return withSecurityHeaders(denied, csp, pathname);
   }
   const requestHeaders = new Headers(request.headers);
   requestHeaders.set("x-nonce", nonce);
   requestHeaders.set("content-security-policy", csp);
-  return withSecurityHeaders(NextResponse.next({ request: { headers: requestHeaders } }), csp);
+  return withSecurityHeaders(NextResponse.next({ request: { headers: requestHeaders } }), csp, pathname);
 }
 
 export const config = {
