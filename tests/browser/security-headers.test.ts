@@ -32,7 +32,14 @@ const STATIC_HEADERS: [string, RegExp][] = [
   ["x-frame-options", /^DENY$/],
   ["referrer-policy", /^(strict-origin-when-cross-origin|strict-origin|same-origin|no-referrer)$/],
   ["permissions-policy", /camera=\(\).*microphone=\(\)/],
+  ["cross-origin-opener-policy", /^same-origin$/],
 ];
+
+/** Answers that depend on who is signed in may be kept by no cache (Next.js adds its own words to pages' value). */
+function expectNoStore(headers: Record<string, string>, where: string) {
+  const value = header(headers, "cache-control");
+  if (!/(^|,)\s*no-store\s*(,|$)/.test(value)) throw new Error(`${where}: cache-control is "${value}", expected no-store`);
+}
 
 function expectStaticHeaders(headers: Record<string, string>, where: string) {
   for (const [name, pattern] of STATIC_HEADERS) {
@@ -87,7 +94,7 @@ describe("security headers on the running app", () => {
     expect(secondNonce).not.toBe(nonce);
   });
 
-  it("puts them on API answers (200 and 401), on the sign-in redirect and on static files", async () => {
+  it("puts them on API answers (200 and 401), on signed-in pages, on every kind of redirect and on static files", async () => {
     const { appUrl } = testServices();
     session = await openBrowser();
     await signIn(session.page);
@@ -96,16 +103,43 @@ describe("security headers on the running app", () => {
     expect(api.status()).toBe(200);
     expectStaticHeaders(api.headers(), "GET catalogue API (signed in)");
     expectPagePolicy(api.headers(), "GET catalogue API (signed in)");
+    expectNoStore(api.headers(), "GET catalogue API (signed in)");
+
+    const signedInPage = await session.context.request.get(`/w/${slug}/desk`);
+    expect(signedInPage.status()).toBe(200);
+    expectStaticHeaders(signedInPage.headers(), "GET desk page (signed in)");
+    expectPagePolicy(signedInPage.headers(), "GET desk page (signed in)");
+    expectNoStore(signedInPage.headers(), "GET desk page (signed in)");
 
     const anonymous = await fetch(`${appUrl}/api/w/${slug}/catalogue`);
     expect(anonymous.status).toBe(401);
     expectStaticHeaders(Object.fromEntries(anonymous.headers), "GET catalogue API (signed out)");
     expectPagePolicy(Object.fromEntries(anonymous.headers), "GET catalogue API (signed out)");
+    expectNoStore(Object.fromEntries(anonymous.headers), "GET catalogue API (signed out)");
 
     const redirect = await fetch(`${appUrl}/w/${slug}/desk`, { redirect: "manual" });
     expect(redirect.status).toBe(307);
     expect(redirect.headers.get("location")).toMatch(/\/sign-in\?callbackUrl=/);
     expectStaticHeaders(Object.fromEntries(redirect.headers), "redirect of a signed-out visitor");
+    expectPagePolicy(Object.fromEntries(redirect.headers), "redirect of a signed-out visitor");
+    expectNoStore(Object.fromEntries(redirect.headers), "redirect of a signed-out visitor");
+
+    // The trailing-slash 308 is answered by proxy.ts (skipTrailingSlashRedirect), with a path-only Location.
+    const slash = await fetch(`${appUrl}/w/${slug}/desk/`, { redirect: "manual" });
+    expect(slash.status).toBe(308);
+    expect(slash.headers.get("location")).toBe(`/w/${slug}/desk`);
+    expectStaticHeaders(Object.fromEntries(slash.headers), "trailing-slash redirect");
+    expectPagePolicy(Object.fromEntries(slash.headers), "trailing-slash redirect");
+    expectNoStore(Object.fromEntries(slash.headers), "trailing-slash redirect");
+
+    // next-auth's own sign-in endpoint redirects to Tessera's sign-in page.
+    const authRedirect = await fetch(`${appUrl}/api/auth/signin`, { redirect: "manual" });
+    expect(authRedirect.status).toBeGreaterThanOrEqual(300);
+    expect(authRedirect.status).toBeLessThan(400);
+    expect(authRedirect.headers.get("location")).toMatch(/\/sign-in/);
+    expectStaticHeaders(Object.fromEntries(authRedirect.headers), "next-auth redirect");
+    expectPagePolicy(Object.fromEntries(authRedirect.headers), "next-auth redirect");
+    expectNoStore(Object.fromEntries(authRedirect.headers), "next-auth redirect");
 
     const page = await fetch(`${appUrl}/sign-in`);
     const script = /<script[^>]+src="(\/_next\/static\/[^"]+\.js)"/.exec(await page.text())?.[1];
