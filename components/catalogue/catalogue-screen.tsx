@@ -27,6 +27,7 @@ const COLUMN_CHOICES = [
   { id: "deltaI", label: "ΔI" },
   { id: "gearyC", label: "Geary's C" },
   { id: "generalG", label: "General G" },
+  { id: "reachability", label: "Reachable?" },
 ] as const;
 const DEFAULT_HIDDEN = ["adjustedP", "gearyC", "generalG"];
 
@@ -256,6 +257,21 @@ function buildColumns(slug: string, hiddenKey: string): ColDef<CatalogueRow>[] {
       },
       { colId: "gearyC", headerName: "Geary's C", field: "gearyC", width: 110, type: "numericColumn", valueFormatter: num(3) },
       { colId: "generalG", headerName: "General G", field: "generalG", width: 110, type: "numericColumn", valueFormatter: num(5) },
+      {
+        colId: "reachability",
+        headerName: "Reachable?",
+        headerTooltip: "Whether the run's permutations could make this result significant under its correction, and the permutations needed when not",
+        minWidth: 220,
+        flex: 2,
+        valueGetter: (p) => (p.data ? [p.data.classReachability, p.data.clusterReachability ? `Local clusters: ${p.data.clusterReachability}` : null].filter(Boolean).join(" ") : ""),
+        tooltipValueGetter: (p) => (typeof p.value === "string" && p.value ? p.value : null),
+        cellRenderer: (p: ICellRendererParams<CatalogueRow, string>) =>
+          p.value ? (
+            <span className="text-xs text-ochre-900" data-testid="catalogue-reachability">
+              {p.value}
+            </span>
+          ) : null,
+      },
       { colId: "note", headerName: "Note", field: "note", flex: 2, minWidth: 200, tooltipField: "note", cellClass: "text-xs text-ink-500" },
     ];
     const hiddenIds = hiddenKey.split(",");

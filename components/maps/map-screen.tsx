@@ -12,6 +12,7 @@ import { EChart, INK, MUTED } from "@/components/charts/echart";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
 import { CLUSTER_COLOURS, CLUSTER_LABELS, CLUSTER_SHORT, fmt, fmtP, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
 import { compareQuery, geometryQuery, mapQuery } from "@/components/runs/query-options";
+import { LocalInferenceNote } from "@/components/runs/reachability-note";
 import type { ClusterClass, IndependenceTest } from "@/lib/spatial";
 import type { MapPeriod } from "@/lib/runs/on-demand";
 import { escapeHtml } from "@/lib/security/html";
@@ -105,6 +106,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                   testId={`cluster-map-${k === 0 ? "a" : "b"}`}
                 />
                 <ClusterLegend map={m} />
+                <LocalInferenceNote warning={(k === 0 ? mapA.data : mapB.data).reachability} local={m.local} testId={k === 0 ? "a" : "b"} />
               </Panel>
             ))}
           </div>

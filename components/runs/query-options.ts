@@ -5,6 +5,7 @@ import type { Comparison, MapGeometry, MapPeriod } from "@/lib/runs/on-demand";
 import type { RobustnessEntry } from "@/lib/runs/compare";
 import type { IndicatorMeta } from "@/lib/intake/queries";
 import { catalogueRowsOf, type CatalogueAnswer } from "@/lib/runs/catalogue-wire";
+import type { ReachabilityWarning } from "@/lib/runs/reachability";
 
 // One options factory per resource of the analyses screens; mutations
 // invalidate runsKeys.all(slug), which covers every key below.
@@ -91,7 +92,8 @@ export function robustnessQuery(slug: string, indicator: string, run: number | n
 export function mapQuery(slug: string, indicator: string, run: number | null, period: string) {
   return queryOptions({
     queryKey: runsKeys.map(slug, indicator, run, period),
-    queryFn: () => apiFetch<{ run: RunSummary; indicator: IndicatorMeta; map: MapPeriod }>(`${base(slug)}/map?${qs({ indicator, run, period })}`),
+    queryFn: () =>
+      apiFetch<{ run: RunSummary; indicator: IndicatorMeta; map: MapPeriod; reachability: ReachabilityWarning | null }>(`${base(slug)}/map?${qs({ indicator, run, period })}`),
     enabled: indicator !== "" && period !== "",
     staleTime: 5 * 60_000,
   });

@@ -5,9 +5,11 @@ import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useMemo, useState } from "react";
 import { ApiError } from "@/components/team/query-options";
 import { dangerButton, inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
-import { CORRECTION_LABELS, CORRECTIONS, ISLAND_POLICIES, ISLAND_POLICY_LABELS, runParamsInputSchema, WEIGHTS_CHOICES } from "@/lib/runs/schemas";
+import { startFormReachability } from "@/lib/runs/reachability";
+import { CORRECTION_LABELS, CORRECTIONS, ISLAND_POLICIES, ISLAND_POLICY_LABELS, runParamsInputSchema, SEQUENTIAL_EXTREMES, WEIGHTS_CHOICES } from "@/lib/runs/schemas";
 import type { RunSummary } from "@/lib/runs/queries";
 import { Notice, Panel, StateBadge, weightsLabel } from "./format";
+import { StartFormReachability } from "./reachability-note";
 import { runOptionsQuery, runsApi, runsKeys, runsQuery } from "./query-options";
 
 export function RunsScreen({ slug, canManage }: { slug: string; canManage: boolean }) {
@@ -115,6 +117,16 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
                     {run.params.correction === "fdr" ? "FDR" : run.params.correction}, α = {run.params.alpha}
                   </dd>
                 </div>
+                <div className="col-span-2" data-testid={`run-${run.id}-local-p`}>
+                  <dt className="inline text-ink-400">Local p-values </dt>
+                  <dd className="inline text-ink-700">
+                    {!run.params.local
+                      ? "not computed"
+                      : run.params.sequentialExtremes !== undefined
+                        ? `sequential (Besag & Clifford, h = ${run.params.sequentialExtremes})`
+                        : "fixed count"}
+                  </dd>
+                </div>
                 <div className="col-span-2">
                   <dt className="inline text-ink-400">Islands </dt>
                   <dd className="inline text-ink-700">{ISLAND_POLICY_LABELS[run.params.islandPolicy]}</dd>
@@ -150,6 +162,7 @@ function StartRunForm({ slug }: { slug: string }) {
   const [from, setFrom] = useState("");
   const [to, setTo] = useState("");
   const [local, setLocal] = useState(true);
+  const [sequential, setSequential] = useState(false);
   const [error, setError] = useState<{ field: string | null; message: string } | null>(null);
   const [started, setStarted] = useState<number | null>(null);
 
@@ -160,6 +173,24 @@ function StartRunForm({ slug }: { slug: string }) {
   const periods = version?.periods ?? [];
   const indicators = version?.indicators ?? [];
   const selected = chosen ?? indicators.map((i) => i.code);
+
+  // Warned before start: can the smallest permutation p pass the correction? (Only for a choice the schema accepts.)
+  const fromAt = from ? periods.indexOf(from) : 0;
+  const toAt = to ? periods.indexOf(to) : periods.length - 1;
+  const reachabilityChoice = runParamsInputSchema.safeParse({ permutations, alpha, correction });
+  const reachability =
+    version && reachabilityChoice.success
+      ? startFormReachability({
+          regions: version.regions,
+          indicators: selected.length,
+          periods: Math.max(0, toAt - fromAt + 1),
+          permutations: reachabilityChoice.data.permutations,
+          alpha: reachabilityChoice.data.alpha,
+          correction: reachabilityChoice.data.correction,
+          local,
+          sequential,
+        })
+      : [];
 
   const start = useMutation({
     mutationFn: (body: unknown) => runsApi.start(slug, body),
@@ -187,6 +218,7 @@ function StartRunForm({ slug }: { slug: string }) {
       indicators: selected.length === indicators.length ? undefined : selected,
       periods: fromIndex === 0 && toIndex === periods.length - 1 ? undefined : periods.slice(fromIndex, toIndex + 1),
       local,
+      sequential: local && sequential,
     };
     const parsed = runParamsInputSchema.safeParse(choice);
     if (!parsed.success) {
@@ -342,6 +374,17 @@ function StartRunForm({ slug }: { slug: string }) {
             <input type="checkbox" className="accent-ochre-500" checked={local} onChange={(e) => setLocal(e.target.checked)} />
             Local clusters per region (needed for cluster maps)
           </label>
+          <label className="flex items-start gap-2 text-sm text-ink-700">
+            <input type="checkbox" className="mt-0.5 accent-ochre-500" checked={local && sequential} disabled={!local} onChange={(e) => setSequential(e.target.checked)} />
+            <span>
+              Sequential p-values for local clusters
+              <span className="block text-xs text-ink-500">
+                Besag &amp; Clifford (1991): a region stops drawing once {SEQUENTIAL_EXTREMES} permutations in each tail are as extreme as its own (common practice
+                is 10–20), so many permutations stay cheap for regions far from significance. Regions that do not stop get exactly the fixed-count p.
+              </span>
+            </span>
+          </label>
+          <StartFormReachability warnings={reachability} />
           {error && !["weights", "permutations", "seed", "alpha", "indicators", "periods"].includes(error.field ?? "") ? <Notice tone="error">{error.message}</Notice> : null}
           {started ? <Notice>Run {started} is queued. Its progress shows in the queue.</Notice> : null}
           <button type="submit" className={`${primaryButton} w-full`} disabled={start.isPending}>

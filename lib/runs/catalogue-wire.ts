@@ -8,6 +8,8 @@
  * The screen and the CSV export turn tuples back into `CatalogueRow`s with
  * `catalogueRowsOf`.
  */
+import { reachabilityWarning } from "./reachability";
+import type { ResolvedRunParams } from "./schemas";
 import type { SignificanceClass } from "./types";
 
 export const CATALOGUE_FORMAT = "tessera-catalogue/1";
@@ -31,6 +33,7 @@ export const CATALOGUE_FIELDS = [
   "deltaI",
   "gearyC",
   "generalG",
+  "localTests",
 ] as const;
 
 export type CatalogueTuple = [
@@ -51,6 +54,8 @@ export type CatalogueTuple = [
   deltaI: number | null,
   gearyC: number | null,
   generalG: number | null,
+  /** Local tests of the period (regions with neighbours), null without local statistics. */
+  localTests: number | null,
 ];
 
 export interface CatalogueIndicator {
@@ -59,9 +64,24 @@ export interface CatalogueIndicator {
   unit: string | null;
 }
 
+/**
+ * What a run's rows need to say whether significance was reachable: once per
+ * run rather than on every tuple. `globalTests` is the family of the run-wide
+ * correction (its computed indicator-periods).
+ */
+export interface CatalogueRun {
+  id: number;
+  permutations: number;
+  alpha: number;
+  correction: ResolvedRunParams["correction"];
+  sequentialExtremes: number | null;
+  globalTests: number;
+}
+
 export interface CatalogueAnswer {
   format: typeof CATALOGUE_FORMAT;
   fields: typeof CATALOGUE_FIELDS;
+  runs: CatalogueRun[];
   /**
    * Label and unit of every indicator that has a row. A list rather than an
    * object keyed by code, because codes are users' text and a code such as
@@ -91,16 +111,37 @@ export interface CatalogueRow {
   deltaI: number | null;
   gearyC: number | null;
   generalG: number | null;
+  localTests: number | null;
+  /**
+   * Short notes, null when significance was reachable: the run's class over
+   * its indicator-periods, and the period's local clusters over its regions.
+   */
+  classReachability: string | null;
+  clusterReachability: string | null;
 }
 
 /**
  * Rows as objects. An indicator missing from `indicators` (deleted since the
  * run) is labelled with its code, as the grid has always shown it.
  */
-export function catalogueRowsOf(answer: Pick<CatalogueAnswer, "indicators" | "rows">): CatalogueRow[] {
+export function catalogueRowsOf(answer: Pick<CatalogueAnswer, "indicators" | "rows"> & Partial<Pick<CatalogueAnswer, "runs">>): CatalogueRow[] {
   const byCode = new Map(answer.indicators.map((i) => [i.code, i]));
-  return answer.rows.map(([runId, indicator, period, periodIndex, status, note, n, I, expectedI, z, p, pseudoP, adjustedP, significance, deltaI, gearyC, generalG]) => {
+  const runs = new Map((answer.runs ?? []).map((r) => [r.id, r]));
+  // Rows of one run share their notes (the local one per number of regions), so each is worded once.
+  const notes = new Map<string, string | null>();
+  const noteOf = (runId: number, scope: "local" | "global", tests: number | null): string | null => {
+    const run = runs.get(runId);
+    if (!run || tests === null) return null;
+    const key = `${runId}|${scope}|${tests}`;
+    if (!notes.has(key)) {
+      const warning = reachabilityWarning({ scope, tests, permutations: run.permutations, alpha: run.alpha, correction: run.correction, sequential: run.sequentialExtremes !== null });
+      notes.set(key, warning?.note ?? null);
+    }
+    return notes.get(key) ?? null;
+  };
+  return answer.rows.map(([runId, indicator, period, periodIndex, status, note, n, I, expectedI, z, p, pseudoP, adjustedP, significance, deltaI, gearyC, generalG, localTests]) => {
     const meta = byCode.get(indicator);
+    const computed = status === "computed";
     return {
       runId,
       indicator,
@@ -121,6 +162,9 @@ export function catalogueRowsOf(answer: Pick<CatalogueAnswer, "indicators" | "ro
       deltaI,
       gearyC,
       generalG,
+      localTests,
+      classReachability: computed ? noteOf(runId, "global", runs.get(runId)?.globalTests ?? null) : null,
+      clusterReachability: computed ? noteOf(runId, "local", localTests) : null,
     };
   });
 }
@@ -130,7 +174,7 @@ export function catalogueRowsOf(answer: Pick<CatalogueAnswer, "indicators" | "ro
  * json_build_array writes it, in CATALOGUE_FIELDS order). The tuples are
  * trusted to be JSON: they come from the database, never from a request.
  */
-export function catalogueAnswerText(indicators: readonly CatalogueIndicator[], tupleTexts: readonly string[]): string {
-  const head = `{"format":${JSON.stringify(CATALOGUE_FORMAT)},"fields":${JSON.stringify(CATALOGUE_FIELDS)},"indicators":${JSON.stringify(indicators)},"rows":[`;
+export function catalogueAnswerText(indicators: readonly CatalogueIndicator[], tupleTexts: readonly string[], runs: readonly CatalogueRun[] = []): string {
+  const head = `{"format":${JSON.stringify(CATALOGUE_FORMAT)},"fields":${JSON.stringify(CATALOGUE_FIELDS)},"runs":${JSON.stringify(runs)},"indicators":${JSON.stringify(indicators)},"rows":[`;
   return `${head}${tupleTexts.join(",")}]}`;
 }

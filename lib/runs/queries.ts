@@ -6,7 +6,7 @@
 import { QueryTypes } from "sequelize";
 import { db, selectTuples } from "@/lib/db";
 import { indicatorMetadata, publishedPanelVersions, panelDimensions, type IndicatorMeta } from "@/lib/intake/queries";
-import { CATALOGUE_FIELDS, catalogueAnswerText, catalogueRowsOf, type CatalogueAnswer, type CatalogueRow } from "./catalogue-wire";
+import { CATALOGUE_FIELDS, catalogueAnswerText, catalogueRowsOf, type CatalogueAnswer, type CatalogueRow, type CatalogueRun } from "./catalogue-wire";
 import type { ResolvedRunParams } from "./schemas";
 import type { RunState } from "./store";
 import type { LocalFields, SignificanceClass, WeightsUsed } from "./types";
@@ -124,6 +124,11 @@ export interface RunOption {
   version: number;
   indicators: { code: string; label: string }[];
   periods: string[];
+  /**
+   * Regions of the version's boundaries: the most local tests a period can
+   * count (the start form's reachability warning; lib/runs/reachability).
+   */
+  regions: number;
 }
 
 export async function runOptions(workspaceId: number): Promise<RunOption[]> {
@@ -131,6 +136,14 @@ export async function runOptions(workspaceId: number): Promise<RunOption[]> {
   // Every indicator of a published version is visible to every role.
   const meta = await indicatorMetadata(workspaceId, "published");
   const labels = new Map(meta.map((m) => [m.code, m.label]));
+  const boundaryIds = [...new Set(versions.map((v) => v.boundaryVersionId))];
+  const regionRows = boundaryIds.length
+    ? await db().query<{ id: number; region_count: number | null }>("SELECT id, region_count FROM boundary_versions WHERE id = ANY($1::int[])", {
+        bind: [boundaryIds],
+        type: QueryTypes.SELECT,
+      })
+    : [];
+  const regionsOf = new Map(regionRows.map((r) => [r.id, r.region_count ?? 0]));
   const out: RunOption[] = [];
   for (const v of versions) {
     const dims = await panelDimensions(v.panelVersionId);
@@ -140,6 +153,7 @@ export async function runOptions(workspaceId: number): Promise<RunOption[]> {
       version: v.version,
       indicators: dims.indicators.map((code) => ({ code, label: labels.get(code) ?? code })),
       periods: dims.periods.map((p) => p.key),
+      regions: regionsOf.get(v.boundaryVersionId) ?? 0,
     });
   }
   return out;
@@ -168,6 +182,13 @@ const CATALOGUE_COLUMNS: Record<(typeof CATALOGUE_FIELDS)[number], string> = {
   deltaI: "delta_i",
   gearyC: "geary_c",
   generalG: "general_g",
+  localTests: "local_tests",
+};
+
+/** Wire fields that are not a stored column, as the SQL that computes them from a run_results row `rr`. */
+const CATALOGUE_EXPRESSIONS: Partial<Record<string, string>> = {
+  // Local Moran's tests are its regions with neighbours (lib/runs/reachability localTests).
+  local_tests: "CASE WHEN rr.local_counts IS NULL THEN NULL ELSE rr.n - COALESCE((rr.local_counts->>'no-neighbours')::int, 0) END",
 };
 
 export interface CatalogueFilter {
@@ -224,10 +245,10 @@ export async function catalogueText(workspaceId: number, filter: CatalogueFilter
   // The rows are sorted before the JSON is built: sorting the built text
   // spilled to disk at 10,000 rows with the default work_mem.
   const columns = CATALOGUE_FIELDS.map((f) => CATALOGUE_COLUMNS[f]);
-  const rows = await selectTuples<[tuple: string, indicator: string]>(
+  const rows = await selectTuples<[tuple: string, indicator: string, runId: number]>(
     `WITH chosen AS (${source})
-     SELECT json_build_array(${columns.map((c) => `t.${c}`).join(", ")})::text, t.indicator_code
-       FROM (SELECT ${columns.map((c) => `rr.${c}`).join(", ")}
+     SELECT json_build_array(${columns.map((c) => `t.${c}`).join(", ")})::text, t.indicator_code, t.run_id
+       FROM (SELECT ${columns.map((c) => (CATALOGUE_EXPRESSIONS[c] ? `${CATALOGUE_EXPRESSIONS[c]} AS ${c}` : `rr.${c}`)).join(", ")}
                FROM chosen c
                JOIN run_results rr ON rr.run_id = c.run_id AND rr.indicator_code = c.indicator_code
                LEFT JOIN indicators i ON i.workspace_id = $1 AND i.code = rr.indicator_code
@@ -247,7 +268,26 @@ export async function catalogueText(workspaceId: number, filter: CatalogueFilter
   return catalogueAnswerText(
     indicators.map((i) => ({ code: i.code, label: i.label ?? i.code, unit: i.unit })),
     rows.map((r) => r[0]),
+    await catalogueRuns(workspaceId, [...new Set(rows.map((r) => Number(r[2])))]),
   );
+}
+
+/** Per run of the answer, what its notes on reachable significance need (lib/runs/catalogue-wire CatalogueRun). */
+async function catalogueRuns(workspaceId: number, runIds: readonly number[]): Promise<CatalogueRun[]> {
+  if (runIds.length === 0) return [];
+  const runs = await db().query<{ id: number; params: ResolvedRunParams; global_tests: string | number }>(
+    `SELECT r.id, r.params, (SELECT count(*) FROM run_results rr WHERE rr.run_id = r.id AND rr.adjusted_p IS NOT NULL) AS global_tests
+       FROM runs r WHERE r.workspace_id = $1 AND r.id = ANY($2::int[]) ORDER BY r.id`,
+    { bind: [workspaceId, runIds], type: QueryTypes.SELECT },
+  );
+  return runs.map((r) => ({
+    id: r.id,
+    permutations: r.params.permutations,
+    alpha: r.params.alpha,
+    correction: r.params.correction,
+    sequentialExtremes: r.params.sequentialExtremes ?? null,
+    globalTests: Number(r.global_tests),
+  }));
 }
 
 /** The catalogue as parsed tuples. */

@@ -18,6 +18,7 @@ const tuple = (indicator: string, period: string, I: number | null): CatalogueTu
   null,
   0.8,
   0.02,
+  I === null ? null : 49,
 ];
 
 describe("catalogue wire format", () => {
@@ -25,6 +26,7 @@ describe("catalogue wire format", () => {
     const answer: CatalogueAnswer = {
       format: CATALOGUE_FORMAT,
       fields: CATALOGUE_FIELDS,
+      runs: [],
       indicators: [{ code: "jobless", label: "Jobless rate", unit: "%" }],
       rows: [tuple("jobless", "2021", 0.31), tuple("jobless", "2022", null)],
     };
@@ -53,8 +55,33 @@ describe("catalogue wire format", () => {
     const texts = tuples.map((t) => `[${t.map((v) => JSON.stringify(v)).join(", ")}]`);
     const indicators = [{ code: 'say "hi"', label: "</script><b>", unit: null }];
     const parsed = JSON.parse(catalogueAnswerText(indicators, texts)) as CatalogueAnswer;
-    expect(parsed).toEqual({ format: CATALOGUE_FORMAT, fields: [...CATALOGUE_FIELDS], indicators, rows: tuples });
+    expect(parsed).toEqual({ format: CATALOGUE_FORMAT, fields: [...CATALOGUE_FIELDS], runs: [], indicators, rows: tuples });
     expect(Object.is(parsed.rows[0][7], 0.30000000000000004)).toBe(true);
     expect(JSON.parse(catalogueAnswerText([], []))).toMatchObject({ indicators: [], rows: [] });
+  });
+
+  it("notes beside a run's rows when its permutations cannot reach significance: local clusters per period, classes per run", () => {
+    const runs = [
+      { id: 7, permutations: 999, alpha: 0.05, correction: "bonferroni" as const, sequentialExtremes: null, globalTests: 4 },
+      { id: 8, permutations: 999, alpha: 0.05, correction: "bonferroni" as const, sequentialExtremes: null, globalTests: 300 },
+    ];
+    const small: CatalogueTuple = [...tuple("jobless", "2021", 0.31)];
+    small[17] = 20;
+    const other: CatalogueTuple = [...tuple("jobless", "2022", 0.2)];
+    other[0] = 8;
+    const answer = JSON.parse(catalogueAnswerText([], [tuple("jobless", "2021", 0.31), small, tuple("jobless", "2022", null), other].map((t) => JSON.stringify(t)), runs)) as CatalogueAnswer;
+    expect(answer.runs).toEqual(runs);
+    const [lone, few, notComputed, many] = catalogueRowsOf(answer);
+    expect(lone.clusterReachability).toBe(
+      "Not reachable: with 999 permutations no region can pass Bonferroni over 49 regions (needs p ≤ 0.00102, smallest p 0.002); 9,999 permutations needed.",
+    );
+    expect(lone.classReachability).toBeNull(); // 0.05 / 4 tests is above 0.002
+    expect(few.clusterReachability).toBeNull(); // 0.05 / 20 = 0.0025 ≥ 0.002
+    expect(notComputed.clusterReachability).toBeNull();
+    expect(notComputed.classReachability).toBeNull();
+    expect(many.classReachability).toContain("no indicator-period can pass Bonferroni over 300 indicator-periods");
+    expect(many.classReachability).toContain("99,999 permutations needed");
+    // An answer without runs (older clients' fixtures) says nothing rather than guessing.
+    expect(catalogueRowsOf({ indicators: [], rows: [tuple("jobless", "2021", 0.31)] })[0].clusterReachability).toBeNull();
   });
 });
