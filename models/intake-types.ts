@@ -12,7 +12,7 @@ export const UPLOAD_STATES = ["pending", "received", "failed"] as const;
 export type UploadState = (typeof UPLOAD_STATES)[number];
 
 export type BoundaryFormat = "topojson" | "geojson";
-export type PanelLayoutName = "long" | "wide";
+export type PanelLayoutName = "long" | "wide" | "wide-period";
 export type DecimalSeparatorName = "." | ",";
 
 /** What a new version changed relative to the previous non-rejected version of the same set or panel. */

@@ -2,11 +2,11 @@
  * Intake CLI: checks boundaries and a panel without storing anything.
  *
  *   npm run -s intake -- check --boundaries FILE --object NAME --id PROP --panel FILE.csv
- *       [--layout long|wide] [--decimal .|,] [--delimiter ,|;|tab]
+ *       [--layout long|wide|wide-period] [--decimal .|,] [--delimiter ,|;|tab]
  *       [--region COL --period COL --indicator COL --value COL | --indicators A,B,C]
  *       [--unknown-regions error|drop] [--max-errors N]
  *   npm run -s intake -- inspect --boundaries FILE
- *   npm run -s intake -- preview --panel FILE.csv [--layout long|wide]
+ *   npm run -s intake -- preview --panel FILE.csv [--layout long|wide|wide-period]
  *
  * Prints one JSON object on stdout. Exit 0 when the panel is usable, 1 when it
  * is not (the report says why), 2 for bad arguments or unreadable files (one
@@ -34,7 +34,7 @@ import {
 class UsageError extends Error {}
 
 const USAGE =
-  "usage: intake check --boundaries FILE --object NAME --id PROP --panel FILE.csv [--layout long|wide] [--decimal .|,] | intake inspect --boundaries FILE | intake preview --panel FILE.csv";
+  "usage: intake check --boundaries FILE --object NAME --id PROP --panel FILE.csv [--layout long|wide|wide-period] [--decimal .|,] | intake inspect --boundaries FILE | intake preview --panel FILE.csv";
 
 const OPTIONS = {
   boundaries: { type: "string" },
@@ -71,7 +71,8 @@ function firstIssue(error: { issues: readonly { path: readonly PropertyKey[]; me
 /** Builds an explicit mapping when the user named columns; otherwise the validator suggests one from the header. */
 function mappingFrom(args: CheckArgs): ColumnMapping | undefined {
   const named = args.region ?? args.period ?? args.indicator ?? args.value ?? args.indicators;
-  if (named === undefined) return undefined;
+  // Wide by period is read from the header; --indicator then names the indicator of columns that are only a period.
+  if (named === undefined || args.layout === "wide-period") return undefined;
   const layout = args.layout ?? (args.indicators !== undefined ? "wide" : "long");
   const candidate =
     layout === "wide"
@@ -122,6 +123,7 @@ async function check(values: Record<string, string | undefined>): Promise<number
       delimiter: args.delimiter === "tab" ? "\t" : args.delimiter,
       layout: args.layout,
       mapping,
+      periodIndicator: args.layout === "wide-period" ? args.indicator : undefined,
       unknownRegions: args.unknownRegions,
       maxErrors: args.maxErrors,
     },

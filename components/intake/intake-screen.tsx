@@ -5,6 +5,7 @@ import { useQuery } from "@tanstack/react-query";
 import type { VersionSummary } from "@/lib/intake/queries";
 import { Notice, Panel, StateBadge, formatDate } from "./format";
 import { IndicatorsEditor } from "./indicators-editor";
+import { PanelLayoutHelp } from "./panel-layout-help";
 import { overviewQuery } from "./query-options";
 import { UploadWizard } from "./upload-wizard";
 import { formatBytes } from "./upload-file";
@@ -53,7 +54,12 @@ export function IntakeScreen({ slug }: { slug: string }) {
         </Panel>
         <IndicatorsEditor slug={slug} indicators={data.indicators} canEdit={data.canCurate} />
       </div>
-      {data.canCurate ? <UploadWizard slug={slug} boundarySets={data.boundarySets} panels={data.panels} /> : null}
+      {data.canCurate ? (
+        <div className="space-y-6">
+          <UploadWizard slug={slug} boundarySets={data.boundarySets} panels={data.panels} />
+          <PanelLayoutHelp open={data.panels.length === 0} />
+        </div>
+      ) : null}
     </div>
   );
 }

@@ -4,7 +4,10 @@ import { useRouter } from "next/navigation";
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useRef, useState } from "react";
 import { inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
+import { ConfirmDialog } from "@/components/ui/confirm-dialog";
 import type { BoundaryUploadPreview, PanelUploadPreview, UploadTicket } from "@/lib/intake/actions";
+import { headerPeriod } from "@/lib/intake/mapping";
+import { mismatchWarning, type CandidateMatch, type TargetSuggestion } from "@/lib/intake/version-target";
 import type { BoundarySetView, PanelView } from "@/lib/intake/queries";
 import type { ColumnMapping } from "@/lib/intake/schemas";
 import { Notice, Panel } from "./format";
@@ -172,27 +175,36 @@ function BoundaryFormFields({
   onCancel: () => void;
 }) {
   const objects = preview.summary?.objects ?? [];
-  const [setId, setSetId] = useState<string>(boundarySets[0] ? String(boundarySets[0].id) : "new");
+  // null until the steward picks a set: until then the choice follows the codes of the chosen object and property.
+  const [chosenSetId, setChosenSetId] = useState<string | null>(null);
   const [setName, setSetName] = useState("");
   const [objectName, setObjectName] = useState(objects[0]?.name ?? "");
   const object = objects.find((o) => o.name === objectName);
   const idCandidates = object?.candidateIdProperties.length ? object.candidateIdProperties : (object?.properties.map((p) => p.name) ?? []);
   const [idProperty, setIdProperty] = useState(idCandidates[0] ?? "");
   const [nameProperty, setNameProperty] = useState(object?.properties.find((p) => /name/i.test(p.name))?.name ?? "");
+  const [confirming, setConfirming] = useState<CandidateMatch | null>(null);
   const create = useCreateVersion(slug, "boundaries");
+  const target = preview.targets.find((t) => t.object === objectName && t.idProperty === idProperty)?.suggestion ?? null;
+  const setId = chosenSetId ?? (target?.choice === "version" && target.target ? String(target.target.id) : "new");
   if (!preview.summary) return <Notice tone="error">{preview.problem ?? "The file could not be read as TopoJSON or GeoJSON."}</Notice>;
+  const submit = () =>
+    create.mutate({
+      uploadId,
+      ...(setId === "new" ? { setName } : { boundarySetId: Number(setId) }),
+      objectName,
+      idProperty,
+      nameProperty: nameProperty || null,
+    });
+  const chosenMatch = target?.candidates.find((c) => String(c.id) === setId) ?? null;
   return (
     <form
       className="space-y-3"
       onSubmit={(e) => {
         e.preventDefault();
-        create.mutate({
-          uploadId,
-          ...(setId === "new" ? { setName } : { boundarySetId: Number(setId) }),
-          objectName,
-          idProperty,
-          nameProperty: nameProperty || null,
-        });
+        // A version of a set the codes do not match is allowed, but only after saying how little they overlap.
+        if (chosenMatch && !chosenMatch.matches) setConfirming(chosenMatch);
+        else submit();
       }}
     >
       <p className="text-xs text-ink-500">
@@ -200,15 +212,16 @@ function BoundaryFormFields({
         Coordinates look {preview.summary.coordinates === "planar" ? "projected (planar)" : "like longitude/latitude"}.
       </p>
       <Field label="Boundary set">
-        <select className={inputClass} value={setId} onChange={(e) => setSetId(e.target.value)}>
+        <select className={inputClass} value={setId} onChange={(e) => setChosenSetId(e.target.value)} aria-label="Boundary set" data-testid="boundary-set-choice">
+          <option value="new">A new boundary set…</option>
           {boundarySets.map((s) => (
             <option key={s.id} value={s.id}>
-              {s.name} (new version)
+              New version of {s.name}
             </option>
           ))}
-          <option value="new">A new boundary set…</option>
         </select>
-        {setId === "new" ? <input className={`${inputClass} mt-2`} placeholder="Name, e.g. Districts 2024" value={setName} onChange={(e) => setSetName(e.target.value)} required /> : null}
+        {setId === "new" ? <input className={`${inputClass} mt-2`} placeholder="Name, e.g. Districts 2024" aria-label="Name of the new boundary set" value={setName} onChange={(e) => setSetName(e.target.value)} required /> : null}
+        <TargetNote suggestion={target} chosen={setId} what="region" kind="boundary set" />
       </Field>
       <Field label="Object holding the regions">
         <select className={inputClass} value={objectName} onChange={(e) => setObjectName(e.target.value)}>
@@ -247,7 +260,53 @@ function BoundaryFormFields({
           Start over
         </button>
       </div>
+      <MismatchDialog
+        match={confirming}
+        what="region"
+        onConfirm={() => {
+          setConfirming(null);
+          submit();
+        }}
+        onCancel={() => setConfirming(null)}
+      />
     </form>
+  );
+}
+
+/** Says why the set (or panel) choice is what it is: a match by codes, or a new one because nothing matched. */
+function TargetNote({ suggestion, chosen, what, kind }: { suggestion: TargetSuggestion | null; chosen: string; what: "region" | "indicator"; kind: "boundary set" | "panel" }) {
+  if (!suggestion || suggestion.candidates.length === 0) return null;
+  const chosenMatch = suggestion.candidates.find((c) => String(c.id) === chosen);
+  let text: string;
+  if (chosenMatch && !chosenMatch.matches) text = `${mismatchWarning(chosenMatch, what)} You will be asked to confirm.`;
+  else if (chosenMatch) text = `${chosenMatch.matched} of the file's ${chosenMatch.total} ${what} codes are ${what} codes of '${chosenMatch.name}'${chosenMatch.version === null ? "" : ` v${chosenMatch.version}`}.`;
+  else if (suggestion.choice === "version" && suggestion.target) text = `The file matches '${suggestion.target.name}'; you chose a new ${kind} instead.`;
+  else text = `The file's ${what} codes match no existing ${kind}, so it starts a new one.`;
+  return (
+    <p className="mt-1 text-xs text-ink-500" data-testid="target-note">
+      {text} <span className="text-ink-400">{suggestion.rule}</span>
+    </p>
+  );
+}
+
+function MismatchDialog({ match, what, onConfirm, onCancel }: { match: CandidateMatch | null; what: "region" | "indicator"; onConfirm: () => void; onCancel: () => void }) {
+  return (
+    <ConfirmDialog
+      open={match !== null}
+      title={match ? `Make this a new version of '${match.name}'?` : "Confirm"}
+      confirmLabel="Yes, a new version"
+      cancelLabel="Go back"
+      onConfirm={onConfirm}
+      onCancel={onCancel}
+      testId="mismatch-dialog"
+    >
+      {match ? (
+        <>
+          <p>{mismatchWarning(match, what)}</p>
+          <p>A new version replaces the {what === "region" ? "map" : "panel"} everyone uses once it is published. If this file is about different {what === "region" ? "regions" : "indicators"}, go back and start a new one.</p>
+        </>
+      ) : null}
+    </ConfirmDialog>
   );
 }
 
@@ -257,6 +316,17 @@ function PanelForm({ slug, uploadId, boundarySets, panels, onCancel }: { slug: s
   if (preview.error) return <Notice tone="error">{preview.error.message}</Notice>;
   if (preview.data.kind !== "panel") return <Notice tone="error">This upload is not a panel.</Notice>;
   return <PanelFormFields slug={slug} uploadId={uploadId} preview={preview.data.preview} boundarySets={boundarySets} panels={panels} onCancel={onCancel} />;
+}
+
+type LayoutChoice = ColumnMapping["layout"];
+
+/** The period columns a steward can tick in a wide-by-period file: every header but the region's that names a period. */
+function periodCandidates(header: readonly string[], region: string) {
+  return header.flatMap((column) => {
+    if (column === region) return [];
+    const found = headerPeriod(column);
+    return found ? [{ column, indicator: found.indicator, period: found.period }] : [];
+  });
 }
 
 function PanelFormFields({
@@ -276,20 +346,44 @@ function PanelFormFields({
 }) {
   const header = preview.header;
   const initial: ColumnMapping | null = preview.remembered?.mapping ?? preview.suggestion.mapping;
-  const [panelId, setPanelId] = useState<string>(panels[0] ? String(panels[0].id) : "new");
+  const target = preview.target;
+  const [panelId, setPanelId] = useState<string>(target.choice === "version" && target.target ? String(target.target.id) : "new");
   const [panelName, setPanelName] = useState("");
   const [boundarySetId, setBoundarySetId] = useState<string>(boundarySets[0] ? String(boundarySets[0].id) : "");
   const [decimal, setDecimal] = useState<"." | ",">(preview.delimiter.delimiter === ";" ? "," : ".");
-  const [layout, setLayout] = useState<"long" | "wide">(initial?.layout ?? "long");
+  // Without a complete suggestion, a header with period columns still opens on the layout it looks like.
+  const detected: LayoutChoice = initial?.layout ?? (periodCandidates(header, "").length > 0 && !header.some((h) => /^(period|year|time|date|quarter|month)$/i.test(h)) ? "wide-period" : "long");
+  const [layout, setLayout] = useState<LayoutChoice>(detected);
   const pick = (wanted: string | undefined, fallbackIndex: number) => (wanted && header.includes(wanted) ? wanted : (header[fallbackIndex] ?? ""));
   const [region, setRegion] = useState(pick(initial?.region, 0));
-  const [period, setPeriod] = useState(pick(initial?.period, 1));
+  const [period, setPeriod] = useState(pick(initial && "period" in initial ? initial.period : undefined, 1));
   const [indicator, setIndicator] = useState(pick(initial?.layout === "long" ? initial.indicator : undefined, 2));
   const [value, setValue] = useState(pick(initial?.layout === "long" ? initial.value : undefined, 3));
   const [indicators, setIndicators] = useState<string[]>(initial?.layout === "wide" ? initial.indicators : header.slice(2));
+  const rememberedBare = initial?.layout === "wide-period" ? initial.columns.find((c) => headerPeriod(c.column)?.indicator === null)?.indicator : undefined;
+  const [periodIndicator, setPeriodIndicator] = useState(rememberedBare ?? preview.periodIndicator);
+  const candidates = periodCandidates(header, region);
+  const [periodColumns, setPeriodColumns] = useState<string[]>(initial?.layout === "wide-period" ? initial.columns.map((c) => c.column) : candidates.map((c) => c.column));
+  const [confirming, setConfirming] = useState<CandidateMatch | null>(null);
   const create = useCreateVersion(slug, "panel");
 
-  const mapping: ColumnMapping = layout === "long" ? { layout, region, period, indicator, value } : { layout, region, period, indicators: indicators.filter((c) => c !== region && c !== period) };
+  const chosenPeriodColumns = candidates.filter((c) => periodColumns.includes(c.column));
+  const needsIndicatorName = chosenPeriodColumns.some((c) => c.indicator === null);
+  const mapping: ColumnMapping =
+    layout === "long"
+      ? { layout, region, period, indicator, value }
+      : layout === "wide"
+        ? { layout, region, period, indicators: indicators.filter((c) => c !== region && c !== period) }
+        : { layout, region, columns: chosenPeriodColumns.map((c) => ({ column: c.column, indicator: c.indicator ?? periodIndicator.trim(), period: c.period })) };
+  const chosenMatch = target.candidates.find((c) => String(c.id) === panelId) ?? null;
+  const submit = () =>
+    create.mutate({
+      uploadId,
+      ...(panelId === "new" ? { panelName, boundarySetId: Number(boundarySetId) } : { panelId: Number(panelId) }),
+      decimal,
+      mapping,
+      remember: true,
+    });
   const columnSelect = (label: string, current: string, set: (v: string) => void) => (
     <Field label={label}>
       <select className={inputClass} value={current} onChange={(e) => set(e.target.value)} aria-label={`${label} column`}>
@@ -307,13 +401,8 @@ function PanelFormFields({
       className="space-y-3"
       onSubmit={(e) => {
         e.preventDefault();
-        create.mutate({
-          uploadId,
-          ...(panelId === "new" ? { panelName, boundarySetId: Number(boundarySetId) } : { panelId: Number(panelId) }),
-          decimal,
-          mapping,
-          remember: true,
-        });
+        if (chosenMatch && !chosenMatch.matches) setConfirming(chosenMatch);
+        else submit();
       }}
     >
       <p className="text-xs text-ink-500">
@@ -324,16 +413,16 @@ function PanelFormFields({
       {preview.remembered ? (
         <Notice>This header was mapped before in this workspace; that mapping is filled in.</Notice>
       ) : preview.suggestion.notes.length ? (
-        <Notice>{preview.suggestion.notes.join(" ")}</Notice>
+        <Notice>{preview.suggestion.notes.join("; ")}</Notice>
       ) : null}
       <Field label="Panel">
-        <select className={inputClass} value={panelId} onChange={(e) => setPanelId(e.target.value)} aria-label="Panel">
+        <select className={inputClass} value={panelId} onChange={(e) => setPanelId(e.target.value)} aria-label="Panel" data-testid="panel-choice">
+          <option value="new">A new panel…</option>
           {panels.map((p) => (
             <option key={p.id} value={p.id}>
-              {p.name} (new version)
+              New version of {p.name}
             </option>
           ))}
-          <option value="new">A new panel…</option>
         </select>
         {panelId === "new" ? (
           <div className="mt-2 space-y-2">
@@ -348,12 +437,14 @@ function PanelFormFields({
             </select>
           </div>
         ) : null}
+        <TargetNote suggestion={target} chosen={panelId} what="indicator" kind="panel" />
       </Field>
       <div className="grid grid-cols-2 gap-3">
         <Field label="Layout">
-          <select className={inputClass} value={layout} onChange={(e) => setLayout(e.target.value === "wide" ? "wide" : "long")} aria-label="Layout">
+          <select className={inputClass} value={layout} onChange={(e) => setLayout(e.target.value === "wide" ? "wide" : e.target.value === "wide-period" ? "wide-period" : "long")} aria-label="Layout">
             <option value="long">Long: region, period, indicator, value</option>
             <option value="wide">Wide: one column per indicator</option>
+            <option value="wide-period">Wide by period: periods in the column headers</option>
           </select>
         </Field>
         <Field label="Decimal separator">
@@ -365,7 +456,7 @@ function PanelFormFields({
       </div>
       <div className="grid grid-cols-2 gap-3">
         {columnSelect("Region", region, setRegion)}
-        {columnSelect("Period", period, setPeriod)}
+        {layout !== "wide-period" ? columnSelect("Period", period, setPeriod) : null}
         {layout === "long" ? columnSelect("Indicator", indicator, setIndicator) : null}
         {layout === "long" ? columnSelect("Value", value, setValue) : null}
       </div>
@@ -382,6 +473,58 @@ function PanelFormFields({
                 </label>
               ))}
           </div>
+        </fieldset>
+      ) : null}
+      {layout === "wide-period" ? (
+        <fieldset data-testid="period-columns">
+          <legend className={labelClass}>Period columns</legend>
+          {candidates.length === 0 ? (
+            <p className="mt-1 text-sm text-red-700">No column header names a period (such as income_2019 or 2019); choose another layout.</p>
+          ) : (
+            <table className="mt-1 text-sm">
+              <thead>
+                <tr className="text-left text-xs uppercase text-ink-400">
+                  <th className="py-1 pr-4 font-medium">Read</th>
+                  <th className="py-1 pr-4 font-medium">Column</th>
+                  <th className="py-1 pr-4 font-medium">Indicator</th>
+                  <th className="py-1 font-medium">Period</th>
+                </tr>
+              </thead>
+              <tbody>
+                {candidates.map((c) => (
+                  <tr key={c.column}>
+                    <td className="py-0.5 pr-4">
+                      <input
+                        type="checkbox"
+                        aria-label={`Read column ${c.column}`}
+                        checked={periodColumns.includes(c.column)}
+                        onChange={(e) => setPeriodColumns((list) => (e.target.checked ? [...list, c.column] : list.filter((x) => x !== c.column)))}
+                      />
+                    </td>
+                    <td className="py-0.5 pr-4 font-mono text-xs">{c.column}</td>
+                    <td className="py-0.5 pr-4">{c.indicator ?? <span className="text-ink-400">{periodIndicator.trim() || "(name it below)"}</span>}</td>
+                    <td className="py-0.5">{c.period}</td>
+                  </tr>
+                ))}
+              </tbody>
+            </table>
+          )}
+          {needsIndicatorName ? (
+            <div className="mt-2">
+              <label className={labelClass} htmlFor="period-indicator">
+                Indicator code of the columns that name only a period
+              </label>
+              <input
+                id="period-indicator"
+                className={`${inputClass} mt-1`}
+                value={periodIndicator}
+                onChange={(e) => setPeriodIndicator(e.target.value)}
+                required
+                maxLength={120}
+              />
+              <p className="mt-1 text-xs text-ink-400">Proposed from the file name; use the code the indicator has in your other panels.</p>
+            </div>
+          ) : null}
         </fieldset>
       ) : null}
       {preview.sampleRows.length ? (
@@ -413,13 +556,22 @@ function PanelFormFields({
       ) : null}
       {create.error ? <Notice tone="error">{create.error.message}</Notice> : null}
       <div className="flex gap-2">
-        <button type="submit" className={primaryButton} disabled={create.isPending}>
+        <button type="submit" className={primaryButton} disabled={create.isPending || (layout === "wide-period" && chosenPeriodColumns.length === 0)}>
           {create.isPending ? "Starting…" : "Validate panel"}
         </button>
         <button type="button" className={secondaryButton} onClick={onCancel}>
           Start over
         </button>
       </div>
+      <MismatchDialog
+        match={confirming}
+        what="indicator"
+        onConfirm={() => {
+          setConfirming(null);
+          submit();
+        }}
+        onCancel={() => setConfirming(null)}
+      />
     </form>
   );
 }

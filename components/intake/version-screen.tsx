@@ -4,8 +4,10 @@ import Link from "next/link";
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useState } from "react";
 import { dangerButton, primaryButton } from "@/components/ui/button-styles";
+import { ConfirmDialog } from "@/components/ui/confirm-dialog";
 import type { BoundaryReport } from "@/lib/intake/ingest-boundaries";
 import type { VersionDetail } from "@/lib/intake/queries";
+import { publishCounts } from "@/lib/intake/publish-summary";
 import type { PanelReport } from "@/lib/intake/report";
 import type { VersionDiff } from "@/models/intake-types";
 import { BoundaryMap } from "./boundary-map";
@@ -15,7 +17,7 @@ import { formatBytes } from "./upload-file";
 
 type Kind = "boundaries" | "panel";
 
-export function VersionScreen({ slug, kind, versionId, canCurate }: { slug: string; kind: Kind; versionId: number; canCurate: boolean }) {
+export function VersionScreen({ slug, kind, versionId, canCurate, workspaceName }: { slug: string; kind: Kind; versionId: number; canCurate: boolean; workspaceName: string }) {
   const version = useQuery(versionQuery(slug, kind, versionId));
   if (version.isPending) return <p className="text-sm text-ink-500">Loading the version…</p>;
   if (version.error) return <Notice tone="error">{version.error.message}</Notice>;
@@ -39,7 +41,7 @@ export function VersionScreen({ slug, kind, versionId, canCurate }: { slug: stri
         </div>
         <div className="flex items-center gap-3">
           <StateBadge state={v.state} />
-          {canCurate ? <VersionActions slug={slug} detail={v} /> : null}
+          {canCurate ? <VersionActions slug={slug} detail={v} workspaceName={workspaceName} /> : null}
         </div>
       </div>
       {v.state === "uploaded" ? <Notice>Validation is running in the background; this page updates when it finishes.</Notice> : null}
@@ -50,25 +52,80 @@ export function VersionScreen({ slug, kind, versionId, canCurate }: { slug: stri
   );
 }
 
-function VersionActions({ slug, detail }: { slug: string; detail: VersionDetail }) {
+function PublishSummary({ detail, workspaceName }: { detail: VersionDetail; workspaceName: string }) {
+  const counts = publishCounts(detail);
+  const n = (value: number | null) => (value === null ? "—" : value.toLocaleString("en"));
+  const list = (items: string[]) => (items.length <= 6 ? items.join(", ") : `${items.slice(0, 3).join(", ")} … ${items[items.length - 1]}`);
+  return (
+    <>
+      <p>
+        You are publishing <strong>{detail.parentName} v{detail.version}</strong> ({detail.fileName}).
+      </p>
+      {detail.kind === "panel" ? (
+        <ul className="list-disc pl-5" data-testid="publish-counts">
+          <li>{n(counts.regions)} regions</li>
+          <li>
+            {counts.indicators.length} indicator{counts.indicators.length === 1 ? "" : "s"}: {list(counts.indicators) || "none"}
+          </li>
+          <li>
+            {counts.periods.length} period{counts.periods.length === 1 ? "" : "s"}: {list(counts.periods) || "none"}
+          </li>
+          <li>
+            {n(counts.observations)} observations{counts.missing > 0 ? ` (${n(counts.missing)} of them missing values)` : ""}
+          </li>
+        </ul>
+      ) : (
+        <ul className="list-disc pl-5" data-testid="publish-counts">
+          <li>{n(counts.regions)} regions with their boundaries and names</li>
+        </ul>
+      )}
+      <p>
+        Economists and subscribers of <strong>{workspaceName}</strong> will see{" "}
+        {detail.kind === "panel"
+          ? "these indicators, periods and values on maps, in the catalogue and in digests, and analyses can be run on them"
+          : "these boundaries on maps, and panels matched against them can then be published"}
+        .
+      </p>
+      <p className="font-medium">Published versions cannot be changed, only archived.</p>
+    </>
+  );
+}
+
+function VersionActions({ slug, detail, workspaceName }: { slug: string; detail: VersionDetail; workspaceName: string }) {
   const client = useQueryClient();
   const [message, setMessage] = useState<string | null>(null);
+  const [confirming, setConfirming] = useState(false);
   const act = useMutation({
     mutationFn: (action: "publish" | "archive") => (action === "publish" ? intakeApi.publish(slug, detail.kind, detail.id) : intakeApi.archive(slug, detail.kind, detail.id)),
     onSuccess: () => {
       setMessage(null);
+      setConfirming(false);
       return client.invalidateQueries({ queryKey: intakeKeys.all(slug) });
     },
-    onError: (e) => setMessage(e.message),
+    onError: (e) => {
+      setConfirming(false);
+      setMessage(e.message);
+    },
   });
   return (
     <div className="flex flex-col items-end gap-2">
       <div className="flex gap-2">
         {detail.state === "validated" ? (
-          <button type="button" className={primaryButton} disabled={act.isPending} onClick={() => act.mutate("publish")}>
-            Publish
+          <button type="button" className={primaryButton} disabled={act.isPending} onClick={() => setConfirming(true)}>
+            Publish…
           </button>
         ) : null}
+        <ConfirmDialog
+          open={confirming}
+          title={`Publish ${detail.parentName} v${detail.version}?`}
+          confirmLabel="Publish"
+          busy={act.isPending}
+          onConfirm={() => act.mutate("publish")}
+          onCancel={() => setConfirming(false)}
+          testId="publish-dialog"
+        >
+          <PublishSummary detail={detail} workspaceName={workspaceName} />
+        </ConfirmDialog>
         {detail.state === "validated" || detail.state === "published" ? (
           <button
             type="button"

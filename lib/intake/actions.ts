@@ -26,14 +26,16 @@ import { env } from "@/lib/config/env";
 import { copyObject, deleteObject, getObjectBytes, getObjectStream, headObject, presignPut } from "@/lib/storage/s3";
 import { models } from "@/models";
 import type { UploadKind } from "@/models/intake-types";
-import { inspectBoundaries, loadBoundaries, BoundaryError, type BoundarySummary } from "./boundaries";
+import { boundaryIds, inspectBoundaries, loadBoundaries, BoundaryError, type BoundarySummary } from "./boundaries";
 import { id, idText, text, uuidText } from "@/lib/http/params";
-import { normaliseHeader } from "./mapping";
+import { fileIndicatorCodes, indicatorFromFileName, normaliseHeader } from "./mapping";
 import { PREVIEW_RULES } from "./queries";
-import { readPanelHeader, type PanelPreview } from "./preview";
+import { readPanelHeader, readPanelSample, type PanelPreview } from "./preview";
 import { columnMappingSchema, decimalSchema, type ColumnMapping } from "./schemas";
 import { StorageQuotaError, lockWorkspaceQuota, quotaRefusal, workspaceStorageUsed } from "./storage-quota";
 import { versionFileKey } from "./version-files";
+import { suggestTarget, type TargetSuggestion } from "./version-target";
+import { boundaryTargetCandidates, panelTargetCandidates } from "./version-target-queries";
 
 /** Largest file accepted, in bytes (checked before anything is read or signed). */
 export const MAX_UPLOAD_BYTES = 200 * 1024 * 1024;
@@ -344,21 +346,30 @@ export interface PanelUploadPreview extends PanelPreview {
   upload: UploadView;
   signature: string;
   /** A mapping remembered for this header in this workspace, if any (it wins over the suggestion). */
-  remembered: { layout: "long" | "wide"; mapping: ColumnMapping } | null;
+  remembered: { layout: ColumnMapping["layout"]; mapping: ColumnMapping } | null;
+  /** For headers that name only periods (`region,2019,2020`): the indicator code proposed for them, from the file name. */
+  periodIndicator: string;
+  /** A new panel, or a new version of the panel whose latest version shares at least half of this file's (sampled) indicator codes. */
+  target: TargetSuggestion;
 }
 
 export async function previewPanelUpload(member: MemberContext, uploadId: string): Promise<PanelUploadPreview> {
   const upload = await receivedUpload(member, uploadId, "panel");
-  const preview = await readPanelHeader((await getObjectStream(upload.s3Key)) as Readable);
+  const periodIndicator = indicatorFromFileName(upload.fileName);
+  const { preview, rows } = await readPanelSample((await getObjectStream(upload.s3Key)) as Readable, undefined, 5, { periodIndicator });
   const signature = headerSignature(preview.header);
   const { ColumnMappingMemory } = models();
   const memory = await ColumnMappingMemory.findOne({ where: { workspaceId: member.workspace.id, headerSignature: signature } });
   const parsed = memory ? columnMappingSchema.safeParse(memory.mapping) : null;
+  const remembered = parsed?.success ? { layout: parsed.data.layout, mapping: parsed.data } : null;
+  const indicators = fileIndicatorCodes(remembered?.mapping ?? preview.suggestion.mapping, preview.header, rows);
   return {
     ...preview,
     upload: uploadView(upload),
     signature,
-    remembered: parsed?.success ? { layout: parsed.data.layout, mapping: parsed.data } : null,
+    remembered,
+    periodIndicator,
+    target: suggestTarget(indicators, await panelTargetCandidates(member.workspace.id), "indicator"),
   };
 }
 
@@ -367,17 +378,47 @@ export interface BoundaryUploadPreview {
   summary: BoundarySummary | null;
   /** Why the file could not be read, when it could not. */
   problem: string | null;
+  /**
+   * Per object and candidate code property: a new boundary set, or a new
+   * version of the set whose latest version holds at least half of the
+   * file's region codes under that choice.
+   */
+  targets: BoundaryTarget[];
+}
+
+export interface BoundaryTarget {
+  object: string;
+  idProperty: string;
+  suggestion: TargetSuggestion;
 }
 
 export async function previewBoundaryUpload(member: MemberContext, uploadId: string): Promise<BoundaryUploadPreview> {
   const upload = await receivedUpload(member, uploadId, "boundaries");
   const text = (await getObjectBytes(upload.s3Key)).toString("utf8");
+  let loaded;
   try {
-    return { upload: uploadView(upload), summary: inspectBoundaries(loadBoundaries(text)), problem: null };
+    loaded = loadBoundaries(text);
   } catch (err) {
-    if (err instanceof BoundaryError) return { upload: uploadView(upload), summary: null, problem: err.message };
+    if (err instanceof BoundaryError) return { upload: uploadView(upload), summary: null, problem: err.message, targets: [] };
     throw err;
   }
+  const summary = inspectBoundaries(loaded);
+  const candidates = await boundaryTargetCandidates(member.workspace.id);
+  const targets: BoundaryTarget[] = [];
+  for (const object of summary.objects) {
+    // Only properties that can be the code (present, non-empty, unique): the others would fail validation anyway.
+    for (const idProperty of object.candidateIdProperties) {
+      let codes: string[];
+      try {
+        codes = boundaryIds(loaded, object.name, idProperty);
+      } catch (err) {
+        if (err instanceof BoundaryError) continue;
+        throw err;
+      }
+      targets.push({ object: object.name, idProperty, suggestion: suggestTarget(codes, candidates, "region") });
+    }
+  }
+  return { upload: uploadView(upload), summary, problem: null, targets };
 }
 
 // ---------------------------------------------------------------- versions

@@ -6,7 +6,8 @@ export { Utf8StreamDecoder, type EncodingProblem, type EncodingSummary } from ".
 export { sniffDelimiter, sniffNewline, delimiterName, DELIMITERS, type Delimiter, type DelimiterGuess } from "./sniff";
 export { parsePeriod, sortPeriods, yearPeriod, quarterPeriod, monthPeriod, type Period, type PeriodParse, type Granularity } from "./periods";
 export { parseNumber, isMissingToken, type DecimalSeparator, type NumberParse } from "./numbers";
-export { suggestMapping, requiredColumns, normaliseHeader, type MappingSuggestion } from "./mapping";
+export { suggestMapping, requiredColumns, normaliseHeader, headerPeriod, periodColumnsOf, fileIndicatorCodes, indicatorFromFileName, type MappingSuggestion, type HeaderPeriod, type SuggestOptions } from "./mapping";
+export { suggestTarget, matchCandidate, mismatchWarning, MATCH_SHARE, type TargetSuggestion, type TargetCandidate, type CandidateMatch } from "./version-target";
 export { validatePanel, validatePanelStream, type ValidatePanelInput } from "./validate";
 export { readPanelHeader, type PanelPreview } from "./preview";
 export {

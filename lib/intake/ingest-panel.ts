@@ -14,7 +14,7 @@ import { from as copyFrom } from "pg-copy-streams";
 import type pg from "pg";
 import { StoredFileChecksumError } from "@/lib/storage/errors";
 import { validatePanelStream } from "./validate";
-import { columnMappingSchema, type ColumnMapping } from "./schemas";
+import { columnMappingSchema, type ColumnMapping, type PanelLayout } from "./schemas";
 import type { Observation, PanelReport } from "./report";
 import { inTransaction, intakePool } from "./ingest-db";
 import { drainable, streamVersionFile } from "./version-files";
@@ -49,7 +49,7 @@ interface VersionRow {
   state: string;
   s3_key: string;
   sha256: string;
-  layout: "long" | "wide";
+  layout: PanelLayout;
   decimal_separator: "." | ",";
   mapping: unknown;
   boundary_version_id: number;

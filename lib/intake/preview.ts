@@ -4,7 +4,7 @@
  */
 import Papa from "papaparse";
 import { Utf8StreamDecoder } from "./encoding";
-import { suggestMapping, type MappingSuggestion } from "./mapping";
+import { suggestMapping, type MappingSuggestion, type SuggestOptions } from "./mapping";
 import type { PanelLayout } from "./schemas";
 import { sniffDelimiter, sniffNewline, type DelimiterGuess } from "./sniff";
 
@@ -19,12 +19,23 @@ export interface PanelPreview {
 }
 
 const PREVIEW_BYTES = 64 * 1024;
+const INDICATOR_SAMPLE_ROWS = 2000;
 
 /**
  * Reads the first 64 KiB of `source` (then stops reading it) and suggests how
  * to read the panel.
  */
-export async function readPanelHeader(source: AsyncIterable<Uint8Array>, layout?: PanelLayout, sampleSize = 5): Promise<PanelPreview> {
+export async function readPanelHeader(source: AsyncIterable<Uint8Array>, layout?: PanelLayout, sampleSize = 5, suggest: SuggestOptions = {}): Promise<PanelPreview> {
+  return (await readPanelSample(source, layout, sampleSize, suggest)).preview;
+}
+
+/** {@link readPanelHeader}, also handing back every row parsed in the window (up to 2,000), e.g. to read a long file's indicator codes. */
+export async function readPanelSample(
+  source: AsyncIterable<Uint8Array>,
+  layout?: PanelLayout,
+  sampleSize = 5,
+  suggest: SuggestOptions = {},
+): Promise<{ preview: PanelPreview; rows: string[][] }> {
   const decoder = new Utf8StreamDecoder(1);
   let text = "";
   let bytes = 0;
@@ -47,18 +58,21 @@ export async function readPanelHeader(source: AsyncIterable<Uint8Array>, layout?
   const parsed = Papa.parse<string[]>(text, {
     delimiter: delimiter.delimiter,
     newline: sniffNewline(text),
-    preview: sampleSize + 1,
+    // More rows than shown: a long file's indicator codes are read from them (all within the 64 KiB window).
+    preview: Math.max(sampleSize, INDICATOR_SAMPLE_ROWS) + 1,
     skipEmptyLines: true,
   });
   const [headerRow = [], ...rows] = parsed.data;
   const header = headerRow.map((field) => field.trim());
-  return {
+  const preview: PanelPreview = {
     bom: encoding.bom,
     encodingProblem,
     delimiter,
     header,
     // The last sampled row may be cut by the 64 KiB window only when it is the very end; preview stops well before.
     sampleRows: rows.slice(0, sampleSize),
-    suggestion: suggestMapping(header, layout),
+    suggestion: suggestMapping(header, layout, suggest),
   };
+  // A last row cut by the 64 KiB window would add a half-written code; drop it when the file goes on.
+  return { preview, rows: complete ? rows : rows.slice(0, -1) };
 }

@@ -25,9 +25,28 @@ export const wideMappingSchema = z.object({
   indicators: z.array(columnName).min(1, "choose at least one indicator column"),
 });
 
-export const columnMappingSchema = z.discriminatedUnion("layout", [longMappingSchema, wideMappingSchema]);
+/** One header column of a wide-by-period file: the indicator and the period its cells hold. */
+export const periodColumnSchema = z.object({
+  column: columnName,
+  indicator: text({ min: 1, max: 120, empty: "name the indicator of the column", tooLong: "the indicator code must have 1 to 120 characters" }),
+  /** As written in the header (any spelling parsePeriod accepts); the validator parses it and names the column if it cannot. */
+  period: text({ min: 1, max: 40, empty: "the column needs a period" }),
+});
 
-export const layoutSchema = z.enum(["long", "wide"]);
+/**
+ * Wide by period: one row per region, the periods (and indicators) in the
+ * header, e.g. `region,unemployment_rate_2019,unemployment_rate_2020` or, for a
+ * single indicator named by the user, `region,2019,2020`.
+ */
+export const widePeriodMappingSchema = z.object({
+  layout: z.literal("wide-period"),
+  region: columnName,
+  columns: z.array(periodColumnSchema).min(1, "choose at least one period column").max(10_000, "at most 10,000 period columns"),
+});
+
+export const columnMappingSchema = z.discriminatedUnion("layout", [longMappingSchema, wideMappingSchema, widePeriodMappingSchema]);
+
+export const layoutSchema = z.enum(["long", "wide", "wide-period"]);
 export const decimalSchema = z.enum([".", ","]);
 export const delimiterSchema = z.enum([",", ";", "\t"]);
 
@@ -40,6 +59,8 @@ export const panelOptionsSchema = z.object({
   layout: layoutSchema.optional(),
   /** Column mapping; suggested from the header when absent. */
   mapping: columnMappingSchema.optional(),
+  /** When the mapping is suggested: the indicator code of header columns that name only a period (`region,2019,2020`). */
+  periodIndicator: z.string().trim().min(1).max(120).optional(),
   /** Region codes rows with a code absent from the boundaries: an error (default), or dropped with a warning. */
   unknownRegions: z.enum(["error", "drop"]).default("error"),
   /** Cap on the errors (and warnings) listed; the counts are always complete. */
@@ -51,6 +72,8 @@ export const panelOptionsSchema = z.object({
 export type ColumnMapping = z.infer<typeof columnMappingSchema>;
 export type LongMapping = z.infer<typeof longMappingSchema>;
 export type WideMapping = z.infer<typeof wideMappingSchema>;
+export type WidePeriodMapping = z.infer<typeof widePeriodMappingSchema>;
+export type PeriodColumn = z.infer<typeof periodColumnSchema>;
 export type PanelLayout = z.infer<typeof layoutSchema>;
 export type PanelOptionsInput = z.input<typeof panelOptionsSchema>;
 export type PanelOptions = z.output<typeof panelOptionsSchema>;

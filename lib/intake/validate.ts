@@ -296,8 +296,26 @@ class PanelState {
   }
 }
 
+/** A column of a wide-by-period file, resolved: its position, indicator index and period index. */
+interface PeriodColumnIndex {
+  index: number;
+  indicator: string;
+  indicatorIdx: number;
+  period: Period;
+  periodIdx: number;
+}
+
+interface HeaderColumns {
+  region: number;
+  period: number;
+  indicator: number;
+  value: number;
+  indicators: number[];
+  periodColumns: PeriodColumnIndex[];
+}
+
 /** Resolves the mapping from the header; records header problems. Returns column indices or null to stop. */
-function resolveHeader(state: PanelState, header: string[]): { region: number; period: number; indicator: number; value: number; indicators: number[] } | null {
+function resolveHeader(state: PanelState, header: string[]): HeaderColumns | null {
   state.header = header;
   const seen = new Map<string, number>();
   header.forEach((name, index) => {
@@ -309,7 +327,7 @@ function resolveHeader(state: PanelState, header: string[]): { region: number; p
   const { options } = state;
   let mapping = options.mapping ?? null;
   if (mapping === null) {
-    const suggestion = suggestMapping(header, options.layout);
+    const suggestion = suggestMapping(header, options.layout, { periodIndicator: options.periodIndicator });
     if (suggestion.mapping === null) {
       state.stop(0, null, `could not map the header [${header.join(", ")}]: ${suggestion.notes.join("; ")}`);
       return null;
@@ -336,13 +354,64 @@ function resolveHeader(state: PanelState, header: string[]): { region: number; p
   }
   const index = (name: string): number => seen.get(name) ?? -1;
   if (mapping.layout === "long") {
-    return { region: index(mapping.region), period: index(mapping.period), indicator: index(mapping.indicator), value: index(mapping.value), indicators: [] };
+    return { region: index(mapping.region), period: index(mapping.period), indicator: index(mapping.indicator), value: index(mapping.value), indicators: [], periodColumns: [] };
+  }
+  if (mapping.layout === "wide-period") {
+    const periodColumns = resolvePeriodColumns(state, mapping.region, mapping.columns, index);
+    return periodColumns === null ? null : { region: index(mapping.region), period: -1, indicator: -1, value: -1, indicators: [], periodColumns };
   }
   const used = new Set([mapping.region, mapping.period]);
   for (const column of mapping.indicators) {
     if (used.has(column)) state.errors.add(0, column, `column '${column}' is mapped twice (as region or period and as an indicator)`);
   }
-  return { region: index(mapping.region), period: index(mapping.period), indicator: -1, value: -1, indicators: mapping.indicators.map(index) };
+  return { region: index(mapping.region), period: index(mapping.period), indicator: -1, value: -1, indicators: mapping.indicators.map(index), periodColumns: [] };
+}
+
+/**
+ * The header of a wide-by-period file: each mapped column's period is parsed
+ * here, once, and every problem names the header column (row 0): a period
+ * that is not one, a granularity other than the first column's, a column that
+ * repeats another's indicator and period, or the region column mapped again.
+ */
+function resolvePeriodColumns(
+  state: PanelState,
+  region: string,
+  columns: readonly { column: string; indicator: string; period: string }[],
+  index: (name: string) => number,
+): PeriodColumnIndex[] | null {
+  const resolved: PeriodColumnIndex[] = [];
+  const seen = new Map<string, string>();
+  const mappedTwice = new Set<string>();
+  for (const { column, indicator, period: raw } of columns) {
+    if (column === region) {
+      state.errors.add(0, column, `column '${column}' is mapped twice (as the region and as a period column)`);
+      continue;
+    }
+    if (mappedTwice.has(column)) {
+      state.errors.add(0, column, `column '${column}' is mapped twice`);
+      continue;
+    }
+    mappedTwice.add(column);
+    const parsed = parsePeriod(raw);
+    if (!parsed.ok) {
+      state.errors.add(0, column, `header column '${column}': ${parsed.message}`);
+      continue;
+    }
+    if (!state.sameGranularity(parsed.period, raw, 0, column)) continue;
+    const code = indicator.trim();
+    const key = `${code}\u0000${parsed.period.key}`;
+    const earlier = seen.get(key);
+    if (earlier !== undefined) {
+      state.errors.add(0, column, `header columns '${earlier}' and '${column}' both hold indicator '${code}' for period ${parsed.period.key}`);
+      continue;
+    }
+    seen.set(key, column);
+    const indicatorIdx = state.indicator(code, 0, column);
+    const periodIdx = state.period(parsed.period, 0, column);
+    if (indicatorIdx < 0 || periodIdx < 0) return null;
+    resolved.push({ index: index(column), indicator: code, indicatorIdx, period: parsed.period, periodIdx });
+  }
+  return resolved;
 }
 
 /**
@@ -432,6 +501,7 @@ export async function* validatePanelStream(input: ValidatePanelInput): AsyncGene
           continue;
         }
         if (state.mapping?.layout === "long") longRow(state, columns, fields, row, batch);
+        else if (state.mapping?.layout === "wide-period") widePeriodRow(state, columns, fields, row, batch);
         else wideRow(state, columns, fields, row, batch);
         if (state.stopped) break;
         if (batch.length >= BATCH_SIZE) {
@@ -547,6 +617,36 @@ function wideRow(state: PanelState, columns: Columns, fields: string[], row: num
   }
 }
 
+/** One row of a wide-by-period file: a region, then one cell per mapped header column (indicator and period from the header). */
+function widePeriodRow(state: PanelState, columns: Columns, fields: string[], row: number, batch: Observation[]): void {
+  const region = regionOf(state, fields, columns, row);
+  const regionIdx = region === null ? -1 : region.index;
+  let duplicateOf = 0;
+  let duplicates = 0;
+  for (const { index, indicator, indicatorIdx, period, periodIdx } of columns.periodColumns) {
+    const column = state.header[index];
+    const parsed = parseNumber(fields[index], state.options.decimal);
+    if (parsed.kind === "invalid") {
+      state.errors.add(row, column, parsed.message);
+      continue;
+    }
+    if (parsed.kind === "value" && parsed.groupedWithOtherMark) noteGrouping(state, fields[index], row, column);
+    if (region === null || regionIdx < 0) continue;
+    const firstRow = state.claimCell(regionIdx, periodIdx, indicatorIdx, row);
+    if (firstRow !== 0) {
+      duplicateOf = firstRow;
+      duplicates += 1;
+      state.recordDuplicate({ region: region.code, period: period.key, indicator, firstRow, row });
+      continue;
+    }
+    if (parsed.kind === "missing") state.countMissing(indicatorIdx, periodIdx);
+    batch.push({ region: region.code, periodKey: period.key, indicator, value: parsed.kind === "value" ? parsed.value : null, row });
+  }
+  if (duplicates > 0 && region !== null) {
+    state.errors.add(row, state.header[columns.region], `duplicate: region '${region.code}' was already given on row ${duplicateOf} (${duplicates} cell(s))`);
+  }
+}
+
 function closeMatch(code: string, ids: ReadonlySet<string>, lowerIds: Map<string, string>): string | null {
   const lower = lowerIds.get(code.toLowerCase());
   if (lower !== undefined) return lower;
@@ -616,7 +716,7 @@ function buildReport(state: PanelState, decoder: Utf8StreamDecoder, decimal: Dec
   for (let i = 1; i < periodsSorted.length; i += 1) {
     const gap = periodsSorted[i].ordinal - periodsSorted[i - 1].ordinal;
     if (gap > 1) {
-      state.warnings.add(null, state.mapping?.period ?? null, `periods jump from ${periodsSorted[i - 1].label} to ${periodsSorted[i].label}: ${gap - 1} period(s) in between have no rows`);
+      state.warnings.add(null, state.mapping && "period" in state.mapping ? state.mapping.period : null, `periods jump from ${periodsSorted[i - 1].label} to ${periodsSorted[i].label}: ${gap - 1} period(s) in between have no rows`);
     }
   }
 

@@ -17,5 +17,5 @@ export default async function VersionPage({ params }: { params: Promise<{ slug: 
   if (!parsed.success) notFound();
   const id = parsed.data;
   if (!(await versionDetail(access.workspace.id, "boundaries", id, can(access.role, "data.view-unpublished")))) notFound();
-  return <VersionScreen slug={slug} kind="boundaries" versionId={id} canCurate={can(access.role, "data.curate")} />;
+  return <VersionScreen slug={slug} kind="boundaries" versionId={id} canCurate={can(access.role, "data.curate")} workspaceName={access.workspace.name} />;
 }
