@@ -10,6 +10,10 @@ export class DigestDelivery extends Model<InferAttributes<DigestDelivery>, Infer
   declare messageId: CreationOptional<string | null>;
   declare attempts: CreationOptional<number>;
   declare error: CreationOptional<string | null>;
+  /** Why a skipped digest was not sent (migration 20261211000100). */
+  declare skippedReason: CreationOptional<string | null>;
+  /** The run whose results the digest reported. */
+  declare coveredRunId: CreationOptional<number | null>;
   declare sentAt: CreationOptional<Date | null>;
   declare summary: CreationOptional<Record<string, unknown> | null>;
   declare createdAt: CreationOptional<Date>;

@@ -310,6 +310,8 @@ function initModels(): void {
       messageId: { type: DataTypes.STRING(400), allowNull: true },
       attempts: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
       error: { type: DataTypes.TEXT, allowNull: true },
+      skippedReason: { type: DataTypes.TEXT, allowNull: true },
+      coveredRunId: { type: DataTypes.INTEGER, allowNull: true },
       sentAt: { type: DataTypes.DATE, allowNull: true },
       summary: { type: DataTypes.JSONB, allowNull: true },
       createdAt: DataTypes.DATE,

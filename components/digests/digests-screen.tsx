@@ -5,6 +5,8 @@ import { useState } from "react";
 import { ApiError } from "@/components/team/query-options";
 import { inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
 import { subscriptionInputSchema } from "@/lib/digests/schemas";
+import type { SendNowAnswer } from "@/lib/digests/answers";
+import type { DeliveryView } from "@/lib/digests/queries";
 import type { DigestCadence, DigestEmptyPolicy, DigestScope, DigestThreshold } from "@/models/digest-types";
 import { digestKeys, ownDigestQuery, previewQuery, saveSubscription, sendNow, subscribersQuery } from "./query-options";
 
@@ -30,6 +32,41 @@ function covers(runId: number | null, key: string): string {
   return period.startsWith("manual-") ? "on request" : period;
 }
 
+const STATUS_LABELS: Record<DeliveryView["status"], string> = { queued: "queued", sending: "sending", sent: "sent", skipped: "skipped", failed: "failed" };
+
+/** The history's last column: why a digest was skipped, what failed, or the subject of one sent. */
+function deliveryNote(d: DeliveryView): string {
+  if (d.status === "skipped") return d.skippedReason ?? "";
+  if (d.status === "failed") return d.error ? `${d.error} Tessera tries again.` : "";
+  return typeof d.summary?.subject === "string" ? d.summary.subject : "";
+}
+
+/**
+ * What became of "Send me this digest now": the answer's sentence, then,
+ * for a queued digest, what its delivery row says once the job is done.
+ */
+function SendOutcome({ answer, error, deliveries }: { answer: SendNowAnswer | null; error: Error | null; deliveries: DeliveryView[] }) {
+  if (error) return <p role="alert" className="text-sm text-red-800">{error instanceof ApiError ? error.message : "Sending did not work. Try again."}</p>;
+  if (!answer) return null;
+  const row = deliveries.find((d) => d.idempotencyKey === answer.idempotencyKey);
+  const followUp =
+    answer.status === "queued" || answer.status === "retrying"
+      ? row?.status === "sent"
+        ? `Sent ${fmt(row.sentAt)}.`
+        : row?.status === "skipped"
+          ? `In the end nothing was sent: ${row.skippedReason ?? ""}`
+          : row?.status === "failed"
+            ? `Not sent yet: ${row.error ?? "the mail server refused"}. Tessera tries again.`
+            : null
+      : null;
+  return (
+    <p role="status" className={`text-sm ${answer.status === "skipped" ? "text-ink-700" : "text-ink-500"}`} data-testid="digest-send-outcome" data-status={answer.status}>
+      {answer.sentence}
+      {followUp ? ` ${followUp}` : ""}
+    </p>
+  );
+}
+
 export function DigestsScreen({ slug }: { slug: string }) {
   const client = useQueryClient();
   const own = useQuery(ownDigestQuery(slug));
@@ -46,7 +83,8 @@ export function DigestsScreen({ slug }: { slug: string }) {
     mutationFn: (body: Form) => saveSubscription(slug, body),
     onSuccess: () => client.invalidateQueries({ queryKey: digestKeys.all(slug) }),
   });
-  const send = useMutation({ mutationFn: () => sendNow(slug), onSuccess: () => client.invalidateQueries({ queryKey: digestKeys.own(slug) }) });
+  // Both the history and the preview change after a send (a sent digest becomes the next one's baseline).
+  const send = useMutation({ mutationFn: () => sendNow(slug), onSuccess: () => client.invalidateQueries({ queryKey: digestKeys.all(slug) }) });
 
   function submit(event: React.FormEvent) {
     event.preventDefault();
@@ -152,32 +190,39 @@ export function DigestsScreen({ slug }: { slug: string }) {
               </button>
             ) : null}
             {save.isSuccess ? <span role="status" className="self-center text-sm text-ink-500">Saved.</span> : null}
-            {send.isSuccess ? <span role="status" className="self-center text-sm text-ink-500">Digest queued.</span> : null}
           </div>
+          <SendOutcome answer={send.data ?? null} error={send.error} deliveries={deliveries} />
         </form>
       </section>
 
       {subscription ? (
         <section aria-labelledby="preview">
-          <h2 id="preview" className="text-lg font-semibold text-ink">Preview of your next digest</h2>
+          <h2 id="preview" className="text-lg font-semibold text-ink">What “Send me this digest now” would send</h2>
           {preview.isPending ? <p className="text-sm text-ink-500">Composing…</p> : null}
           {preview.isError ? <p role="alert" className="text-sm text-red-800">{preview.error.message}</p> : null}
           {preview.data ? (
             <div className="mt-2">
-              {preview.data.empty && form.emptyPolicy === "skip" ? (
-                <p className="max-w-3xl rounded-md border border-dashed border-ink-200 p-5 text-sm text-ink-500" data-testid="digest-preview-skipped">
-                  Nothing changed in the indicators you follow since your previous digest, so none would be sent. Choose “Send a short
-                  ‘nothing changed’” to receive one anyway.
-                </p>
-              ) : (
+              <p
+                role="status"
+                className={`max-w-3xl text-sm ${preview.data.decision.send ? "text-ink-700" : "rounded-md border border-dashed border-ink-200 p-4 text-ink-600"}`}
+                data-testid={preview.data.decision.send ? "digest-preview-decision" : "digest-preview-skipped"}
+              >
+                {preview.data.decision.sentence}
+                {!preview.data.decision.send && preview.data.empty && subscription.emptyPolicy === "skip"
+                  ? " Choose “Send a short ‘nothing changed’” to receive one anyway."
+                  : ""}
+              </p>
+              {edited ? <p className="mt-1 text-xs text-ink-500">The preview follows your saved settings; save to see the edited ones.</p> : null}
+              {preview.data.html ? (
                 <>
-                  <p className="text-sm text-ink-700">
+                  <p className="mt-3 text-sm text-ink-700">
                     <span className="font-medium">Subject:</span> {preview.data.subject}
+                    {preview.data.decision.send ? "" : " (not sent)"}
                   </p>
                   {/* sandbox without allow-scripts: the mail's HTML cannot run anything or reach this page. */}
                   <iframe title="Digest preview" sandbox="" srcDoc={preview.data.html} className="mt-2 h-[560px] w-full max-w-3xl rounded-md border border-ink-100 bg-white" />
                 </>
-              )}
+              ) : null}
             </div>
           ) : null}
         </section>
@@ -191,17 +236,17 @@ export function DigestsScreen({ slug }: { slug: string }) {
           ) : (
             <table className="mt-2 w-full max-w-4xl text-left text-sm">
               <thead className="text-ink-500">
-                <tr><th className="py-1 pr-3">Created</th><th className="pr-3">Covers</th><th className="pr-3">Status</th><th className="pr-3">Attempts</th><th className="pr-3">Sent</th><th>Note</th></tr>
+                <tr><th className="py-1 pr-3">Created</th><th className="pr-3">Covers</th><th className="pr-3">Outcome</th><th className="pr-3">Attempts</th><th className="pr-3">Sent</th><th>Why, or what</th></tr>
               </thead>
               <tbody>
                 {deliveries.map((d) => (
-                  <tr key={d.id} className="border-t border-ink-100 align-top">
+                  <tr key={d.id} className="border-t border-ink-100 align-top" data-testid="digest-delivery" data-status={d.status}>
                     <td className="py-1 pr-3">{fmt(d.createdAt)}</td>
-                    <td className="pr-3">{covers(d.runId, d.idempotencyKey)}</td>
-                    <td className="pr-3 font-medium">{d.status}</td>
+                    <td className="pr-3">{covers(d.runId ?? d.coveredRunId, d.idempotencyKey)}</td>
+                    <td className="pr-3 font-medium">{STATUS_LABELS[d.status]}</td>
                     <td className="pr-3">{d.attempts}</td>
                     <td className="pr-3">{fmt(d.sentAt)}</td>
-                    <td className="text-ink-500">{d.error ?? (typeof d.summary?.subject === "string" ? d.summary.subject : "")}</td>
+                    <td className={d.status === "failed" ? "text-red-800" : "text-ink-500"}>{deliveryNote(d)}</td>
                   </tr>
                 ))}
               </tbody>

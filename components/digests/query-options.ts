@@ -1,5 +1,6 @@
 import { queryOptions } from "@tanstack/react-query";
 import { apiFetch } from "@/components/team/query-options";
+import type { DigestPreviewAnswer, SendNowAnswer } from "@/lib/digests/answers";
 import type { DeliveryView, SubscriberListing, SubscriptionView } from "@/lib/digests/queries";
 
 export const digestKeys = {
@@ -17,7 +18,7 @@ export type OwnDigest = {
   deliveries: DeliveryView[];
   canSeeSubscribers: boolean;
 };
-export type DigestPreview = { subject: string; html: string; text: string; empty: boolean; runId: number | null; previousRunId: number | null };
+export type DigestPreview = DigestPreviewAnswer;
 
 export function ownDigestQuery(slug: string) {
   return queryOptions({
@@ -45,5 +46,5 @@ export function saveSubscription(slug: string, body: unknown) {
 }
 
 export function sendNow(slug: string) {
-  return apiFetch<{ idempotencyKey: string }>(`${base(slug)}/send-now`, { method: "POST" });
+  return apiFetch<SendNowAnswer>(`${base(slug)}/send-now`, { method: "POST" });
 }

@@ -55,7 +55,8 @@ export function DeskPanel({ slug }: { slug: string }) {
         <section className="rounded-lg border border-ink-100 bg-white p-6 shadow-sm">
           <h2 className="text-base font-semibold text-ink">Changed since the previous run</h2>
           <p className="mt-1 text-sm text-ink-500">
-            Indicator-periods whose class differs between run {d.latest?.id} and run {d.previous.id}.
+            Indicator-periods whose class differs between run {d.latest?.id} and run {d.previous.id}, the newest earlier run of this panel computed
+            the same way (same weights, transform, island policy, permutations, alpha and correction).
           </p>
           {d.classChanges.length === 0 ? (
             <p className="mt-3 text-sm text-ink-500">No class changed.</p>
@@ -70,6 +71,16 @@ export function DeskPanel({ slug }: { slug: string }) {
               ))}
             </ul>
           )}
+        </section>
+      ) : null}
+
+      {d.methodChange ? (
+        <section className="rounded-lg border border-ink-100 bg-white p-6 shadow-sm" data-testid="desk-method-change">
+          <h2 className="text-base font-semibold text-ink">Changed since the previous run</h2>
+          <p className="mt-1 text-sm text-ink-700">
+            Method changed between run {d.methodChange.runId} and run {d.latest?.id}: {d.methodChange.sentence}. A difference between them would be the
+            method&apos;s, not the data&apos;s, so none is shown.
+          </p>
         </section>
       ) : null}
 

@@ -77,3 +77,25 @@ export function renderIndicatorChart(title: string, points: readonly ChartPoint[
 
 /** The caption printed under every digest chart. */
 export const CHART_CAPTION = "Solid line: Moran's I per period (ochre points are significant after the run's correction). Dashed line: E[I], its expected value with no spatial clustering.";
+
+/**
+ * The chart's SVG with ids and class names that do not depend on the process
+ * that drew it. ECharts names them after a per-process instance counter and
+ * a global class counter ("zr16-cls-64"), so the web app's preview and the
+ * worker's mail of one digest differed in those names alone. Renamed to
+ * `<prefix>-…` in order of first appearance; one prefix per chart keeps two
+ * charts in one mail apart.
+ */
+export function stableSvgIds(svg: string, prefix: string): string {
+  const classes = new Map<string, string>();
+  return svg
+    .replace(/zr\d+-cls-\d+/g, (name) => {
+      let renamed = classes.get(name);
+      if (!renamed) {
+        renamed = `${prefix}-cls-${classes.size}`;
+        classes.set(name, renamed);
+      }
+      return renamed;
+    })
+    .replace(/zr\d+-/g, `${prefix}-`);
+}

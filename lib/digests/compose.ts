@@ -1,7 +1,10 @@
 /**
- * What a digest says: a pure comparison of the results a subscriber saw last
- * (the previous run) with the current ones, filtered by the subscription's
- * scope and threshold. No database, no rendering.
+ * What a digest says: a pure comparison of the results the subscriber's
+ * previous digest reported with the current ones, filtered by the
+ * subscription's scope and threshold. Results are compared only when both
+ * runs were computed the same way (lib/runs/comparability.ts); a first digest
+ * and a digest after a change of method say where the results stand and
+ * compare nothing. No database, no rendering.
  */
 import type { SignificanceClass } from "@/lib/runs/types";
 import type { DigestScope, DigestThreshold } from "@/models/digest-types";
@@ -62,7 +65,30 @@ export interface NewClusterGroup {
   readonly regions: readonly string[];
 }
 
+/**
+ * What the current results are compared with. Only a comparable baseline
+ * carries rows, so a change of method can never turn into a delta.
+ */
+export type DigestComparison =
+  /** Nothing was delivered about this panel before (or there is no run yet). */
+  | { readonly kind: "first" }
+  /** A previous digest reported run `runId`, computed the same way. */
+  | { readonly kind: "previous-digest"; readonly runId: number; readonly rows: readonly DigestResultRow[] }
+  /** Previous digests reported only runs computed differently; `sentence` says how ("weights changed from queen to rook; no comparison"). */
+  | { readonly kind: "method-changed"; readonly runId: number; readonly sentence: string };
+
+/** The comparison a digest was composed against, without its rows. */
+export type DigestBaseline =
+  | { readonly kind: "first" }
+  | { readonly kind: "previous-digest"; readonly runId: number }
+  | { readonly kind: "method-changed"; readonly runId: number; readonly sentence: string };
+
 export interface DigestContent {
+  readonly baseline: DigestBaseline;
+  /**
+   * With a previous-digest baseline: indicator-periods whose class changed.
+   * Otherwise: the indicator-periods significant now (before is null).
+   */
   readonly classChanges: readonly ClassChangeItem[];
   readonly largestChanges: readonly ChangeInI[];
   readonly newClusters: readonly NewClusterGroup[];
@@ -90,18 +116,26 @@ function isLocalClusterClass(value: string): value is LocalClusterClass {
 }
 
 /**
- * Compares `previous` (what the subscriber's last digest covered; empty for a
- * first digest) with `current`, keeps only the indicators in scope, and lists:
- * indicator-periods whose significance class changed (a period new since the
- * previous results counts as a change when it is significant), the largest
- * absolute changes in I, and local clusters that are newly significant (or
- * changed class), counted by class with region names. With the threshold
- * "class_changes" only the class changes are kept.
+ * Composes a digest of `current` against `comparison`, keeping only the
+ * indicators in scope.
  *
+ * Against a previous digest's results (same method): indicator-periods whose
+ * significance class changed (a period new since then counts when it is
+ * significant), the largest absolute changes in I (a new period: against the
+ * previous period of the run), and local clusters that are newly significant
+ * (or changed class), counted by class with region names.
+ *
+ * A first digest compares nothing: it lists the significant indicator-periods,
+ * the largest changes from one period to the next within the run, and the
+ * significant local clusters. After a change of method likewise, but without
+ * any change in I at all: the digest leads with the change of method and is
+ * never empty while a result in scope exists.
+ *
+ * With the threshold "class_changes" only the class changes are kept.
  * `regionName` maps a region code to its name for the cluster lists.
  */
 export function composeDigest(
-  previous: readonly DigestResultRow[],
+  comparison: DigestComparison,
   current: readonly DigestResultRow[],
   settings: DigestScopeSettings,
   regionName: (code: string) => string = (code) => code,
@@ -109,7 +143,9 @@ export function composeDigest(
 ): DigestContent {
   const limit = options.largestChanges ?? 5;
   const minimum = options.minimumChange ?? 1e-9;
+  const previous = comparison.kind === "previous-digest" ? comparison.rows : [];
   const before = new Map(previous.filter((r) => inScope(settings, r.indicator)).map((r) => [key(r.indicator, r.period), r]));
+  const methodChanged = comparison.kind === "method-changed";
   const rows = current
     .filter((r) => inScope(settings, r.indicator))
     .slice()
@@ -129,7 +165,7 @@ export function composeDigest(
       if (old && old.I !== null) {
         const change = row.I - old.I;
         if (Math.abs(change) > minimum) changes.push({ indicator: row.indicator, period: row.period, I: row.I, change, against: "previous-results" });
-      } else if (!old && row.deltaI !== null && Math.abs(row.deltaI) > minimum) {
+      } else if (!old && !methodChanged && row.deltaI !== null && Math.abs(row.deltaI) > minimum) {
         changes.push({ indicator: row.indicator, period: row.period, I: row.I, change: row.deltaI, against: "previous-period" });
       }
     }
@@ -161,12 +197,24 @@ export function composeDigest(
   for (const item of [...kept.classChanges, ...kept.largestChanges, ...kept.newClusters]) {
     if (!indicators.includes(item.indicator)) indicators.push(item.indicator);
   }
-  return { ...kept, indicators, empty: indicators.length === 0 };
+  const baseline: DigestBaseline =
+    comparison.kind === "previous-digest" ? { kind: "previous-digest", runId: comparison.runId } : comparison.kind === "method-changed" ? { kind: "method-changed", runId: comparison.runId, sentence: comparison.sentence } : { kind: "first" };
+  // A change of method is news in itself, as long as the subscriber follows something in the run.
+  const empty = indicators.length === 0 && !(methodChanged && rows.length > 0);
+  return { baseline, ...kept, indicators, empty };
 }
 
 /** A short JSON summary of a digest for the delivery history. */
-export function summariseDigest(content: DigestContent): { classChanges: number; largestChanges: number; newClusters: number; indicators: string[]; empty: boolean } {
+export function summariseDigest(content: DigestContent): {
+  baseline: DigestBaseline;
+  classChanges: number;
+  largestChanges: number;
+  newClusters: number;
+  indicators: string[];
+  empty: boolean;
+} {
   return {
+    baseline: content.baseline,
     classChanges: content.classChanges.length,
     largestChanges: content.largestChanges.length,
     newClusters: content.newClusters.reduce((sum, g) => sum + g.count, 0),

@@ -115,6 +115,10 @@ export interface DeliveryView {
   messageId: string | null;
   attempts: number;
   error: string | null;
+  /** Why it was not sent (status skipped). */
+  skippedReason: string | null;
+  /** The run whose results it reported. */
+  coveredRunId: number | null;
   sentAt: string | null;
   createdAt: string;
   summary: Record<string, unknown> | null;
@@ -129,6 +133,8 @@ export async function deliveryHistory(subscriptionId: number, limit = 50): Promi
     message_id: string | null;
     attempts: number;
     error: string | null;
+    skipped_reason: string | null;
+    covered_run_id: number | null;
     sent_at: Date | null;
     created_at: Date;
     summary: Record<string, unknown> | null;
@@ -141,6 +147,8 @@ export async function deliveryHistory(subscriptionId: number, limit = 50): Promi
     messageId: r.message_id,
     attempts: Number(r.attempts),
     error: r.error,
+    skippedReason: r.skipped_reason,
+    coveredRunId: r.covered_run_id === null ? null : Number(r.covered_run_id),
     sentAt: iso(r.sent_at),
     createdAt: new Date(r.created_at).toISOString(),
     summary: r.summary,
@@ -152,39 +160,58 @@ export interface RunRef {
   workspaceId: number;
   panelVersionId: number;
   boundaryVersionId: number;
+  /** The panel lineage (lib/runs/comparability). */
+  panelId: number;
+  params: Record<string, unknown>;
 }
 
-type RunRow = { id: number; workspace_id: number; panel_version_id: number; boundary_version_id: number };
-const toRun = (r: RunRow): RunRef => ({ id: Number(r.id), workspaceId: Number(r.workspace_id), panelVersionId: Number(r.panel_version_id), boundaryVersionId: Number(r.boundary_version_id) });
+type RunRow = { id: number; workspace_id: number; panel_version_id: number; boundary_version_id: number; panel_id: number; params: Record<string, unknown> };
+const toRun = (r: RunRow): RunRef => ({
+  id: Number(r.id),
+  workspaceId: Number(r.workspace_id),
+  panelVersionId: Number(r.panel_version_id),
+  boundaryVersionId: Number(r.boundary_version_id),
+  panelId: Number(r.panel_id),
+  params: r.params,
+});
+const RUN_REF_SELECT = `SELECT r.id, r.workspace_id, r.panel_version_id, r.boundary_version_id, pv.panel_id, r.params
+  FROM runs r JOIN panel_versions pv ON pv.id = r.panel_version_id`;
 
 /** A completed run of the workspace (never one from another workspace), or null. */
 export async function completedRun(workspaceId: number, runId: number): Promise<RunRef | null> {
-  const rows = await db().query<RunRow>(
-    "SELECT id, workspace_id, panel_version_id, boundary_version_id FROM runs WHERE id = $1 AND workspace_id = $2 AND state = 'completed'",
-    { bind: [runId, workspaceId], type: QueryTypes.SELECT },
-  );
+  const rows = await db().query<RunRow>(`${RUN_REF_SELECT} WHERE r.id = $1 AND r.workspace_id = $2 AND r.state = 'completed'`, {
+    bind: [runId, workspaceId],
+    type: QueryTypes.SELECT,
+  });
   return rows[0] ? toRun(rows[0]) : null;
 }
 
 export async function latestCompletedRun(workspaceId: number): Promise<RunRef | null> {
   const rows = await db().query<RunRow>(
-    `SELECT id, workspace_id, panel_version_id, boundary_version_id FROM runs WHERE workspace_id = $1 AND state = 'completed'
-      ORDER BY finished_at DESC NULLS LAST, id DESC LIMIT 1`,
+    `${RUN_REF_SELECT} WHERE r.workspace_id = $1 AND r.state = 'completed' ORDER BY r.finished_at DESC NULLS LAST, r.id DESC LIMIT 1`,
     { bind: [workspaceId], type: QueryTypes.SELECT },
   );
   return rows[0] ? toRun(rows[0]) : null;
 }
 
-/** The completed run on the same panel finished before `run` (the baseline of a first digest). */
-export async function previousRunOnPanel(run: RunRef): Promise<RunRef | null> {
+/**
+ * The runs this subscription's SENT digests reported, newest digest first
+ * (each run once): the only baselines a digest may compare with. Skipped and
+ * failed deliveries reported nothing to anyone.
+ */
+export async function deliveredRuns(subscriptionId: number, workspaceId: number, limit = 200): Promise<RunRef[]> {
   const rows = await db().query<RunRow>(
-    `SELECT r.id, r.workspace_id, r.panel_version_id, r.boundary_version_id FROM runs r
-      WHERE r.workspace_id = $1 AND r.state = 'completed' AND r.id < $2 AND r.panel_version_id IN
-        (SELECT pv2.id FROM panel_versions pv1 JOIN panel_versions pv2 ON pv2.panel_id = pv1.panel_id WHERE pv1.id = $3)
-      ORDER BY r.id DESC LIMIT 1`,
-    { bind: [run.workspaceId, run.id, run.panelVersionId], type: QueryTypes.SELECT },
+    `SELECT id, workspace_id, panel_version_id, boundary_version_id, panel_id, params FROM (
+        SELECT DISTINCT ON (r.id) r.id, r.workspace_id, r.panel_version_id, r.boundary_version_id, pv.panel_id, r.params, d.sent_at, d.id AS delivery_id
+          FROM digest_deliveries d
+          JOIN runs r ON r.id = d.covered_run_id AND r.workspace_id = $2 AND r.state = 'completed'
+          JOIN panel_versions pv ON pv.id = r.panel_version_id
+         WHERE d.subscription_id = $1 AND d.status = 'sent'
+         ORDER BY r.id, d.sent_at DESC NULLS LAST, d.id DESC
+      ) x ORDER BY sent_at DESC NULLS LAST, delivery_id DESC LIMIT $3`,
+    { bind: [subscriptionId, workspaceId, limit], type: QueryTypes.SELECT },
   );
-  return rows[0] ? toRun(rows[0]) : null;
+  return rows.map(toRun);
 }
 
 /** The results of a run as the digest compares them (local clusters: significant regions only). */

@@ -24,6 +24,8 @@ export interface DigestRenderInput {
   /** What the digest covers, e.g. "run 12" or "week 2026-W49". */
   readonly coverage: string;
   readonly runId: number | null;
+  /** How the run was computed, in one line (lib/runs/comparability describeMethod); null without a run. */
+  readonly runMethod?: string | null;
   readonly indicatorLabels: ReadonlyMap<string, string>;
   /** Indicator code → SVG markup. */
   readonly charts: ReadonlyMap<string, string>;
@@ -54,29 +56,55 @@ export function renderDigest(input: DigestRenderInput): RenderedDigest {
   const digestsUrl = `${base}/w/${encodeURIComponent(workspace.slug)}/digests`;
   const deskUrl = `${base}/w/${encodeURIComponent(workspace.slug)}/desk`;
 
-  const subject = content.empty
-    ? `Tessera digest · ${workspace.name}: nothing changed (${input.coverage})`
-    : `Tessera digest · ${workspace.name}: ${content.classChanges.length} class change${content.classChanges.length === 1 ? "" : "s"} (${input.coverage})`;
+  const comparable = content.baseline.kind === "previous-digest";
+  const runName = input.runId !== null ? `run ${input.runId}` : "the latest run";
+  const subject = content.baseline.kind === "method-changed"
+    ? `Tessera digest · ${workspace.name}: method changed, no comparison (${input.coverage})`
+    : content.empty
+      ? `Tessera digest · ${workspace.name}: ${comparable ? "nothing changed" : "nothing to report"} (${input.coverage})`
+      : comparable
+        ? `Tessera digest · ${workspace.name}: ${content.classChanges.length} class change${content.classChanges.length === 1 ? "" : "s"} (${input.coverage})`
+        : `Tessera digest · ${workspace.name}: ${content.classChanges.length} significant indicator-period${content.classChanges.length === 1 ? "" : "s"} (${input.coverage})`;
+
+  // What the numbers are compared with, said before any number.
+  const baselineText =
+    input.runId === null
+      ? "There is no completed run in this workspace yet, so there is nothing to report."
+      : content.baseline.kind === "previous-digest"
+        ? `Compared with run ${content.baseline.runId}, which your previous digest reported (same panel, same method).`
+        : content.baseline.kind === "method-changed"
+          ? `Method changed since your previous digest (run ${content.baseline.runId}): ${content.baseline.sentence}. Below is where ${runName} stands on its own.`
+          : `Your first digest of these results: there is no previous digest to compare with, so this shows where ${runName} stands.`;
+  const emptyText = comparable
+    ? "Nothing changed in the indicators you follow since your previous digest."
+    : input.runId === null
+      ? null
+      : `Nothing in the indicators you follow is significant or moved between periods in ${runName}.`;
+  const classTitle = comparable ? "Significance class changed" : `Significant in ${runName}`;
+  const classItem = (c: DigestContent["classChanges"][number], esc: (x: string) => string, strong: (x: string) => string) =>
+    comparable ? `${esc(classLabel(c.before))} → ${strong(classLabel(c.after))}` : strong(classLabel(c.after));
+  const clusterTitle = comparable ? "Newly significant local clusters" : `Significant local clusters in ${runName}`;
+  const againstText = (against: "previous-results" | "previous-period") => (against === "previous-results" ? "since your previous digest" : "from the previous period");
 
   // Plain text.
-  const t: string[] = [`Tessera digest for ${input.recipientName}`, `Workspace: ${workspace.name} — ${input.coverage}`, ""];
-  if (content.empty) {
-    t.push("Nothing changed in the indicators you follow since your previous digest.", "");
-  }
+  const t: string[] = [`Tessera digest for ${input.recipientName}`, `Workspace: ${workspace.name} — ${input.coverage}`];
+  if (input.runMethod) t.push(`Method of ${runName}: ${input.runMethod}`);
+  t.push("", baselineText, "");
+  if (content.empty && emptyText) t.push(emptyText, "");
   if (content.classChanges.length) {
-    t.push("Significance class changed:");
-    for (const c of content.classChanges) t.push(`- ${label(c.indicator)}, ${c.period}: ${classLabel(c.before)} → ${classLabel(c.after)}`);
+    t.push(`${classTitle}:`);
+    for (const c of content.classChanges) t.push(`- ${label(c.indicator)}, ${c.period}: ${classItem(c, (x) => x, (x) => x)}`);
     t.push("");
   }
   if (content.largestChanges.length) {
     t.push("Largest changes in Moran's I:");
     for (const c of content.largestChanges) {
-      t.push(`- ${label(c.indicator)}, ${c.period}: I = ${c.I.toFixed(3)} (${signed(c.change)} ${c.against === "previous-results" ? "since your previous digest" : "from the previous period"})`);
+      t.push(`- ${label(c.indicator)}, ${c.period}: I = ${c.I.toFixed(3)} (${signed(c.change)} ${againstText(c.against)})`);
     }
     t.push("");
   }
   if (content.newClusters.length) {
-    t.push("Newly significant local clusters:");
+    t.push(`${clusterTitle}:`);
     for (const g of content.newClusters) t.push(`- ${label(g.indicator)}, ${g.period}: ${g.count} ${LOCAL_CLUSTER_LABELS[g.cluster]} — ${g.regions.join(", ")}`);
     t.push("");
   }
@@ -92,11 +120,15 @@ export function renderDigest(input: DigestRenderInput): RenderedDigest {
       : "";
   const link = (href: string, text: string) => `<a href="${h(href)}" style="color:${DIGEST_OCHRE}">${h(text)}</a>`;
   const parts: string[] = [];
-  if (content.empty) parts.push(`<p>Nothing changed in the indicators you follow since your previous digest.</p>`);
+  const methodNotice = content.baseline.kind === "method-changed";
+  parts.push(
+    `<p style="margin:8px 0;${methodNotice ? `padding:8px 10px;border-left:3px solid ${DIGEST_OCHRE};background:#fffbeb;` : ""}">${h(baselineText)}</p>`,
+  );
+  if (content.empty && emptyText) parts.push(`<p>${h(emptyText)}</p>`);
   parts.push(
     section(
-      "Significance class changed",
-      content.classChanges.map((c) => `<strong>${h(label(c.indicator))}</strong>, ${h(c.period)}: ${h(classLabel(c.before))} → <strong>${h(classLabel(c.after))}</strong>`),
+      classTitle,
+      content.classChanges.map((c) => `<strong>${h(label(c.indicator))}</strong>, ${h(c.period)}: ${classItem(c, h, (x) => `<strong>${h(x)}</strong>`)}`),
     ),
   );
   parts.push(
@@ -104,13 +136,13 @@ export function renderDigest(input: DigestRenderInput): RenderedDigest {
       "Largest changes in Moran's I",
       content.largestChanges.map(
         (c) =>
-          `<strong>${h(label(c.indicator))}</strong>, ${h(c.period)}: I = ${c.I.toFixed(3)} (${h(signed(c.change))} ${c.against === "previous-results" ? "since your previous digest" : "from the previous period"})`,
+          `<strong>${h(label(c.indicator))}</strong>, ${h(c.period)}: I = ${c.I.toFixed(3)} (${h(signed(c.change))} ${againstText(c.against)})`,
       ),
     ),
   );
   parts.push(
     section(
-      "Newly significant local clusters",
+      clusterTitle,
       content.newClusters.map((g) => `<strong>${h(label(g.indicator))}</strong>, ${h(g.period)}: ${g.count} ${h(LOCAL_CLUSTER_LABELS[g.cluster])} — ${h(g.regions.join(", "))}`),
     ),
   );
@@ -127,6 +159,7 @@ export function renderDigest(input: DigestRenderInput): RenderedDigest {
 <p style="margin:0;font-size:12px;letter-spacing:.08em;text-transform:uppercase;color:${DIGEST_OCHRE}">Tessera digest</p>
 <h1 style="margin:4px 0 2px;font-size:20px;color:${DIGEST_INK}">${h(workspace.name)}</h1>
 <p style="margin:0 0 8px;color:#57534e">For ${h(input.recipientName)} — ${h(input.coverage)}</p>
+${input.runMethod ? `<p style="margin:0 0 8px;font-size:12px;color:#57534e">Method of ${h(runName)}: ${h(input.runMethod)}</p>` : ""}
 ${parts.join("\n")}
 <p style="margin:20px 0 0">${link(deskUrl, "Open the Desk")}</p>
 <p style="margin:18px 0 0;padding:10px;background:#fafaf9;border-left:3px solid ${DIGEST_OCHRE};font-size:12px;color:#44403c">${h(DIGEST_CAUTION)}</p>

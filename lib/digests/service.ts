@@ -1,7 +1,9 @@
 /**
- * Digests end to end: building one for a subscription (preview and send use
- * the same path), delivering it exactly once per idempotency key, scheduling
- * after runs and by calendar, saving and unsubscribing.
+ * Digests end to end: preparing one for a subscription (compose, render and
+ * decide whether it goes out — the preview, "send now" and scheduled sends
+ * all take this one path), delivering it exactly once per idempotency key
+ * with the reason recorded when it is not sent, scheduling after runs and by
+ * calendar, saving and unsubscribing.
  */
 import { createHash } from "node:crypto";
 import { QueryTypes } from "sequelize";
@@ -10,17 +12,18 @@ import { env } from "@/lib/config/env";
 import { db } from "@/lib/db";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { sendMail } from "@/lib/mail/send";
+import { describeMethod, selectBaseline } from "@/lib/runs/comparability";
 import type { DigestCadence } from "@/models/digest-types";
-import { renderIndicatorChart } from "./chart";
-import { composeDigest, summariseDigest, type DigestContent } from "./compose";
+import { renderIndicatorChart, stableSvgIds } from "./chart";
+import { composeDigest, summariseDigest, type DigestComparison, type DigestContent } from "./compose";
 import {
   chartPoints,
   completedRun,
+  deliveredRuns,
   digestRows,
   getSubscriptionById,
   indicatorLabels,
   latestCompletedRun,
-  previousRunOnPanel,
   regionNames,
   activeSubscriptions,
   type RunRef,
@@ -78,8 +81,11 @@ export function unsubscribeUrl(subscriptionId: number): string {
 
 /**
  * The digest `subscription` would receive now: the given completed run (or
- * the workspace's latest) against the run its previous digest covered (or,
- * for a first digest, the previous completed run on the same panel).
+ * the workspace's latest) against the newest run one of the subscriber's
+ * SENT digests reported that was computed the same way
+ * (lib/runs/comparability). None sent about this panel: a first digest,
+ * which compares nothing. Only ones computed differently: a change of
+ * method, which compares nothing either and says so.
  * Returns null when the holder is no longer a member of the workspace —
  * nothing from a workspace they cannot see is ever read.
  */
@@ -88,21 +94,25 @@ export async function buildDigest(subscription: SubscriptionView, options: { run
   if (!access) return null;
   const workspaceId = subscription.workspaceId;
   const current = options.runId ? await completedRun(workspaceId, options.runId) : await latestCompletedRun(workspaceId);
-  let previous: RunRef | null = null;
-  if (current) {
-    const watermark = subscription.lastRunId !== null ? await completedRun(workspaceId, subscription.lastRunId) : null;
-    previous = watermark ?? (await previousRunOnPanel(current));
-  }
   const currentRows = current ? await digestRows(current.id) : [];
-  // No baseline at all: everything significant is news. The same run as last time: nothing is.
-  const previousRows = previous === null ? [] : previous.id === current?.id ? currentRows : await digestRows(previous.id);
+  let comparison: DigestComparison = { kind: "first" };
+  if (current) {
+    const baseline = selectBaseline(current, await deliveredRuns(subscription.id, workspaceId));
+    if (baseline.kind === "comparable") {
+      // The same run as last time: nothing is new.
+      const rows = baseline.run.id === current.id ? currentRows : await digestRows(baseline.run.id);
+      comparison = { kind: "previous-digest", runId: baseline.run.id, rows };
+    } else if (baseline.kind === "method-changed") {
+      comparison = { kind: "method-changed", runId: baseline.run.id, sentence: baseline.sentence };
+    }
+  }
   const names = current ? await regionNames(current.boundaryVersionId) : new Map<string, string>();
-  const content = composeDigest(previousRows, currentRows, subscription, (code) => names.get(code) ?? code);
+  const content = composeDigest(comparison, currentRows, subscription, (code) => names.get(code) ?? code);
   const labels = await indicatorLabels(workspaceId);
   const charts = new Map<string, string>();
-  for (const code of content.indicators.slice(0, MAX_CHARTS)) {
-    charts.set(code, renderIndicatorChart(`${labels.get(code) ?? code}: Moran's I by period`, chartPoints(currentRows, code)));
-  }
+  content.indicators.slice(0, MAX_CHARTS).forEach((code, k) => {
+    charts.set(code, stableSvgIds(renderIndicatorChart(`${labels.get(code) ?? code}: Moran's I by period`, chartPoints(currentRows, code)), `tc${k}`));
+  });
   const link = unsubscribeUrl(subscription.id);
   const rendered = renderDigest({
     content,
@@ -110,12 +120,51 @@ export async function buildDigest(subscription: SubscriptionView, options: { run
     recipientName: access.recipient.name,
     coverage: options.coverage ?? (current ? `results of run ${current.id}` : "no completed run yet"),
     runId: current?.id ?? null,
+    runMethod: current ? describeMethod(current) : null,
     indicatorLabels: labels,
     charts,
     baseUrl: env().NEXTAUTH_URL,
     unsubscribeUrl: link,
   });
-  return { subscription, ...access, current, previousRunId: previous?.id ?? null, content, rendered, unsubscribeUrl: link };
+  const previousRunId = content.baseline.kind === "first" ? null : content.baseline.runId;
+  return { subscription, ...access, current, previousRunId, content, rendered, unsubscribeUrl: link };
+}
+
+/** Whether a prepared digest goes out, and if not, the sentence that says why (recorded and shown). */
+export type DigestDecision = { readonly send: true; readonly to: string } | { readonly send: false; readonly reason: string };
+
+export interface PreparedDigest {
+  /** Null when the holder is not a member any more (nothing was read). */
+  readonly built: BuiltDigest | null;
+  readonly decision: DigestDecision;
+}
+
+/** Coverage of a digest sent on request (also what the preview renders, so both are the same text). */
+export const ON_REQUEST_COVERAGE = "on request";
+
+/** The rule, pure: whether `built` is sent to the holder of `subscription`. */
+export function decideDigest(subscription: SubscriptionView | null, built: BuiltDigest | null): DigestDecision {
+  if (!subscription || !subscription.active) return { send: false, reason: "The subscription was cancelled (unsubscribed) before sending." };
+  if (!built) return { send: false, reason: "The subscriber is no longer a member of the workspace." };
+  if (built.content.empty && subscription.emptyPolicy === "skip") {
+    const why =
+      built.current === null
+        ? "There is no completed run in this workspace yet"
+        : built.content.baseline.kind === "previous-digest"
+          ? built.content.baseline.runId === built.current.id
+            ? `Your previous digest already reported run ${built.current.id}, so nothing is new`
+            : `Nothing changed in the indicators you follow between run ${built.content.baseline.runId} (your previous digest) and run ${built.current.id}`
+          : `Nothing in the indicators you follow is significant or moved between periods in run ${built.current.id}`;
+    return { send: false, reason: `${why}, and you chose to receive nothing when nothing changed.` };
+  }
+  return { send: true, to: built.recipient.email };
+}
+
+/** Composes, renders and decides, once: what the preview shows is what a send would do. */
+export async function prepareDigest(subscription: SubscriptionView | null, options: { runId?: number | null; coverage?: string } = {}): Promise<PreparedDigest> {
+  if (!subscription || !subscription.active) return { built: null, decision: decideDigest(subscription, null) };
+  const built = await buildDigest(subscription, options);
+  return { built, decision: decideDigest(subscription, built) };
 }
 
 export type DeliveryOutcome = "sent" | "skipped" | "duplicate";
@@ -124,15 +173,33 @@ const defaultSender: MailSender = (mail) => sendMail(mail);
 
 type Transaction = import("sequelize").Transaction;
 
-async function finish(id: number, status: "sent" | "skipped" | "failed", fields: { messageId?: string; error?: string | null; summary?: object }, transaction: Transaction) {
+type Finish =
+  | { status: "sent"; messageId: string; coveredRunId: number | null; summary: object }
+  | { status: "skipped"; reason: string; coveredRunId: number | null; summary?: object }
+  | { status: "failed"; error: string; summary: object };
+
+async function finish(id: number, fields: Finish, transaction: Transaction) {
   await db().query(
     `UPDATE digest_deliveries SET status = CAST($2 AS varchar), message_id = COALESCE(CAST($3 AS varchar), message_id), error = CAST($4 AS text),
-            summary = COALESCE(CAST($5 AS jsonb), summary), sent_at = CASE WHEN CAST($2 AS varchar) = 'sent' THEN now() ELSE sent_at END, updated_at = now()
+            skipped_reason = CAST($5 AS text), covered_run_id = COALESCE(CAST($6 AS integer), covered_run_id),
+            summary = COALESCE(CAST($7 AS jsonb), summary), sent_at = CASE WHEN CAST($2 AS varchar) = 'sent' THEN now() ELSE sent_at END, updated_at = now()
       WHERE id = $1`,
-    { bind: [id, status, fields.messageId ?? null, fields.error ?? null, fields.summary ? JSON.stringify(fields.summary) : null], transaction },
+    {
+      bind: [
+        id,
+        fields.status,
+        fields.status === "sent" ? fields.messageId : null,
+        fields.status === "failed" ? fields.error : null,
+        fields.status === "skipped" ? fields.reason : null,
+        fields.status === "failed" ? null : fields.coveredRunId,
+        fields.summary ? JSON.stringify(fields.summary) : null,
+      ],
+      transaction,
+    },
   );
 }
 
+/** Only a digest actually sent moves "last digest": a skip reported nothing. */
 async function advanceWatermark(subscriptionId: number, runId: number | null, transaction: Transaction) {
   await db().query("UPDATE digest_subscriptions SET last_digest_at = now(), last_run_id = COALESCE(CAST($2 AS integer), last_run_id), updated_at = now() WHERE id = $1", {
     bind: [subscriptionId, runId],
@@ -153,27 +220,43 @@ export function digestMessageId(idempotencyKey: string): string {
 /** Longest a repeated job waits for another attempt at the same digest to finish (SMTP timeouts are 10 s + 30 s). */
 const LOCK_WAIT = "2min";
 
-type Attempt = { outcome: DeliveryOutcome } | { outcome: "failed"; reason: string };
+/** What became of one delivery, with the sentence a person is shown. */
+export type DeliveryReport =
+  | { outcome: "sent"; to: string; subject: string; messageId: string }
+  | { outcome: "skipped"; reason: string }
+  | { outcome: "duplicate"; status: string };
+
+type Attempt = DeliveryReport | { outcome: "failed"; reason: string };
 
 /**
  * The digest-send job: at most one mail per idempotency key (one digest to
- * one subscriber), however often the job runs.
+ * one subscriber), however often the job runs. Returns the outcome only;
+ * {@link deliverDigestReport} also says to whom, what, or why not.
+ */
+export async function deliverDigest(payload: DigestSendPayload, options: { send?: MailSender; log?: (m: string) => void } = {}): Promise<DeliveryOutcome> {
+  return (await deliverDigestReport(payload, options)).outcome;
+}
+
+/**
+ * One delivery attempt (the job's, and "send now"'s in the request).
  *
  * The delivery row (unique key) is created first, then locked FOR UPDATE for
  * the whole attempt: a repeated job waits for the lock and then finds the row
- * sent (a no-op, "duplicate"). The SMTP send happens while the lock is held and
- * the row is marked sent in the same transaction, committed as soon as the
- * server has accepted the message. A refused or unreachable server is recorded
- * (status failed, attempts, error), committed, and rethrown so pg-boss retries
- * with backoff. A worker that dies mid-attempt leaves nothing behind (its
- * transaction rolls back and the lock goes with its connection), so the retry
- * after the job expires sends.
+ * sent or skipped (a no-op, "duplicate"). The digest is prepared exactly as
+ * the preview prepares it (prepareDigest); a digest that is not sent is
+ * recorded as skipped with its reason. The SMTP send happens while the lock is
+ * held and the row is marked sent in the same transaction, committed as soon
+ * as the server has accepted the message. A refused or unreachable server is
+ * recorded (status failed, attempts, error), committed, and rethrown so pg-boss
+ * retries with backoff. A worker that dies mid-attempt leaves nothing behind
+ * (its transaction rolls back and the lock goes with its connection), so the
+ * retry after the job expires sends.
  *
  * The one window left: the server accepted the mail but the commit that
  * records it did not happen (the database went away, or the worker died in
  * between). The retry then sends a second copy, with the same Message-ID.
  */
-export async function deliverDigest(payload: DigestSendPayload, options: { send?: MailSender; log?: (m: string) => void } = {}): Promise<DeliveryOutcome> {
+export async function deliverDigestReport(payload: DigestSendPayload, options: { send?: MailSender; log?: (m: string) => void } = {}): Promise<DeliveryReport> {
   const log = options.log ?? (() => undefined);
   const send = options.send ?? defaultSender;
   await db().query(
@@ -190,32 +273,27 @@ export async function deliverDigest(payload: DigestSendPayload, options: { send?
     );
     const row = rows[0];
     if (!row) {
-      log(`digest ${payload.idempotencyKey}: subscription ${payload.subscriptionId} no longer exists; nothing sent`);
-      return { outcome: "skipped" };
+      const reason = `The subscription ${payload.subscriptionId} no longer exists.`;
+      log(`digest ${payload.idempotencyKey}: ${reason} Nothing sent`);
+      return { outcome: "skipped", reason };
     }
     if (row.status === "sent" || row.status === "skipped") {
       log(`digest ${payload.idempotencyKey}: already ${row.status}; nothing sent`);
-      return { outcome: "duplicate" };
+      return { outcome: "duplicate", status: row.status };
     }
     const deliveryId = Number(row.id);
     const attempts = row.attempts + 1;
     await db().query("UPDATE digest_deliveries SET status = 'sending', attempts = $2, updated_at = now() WHERE id = $1", { bind: [deliveryId, attempts], transaction });
     const subscription = await getSubscriptionById(payload.subscriptionId);
-    if (!subscription || !subscription.active) {
-      await finish(deliveryId, "skipped", { error: "The subscription was cancelled (unsubscribed) before sending." }, transaction);
-      return { outcome: "skipped" };
-    }
-    const built = await buildDigest(subscription, { runId: payload.runId, coverage: payload.coverage });
-    if (!built) {
-      await finish(deliveryId, "skipped", { error: "The subscriber is no longer a member of the workspace." }, transaction);
-      log(`digest ${payload.idempotencyKey}: user ${subscription.userId} is no longer a member of workspace ${subscription.workspaceId}; skipped`);
-      return { outcome: "skipped" };
-    }
-    const summary = { ...summariseDigest(built.content), runId: built.current?.id ?? null, previousRunId: built.previousRunId, subject: built.rendered.subject };
-    if (built.content.empty && subscription.emptyPolicy === "skip") {
-      await finish(deliveryId, "skipped", { error: "Nothing changed, and the subscriber chose to skip empty digests.", summary }, transaction);
-      await advanceWatermark(subscription.id, built.current?.id ?? null, transaction);
-      return { outcome: "skipped" };
+    const { built, decision } = await prepareDigest(subscription, { runId: payload.runId, coverage: payload.coverage });
+    const summary = built
+      ? { ...summariseDigest(built.content), runId: built.current?.id ?? null, previousRunId: built.previousRunId, subject: built.rendered.subject }
+      : undefined;
+    if (!decision.send || !built) {
+      const reason = decision.send ? "The subscriber is no longer a member of the workspace." : decision.reason;
+      await finish(deliveryId, { status: "skipped", reason, coveredRunId: built?.current?.id ?? null, summary }, transaction);
+      log(`digest ${payload.idempotencyKey}: skipped: ${reason}`);
+      return { outcome: "skipped", reason };
     }
     let messageId: string;
     try {
@@ -234,16 +312,16 @@ export async function deliverDigest(payload: DigestSendPayload, options: { send?
       });
     } catch (error) {
       const reason = error instanceof Error ? error.message : String(error);
-      await finish(deliveryId, "failed", { error: `Attempt ${attempts} failed: ${reason}`, summary }, transaction);
+      await finish(deliveryId, { status: "failed", error: `Attempt ${attempts} failed: ${reason}`, summary: summary ?? {} }, transaction);
       return { outcome: "failed", reason };
     }
-    await finish(deliveryId, "sent", { messageId, error: null, summary }, transaction);
-    await advanceWatermark(subscription.id, built.current?.id ?? null, transaction);
+    await finish(deliveryId, { status: "sent", messageId, coveredRunId: built.current?.id ?? null, summary: summary ?? {} }, transaction);
+    await advanceWatermark(built.subscription.id, built.current?.id ?? null, transaction);
     log(`digest ${payload.idempotencyKey}: sent ${messageId} to ${built.recipient.email}`);
-    return { outcome: "sent" };
+    return { outcome: "sent", to: built.recipient.email, subject: built.rendered.subject, messageId };
   });
   if (attempt.outcome === "failed") throw new Error(`digest ${payload.idempotencyKey} for subscription ${payload.subscriptionId}: ${attempt.reason}`);
-  return attempt.outcome;
+  return attempt;
 }
 
 /** ISO 8601 week key, e.g. "2026-W49". */

@@ -7,6 +7,7 @@ import { QueryTypes } from "sequelize";
 import { db, selectTuples } from "@/lib/db";
 import { indicatorMetadata, publishedPanelVersions, panelDimensions, type IndicatorMeta } from "@/lib/intake/queries";
 import { CATALOGUE_FIELDS, catalogueAnswerText, catalogueRowsOf, type CatalogueAnswer, type CatalogueRow, type CatalogueRun } from "./catalogue-wire";
+import { selectBaseline } from "./comparability";
 import type { ResolvedRunParams } from "./schemas";
 import type { RunState } from "./store";
 import type { LocalFields, SignificanceClass, WeightsUsed } from "./types";
@@ -470,10 +471,21 @@ export interface ClassChange {
   previousRunId: number;
 }
 
+/** The latest run's panel was last computed another way: said instead of any comparison. */
+export interface MethodChange {
+  /** The newest earlier run of the same panel (computed differently). */
+  runId: number;
+  /** "weights changed from queen to rook; no comparison" */
+  sentence: string;
+}
+
 export interface DeskSummary {
   runs: RunSummary[];
   latest: RunSummary | null;
+  /** The newest earlier run of the same panel computed the same way (lib/runs/comparability); null when there is none. */
   previous: RunSummary | null;
+  /** Set when earlier runs of the panel exist but none computed the same way. */
+  methodChange: MethodChange | null;
   movements: Movement[];
   classChanges: ClassChange[];
   counts: Record<SignificanceClass, number> | null;
@@ -481,16 +493,20 @@ export interface DeskSummary {
 
 /**
  * The latest completed run, its largest changes in I from one period to the
- * next, and the indicator-periods whose class differs from the previous
- * completed run on the same panel.
+ * next (within the run, so under one method), and the indicator-periods
+ * whose class differs from the newest earlier completed run of the same
+ * panel computed the same way. When the panel's earlier runs were all
+ * computed differently, that is reported as a change of method and nothing
+ * is compared.
  */
 export async function deskSummary(workspaceId: number): Promise<DeskSummary> {
   const runs = await listRuns(workspaceId, 6);
-  const completed = await db().query<{ id: number; panel_version_id: number }>(
-    "SELECT id, panel_version_id FROM runs WHERE workspace_id = $1 AND state = 'completed' ORDER BY finished_at DESC NULLS LAST, id DESC LIMIT 1",
+  const completed = await db().query<{ id: number; panel_id: number; params: Record<string, unknown> }>(
+    `SELECT r.id, pv.panel_id, r.params FROM runs r JOIN panel_versions pv ON pv.id = r.panel_version_id
+      WHERE r.workspace_id = $1 AND r.state = 'completed' ORDER BY r.finished_at DESC NULLS LAST, r.id DESC LIMIT 1`,
     { bind: [workspaceId], type: QueryTypes.SELECT },
   );
-  if (!completed[0]) return { runs, latest: null, previous: null, movements: [], classChanges: [], counts: null };
+  if (!completed[0]) return { runs, latest: null, previous: null, methodChange: null, movements: [], classChanges: [], counts: null };
   const latestId = completed[0].id;
   const latest = await getRun(workspaceId, latestId);
   const labels = new Map((await indicatorMetadata(workspaceId, "published")).map((m) => [m.code, m.label]));
@@ -507,13 +523,16 @@ export async function deskSummary(workspaceId: number): Promise<DeskSummary> {
   );
   const counts: Record<SignificanceClass, number> = { clustering: 0, dispersion: 0, "not-significant": 0 };
   for (const c of countRows) counts[c.significance] = Number(c.count);
-  const previousRows = await db().query<{ id: number }>(
-    `SELECT id FROM runs WHERE workspace_id = $1 AND state = 'completed' AND id <> $2 AND panel_version_id IN
-       (SELECT pv2.id FROM panel_versions pv1 JOIN panel_versions pv2 ON pv2.panel_id = pv1.panel_id WHERE pv1.id = $3)
-      ORDER BY finished_at DESC NULLS LAST, id DESC LIMIT 1`,
-    { bind: [workspaceId, latestId, completed[0].panel_version_id], type: QueryTypes.SELECT },
+  const earlier = await db().query<{ id: number; panel_id: number; params: Record<string, unknown> }>(
+    `SELECT r.id, pv.panel_id, r.params FROM runs r JOIN panel_versions pv ON pv.id = r.panel_version_id
+      WHERE r.workspace_id = $1 AND r.state = 'completed' AND r.id <> $2 AND pv.panel_id = $3
+      ORDER BY r.finished_at DESC NULLS LAST, r.id DESC LIMIT 500`,
+    { bind: [workspaceId, latestId, completed[0].panel_id], type: QueryTypes.SELECT },
   );
-  const previousId = previousRows[0]?.id ?? null;
+  const toComparable = (r: { id: number; panel_id: number; params: Record<string, unknown> }) => ({ id: Number(r.id), panelId: Number(r.panel_id), params: r.params });
+  const baseline = selectBaseline(toComparable(completed[0]), earlier.map(toComparable));
+  const methodChange: MethodChange | null = baseline.kind === "method-changed" ? { runId: baseline.run.id, sentence: baseline.sentence } : null;
+  const previousId = baseline.kind === "comparable" ? baseline.run.id : null;
   let classChanges: ClassChange[] = [];
   if (previousId !== null) {
     const changed = await db().query<{ indicator_code: string; period_key: string; before: SignificanceClass | null; after: SignificanceClass | null }>(
@@ -536,6 +555,7 @@ export async function deskSummary(workspaceId: number): Promise<DeskSummary> {
     runs,
     latest,
     previous: previousId !== null ? await getRun(workspaceId, previousId) : null,
+    methodChange,
     movements: moved.map((m) => ({
       indicator: m.indicator_code,
       indicatorLabel: labels.get(m.indicator_code) ?? m.indicator_code,

@@ -66,8 +66,8 @@ async function waitForRun(runId: number): Promise<string> {
 }
 
 async function deliveries(subscriptionId: number) {
-  return db().query<{ idempotency_key: string; status: string; attempts: number; error: string | null; message_id: string | null; run_id: number | null }>(
-    "SELECT idempotency_key, status, attempts, error, message_id, run_id FROM digest_deliveries WHERE subscription_id = $1 ORDER BY id",
+  return db().query<{ idempotency_key: string; status: string; attempts: number; error: string | null; skipped_reason: string | null; message_id: string | null; run_id: number | null }>(
+    "SELECT idempotency_key, status, attempts, error, skipped_reason, message_id, run_id FROM digest_deliveries WHERE subscription_id = $1 ORDER BY id",
     { bind: [subscriptionId], type: QueryTypes.SELECT },
   );
 }
@@ -153,6 +153,9 @@ describe("a completed run produces digests", () => {
     expect(readerMail.text).toContain(UNEMPLOYMENT);
     expect(readerMail.text).toContain(BROADBAND);
     expect(readerMail.text).toContain("Significance is not causation");
+    // Nothing was delivered before: the first digest compares with nothing.
+    expect(readerMail.text).toContain("Your first digest of these results: there is no previous digest to compare with");
+    expect(readerMail.text).not.toContain("since your previous digest");
     expect(readerMail.text).toContain(`/w/${slug}/timeline?indicator=unemployment_rate&run=${firstRun}`);
     expect(readerMail.html).toContain("<svg");
     expect(header(readerMail, "List-Unsubscribe")).toMatch(/^<http:\/\/[^>]+\/api\/digests\/unsubscribe\?token=[^>]+>$/);
@@ -190,9 +193,10 @@ describe("a completed run produces digests", () => {
     signedInAs(users.analyst);
     const response = await getPreview(new Request("http://tessera.test/api"), ctx({ slug }));
     expect(response.status).toBe(200);
-    const preview = (await response.json()) as { subject: string; html: string; empty: boolean; runId: number };
-    // Nothing new since the digest of firstRun: the analyst chose "say so".
-    expect(preview).toMatchObject({ runId: firstRun, empty: true });
+    const preview = (await response.json()) as { subject: string; html: string; empty: boolean; runId: number; baseline: unknown; decision: unknown };
+    // Nothing new since the digest of firstRun: the analyst chose "say so", so it would still go out.
+    expect(preview).toMatchObject({ runId: firstRun, empty: true, baseline: { kind: "previous-digest", runId: firstRun } });
+    expect(preview.decision).toEqual({ send: true, to: users.analyst.email, sentence: `Sending now would send this digest to ${users.analyst.email}.` });
     expect(preview.subject).toContain("nothing changed");
   });
 });
@@ -203,7 +207,7 @@ describe("a member removed between scheduling and sending", () => {
     if (!leaverSub) throw new Error("leaver subscription missing");
     const outcome = await deliverDigest({ subscriptionId: leaverSub.id, idempotencyKey: `sub-${leaverSub.id}:run-${firstRun}`, runId: firstRun, coverage: "late" });
     expect(outcome).toBe("skipped");
-    expect(await deliveries(leaverSub.id)).toEqual([expect.objectContaining({ status: "skipped", error: "The subscriber is no longer a member of the workspace." })]);
+    expect(await deliveries(leaverSub.id)).toEqual([expect.objectContaining({ status: "skipped", error: null, skipped_reason: "The subscriber is no longer a member of the workspace." })]);
     expect(await mailsTo(users.leaver.email)).toEqual([]);
   });
 });
@@ -255,7 +259,11 @@ describe("unsubscribing", () => {
       const rows = await deliveries(bossSub?.id ?? 0);
       return rows.some((r) => r.run_id === rerun && r.status !== "queued" && r.status !== "sending") ? rows : null;
     });
-    expect(bossRows.find((r) => r.run_id === rerun)).toMatchObject({ status: "skipped", error: expect.stringContaining("Nothing changed") });
+    expect(bossRows.find((r) => r.run_id === rerun)).toMatchObject({
+      status: "skipped",
+      error: null,
+      skipped_reason: `Nothing changed in the indicators you follow between run ${firstRun} (your previous digest) and run ${rerun}, and you chose to receive nothing when nothing changed.`,
+    });
     expect((await mailsTo(users.boss.email)).filter((m) => m.subject.includes(`run ${rerun}`))).toEqual([]);
 
     const readerSub = await getOwnSubscription(workspaceId, users.reader.id);

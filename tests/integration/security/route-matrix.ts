@@ -507,7 +507,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
     method: "GET",
     capability: "digests.subscribe",
     ok: 200,
-    does: "the digest the caller's subscription would produce now",
+    does: "what sending the caller's digest now would send, or why nothing would be",
     prepare: async (w, caller) => {
       const user = memberOf(w, caller);
       if (user) await subscriptionFor(w, user.id);
@@ -520,7 +520,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
     method: "POST",
     capability: "digests.subscribe",
     ok: 202,
-    does: "queues the caller's own digest now",
+    does: "queues the caller's own digest now, or records and answers why nothing is sent (200)",
     prepare: async (w, caller) => {
       const user = memberOf(w, caller);
       if (user) await subscriptionFor(w, user.id);
