@@ -1,7 +1,7 @@
 /**
  * Loads what {@link suggestTarget} compares a new upload with: per boundary
  * set the region codes of its latest version that has regions, per panel the
- * indicator codes of its latest validated version. Every query is bound to
+ * indicator codes of its latest version with a validation report. Every query is bound to
  * one workspace.
  */
 import { QueryTypes } from "sequelize";
@@ -10,6 +10,7 @@ import type { TargetCandidate } from "./version-target";
 
 // Versions that got as far as validation have regions (or a report); uploaded and rejected ones do not count.
 const USABLE_STATES = "('validated','published','archived')";
+const PANEL_REPORTED_STATES = "('validated','published','archived','rejected')";
 
 /** Each boundary set of the workspace with the region codes of its latest usable version (none yet: no codes). */
 export async function boundaryTargetCandidates(workspaceId: number): Promise<TargetCandidate[]> {
@@ -29,14 +30,18 @@ export async function boundaryTargetCandidates(workspaceId: number): Promise<Tar
   return rows.map((row) => ({ id: row.id, name: row.name, version: row.version, codes: row.codes ?? [] }));
 }
 
-/** Each panel of the workspace with the indicator codes of its latest usable version (from its validation report). */
+/**
+ * Each panel of the workspace with the indicator codes of its latest version
+ * that has a validation report listing them. A rejected version counts: its
+ * report still lists the indicators, and the usual next upload is its fix.
+ */
 export async function panelTargetCandidates(workspaceId: number): Promise<TargetCandidate[]> {
   const rows = await db().query<{ id: number; name: string; version: number | null; indicators: unknown }>(
     `SELECT p.id, p.name, latest.version, latest.indicators
        FROM panels p
        LEFT JOIN LATERAL (
          SELECT pv.version, pv.report -> 'indicators' AS indicators FROM panel_versions pv
-          WHERE pv.panel_id = p.id AND pv.state IN ${USABLE_STATES}
+          WHERE pv.panel_id = p.id AND pv.state IN ${PANEL_REPORTED_STATES} AND jsonb_typeof(pv.report -> 'indicators') = 'array'
           ORDER BY pv.version DESC LIMIT 1
        ) latest ON true
       WHERE p.workspace_id = :workspaceId

@@ -6,7 +6,8 @@
  *
  * The rule (one for both kinds): a file matches an existing set when at least
  * half of the file's distinct codes are codes of that set's latest version
- * (region codes for boundaries, indicator codes for panels). Among matching
+ * (region codes for boundaries, indicator codes for panels; a panel's latest
+ * version is its latest one with a validation report). Among matching
  * sets the one with the largest share wins, then the one with more codes in
  * common, then the newest. Pure: the caller loads the codes.
  */
@@ -78,6 +79,7 @@ export function suggestTarget(fileCodes: Iterable<string>, candidates: readonly 
 export function mismatchWarning(match: CandidateMatch, what: "region" | "indicator"): string {
   const pct = Math.round(match.share * 100);
   const version = match.version === null ? "" : ` v${match.version}`;
+  if (match.version === null) return `'${match.name}' has no validated version yet, so none of this file's ${match.total} ${what} codes can be matched with it.`;
   return match.total === 0
     ? `This file has no ${what} codes to compare with '${match.name}'${version}.`
     : `Only ${match.matched} of the file's ${match.total} ${what} codes (${pct}%) are ${what} codes of '${match.name}'${version}.`;

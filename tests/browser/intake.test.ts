@@ -57,7 +57,7 @@ async function upload(page: Page, name: string, csv: string, panel: { newName?: 
     await page.getByLabel("Panel name").fill(panel.newName);
     await page.getByLabel("Boundary set").selectOption({ label: "Regions from Veldmark districts" });
   } else if (panel.existing) {
-    await page.getByLabel("Panel", { exact: true }).selectOption({ label: `${panel.existing} (new version)` });
+    await page.getByLabel("Panel", { exact: true }).selectOption({ label: `New version of ${panel.existing}` });
   }
   await page.getByRole("button", { name: "Validate panel" }).click();
   await page.waitForURL(/\/intake\/panels\/\d+$/);
@@ -97,7 +97,16 @@ test("a steward uploads a panel, reads the report, fixes, publishes and sees the
 
   // 2. Fixed and uploaded again: validated, then published.
   expect(await upload(page, "check-fixed.csv", panelCsv(run), { existing: panelName })).toBe("validated");
-  await page.getByRole("button", { name: "Publish" }).click();
+  // Publishing asks first, naming what becomes visible to whom; Escape backs out without publishing.
+  await page.getByRole("button", { name: "Publish…" }).click();
+  const publishDialog = page.getByRole("dialog", { name: /^Publish / });
+  await publishDialog.waitFor();
+  await expect(publishDialog.innerText()).resolves.toMatch(/10 regions[\s\S]*1 indicator[\s\S]*3 periods[\s\S]*30 observations[\s\S]*Economists and subscribers of .+ will see[\s\S]*cannot be changed, only archived/);
+  await page.keyboard.press("Escape");
+  await publishDialog.waitFor({ state: "hidden" });
+  expect(await page.getByTestId("version-state").getAttribute("data-state")).toBe("validated");
+  await page.getByRole("button", { name: "Publish…" }).click();
+  await publishDialog.getByRole("button", { name: "Publish", exact: true }).click();
   await page.locator('[data-testid="version-state"][data-state="published"]').waitFor();
 
   // 3. A revision changing one value: its difference from the published version.

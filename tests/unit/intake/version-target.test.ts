@@ -59,6 +59,11 @@ describe("mismatchWarning says how few codes match", () => {
     const match = matchCandidate(new Set(["X1", "X2", "X3", "D1"]), districts);
     expect(mismatchWarning(match, "region")).toBe("Only 1 of the file's 4 region codes (25%) are region codes of 'Districts' v3.");
   });
+  test("a set without a validated version", () => {
+    expect(mismatchWarning(matchCandidate(new Set(["A", "B"]), { id: 5, name: "New", version: null, codes: [] }), "region")).toBe(
+      "'New' has no validated version yet, so none of this file's 2 region codes can be matched with it.",
+    );
+  });
   test("a file without codes", () => {
     expect(mismatchWarning(matchCandidate(new Set(), districts), "indicator")).toBe("This file has no indicator codes to compare with 'Districts' v3.");
   });
