@@ -25,11 +25,12 @@ function fmt(iso: string | null): string {
   return iso ? new Date(iso).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" }) : "—";
 }
 
-/** What a delivery covers, from its run or its idempotency key ("sub-7:manual-<iso>", "sub-7:weekly-…"). */
-function covers(runId: number | null, key: string): string {
-  if (runId) return `run ${runId}`;
-  const period = key.slice(key.indexOf(":") + 1);
-  return period.startsWith("manual-") ? "on request" : period;
+/** What a delivery covers: why it was made (its idempotency key: "sub-7:run-12", "sub-7:manual-<iso>", "sub-7:weekly-…") and the run it reported. */
+function covers(d: DeliveryView): string {
+  const period = d.idempotencyKey.slice(d.idempotencyKey.indexOf(":") + 1);
+  const occasion = period.startsWith("manual-") ? "on request" : period.startsWith("run-") ? "after a run" : period;
+  const run = d.coveredRunId ?? d.runId;
+  return run ? `${occasion} · run ${run}` : occasion;
 }
 
 const STATUS_LABELS: Record<DeliveryView["status"], string> = { queued: "queued", sending: "sending", sent: "sent", skipped: "skipped", failed: "failed" };
@@ -242,7 +243,7 @@ export function DigestsScreen({ slug }: { slug: string }) {
                 {deliveries.map((d) => (
                   <tr key={d.id} className="border-t border-ink-100 align-top" data-testid="digest-delivery" data-status={d.status}>
                     <td className="py-1 pr-3">{fmt(d.createdAt)}</td>
-                    <td className="pr-3">{covers(d.runId ?? d.coveredRunId, d.idempotencyKey)}</td>
+                    <td className="pr-3">{covers(d)}</td>
                     <td className="pr-3 font-medium">{STATUS_LABELS[d.status]}</td>
                     <td className="pr-3">{d.attempts}</td>
                     <td className="pr-3">{fmt(d.sentAt)}</td>
