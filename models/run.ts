@@ -11,6 +11,8 @@ export const RUN_STATES: readonly RunStateName[] = ["queued", "running", "comple
 export class Run extends Model<InferAttributes<Run>, InferCreationAttributes<Run>> {
   declare id: CreationOptional<number>;
   declare workspaceId: number;
+  /** Per-workspace run number, assigned by the database on insert (migration 20261211000400). */
+  declare number: CreationOptional<number>;
   declare panelVersionId: number;
   declare boundaryVersionId: number;
   declare rerunOf: number | null;
@@ -71,6 +73,8 @@ export function initRunModels(sequelize: Sequelize): void {
     {
       id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
       workspaceId: { type: DataTypes.INTEGER, allowNull: false },
+      // The insert trigger fills it; allowNull here only lets an insert leave it out.
+      number: { type: DataTypes.INTEGER, allowNull: true },
       panelVersionId: { type: DataTypes.INTEGER, allowNull: false },
       boundaryVersionId: { type: DataTypes.INTEGER, allowNull: false },
       rerunOf: { type: DataTypes.INTEGER, allowNull: true },

@@ -11,6 +11,7 @@ import { inputClass, secondaryButton } from "@/components/ui/button-styles";
 import { fmt, fmtP, fmtSigned, Notice, SignificanceBadge, SIGNIFICANCE_SHORT } from "@/components/runs/format";
 import { catalogueExportUrl, catalogueQuery, runsQuery } from "@/components/runs/query-options";
 import type { CatalogueRow } from "@/lib/runs/catalogue-wire";
+import { runLabel } from "@/lib/runs/label";
 import { SIGNIFICANCE_CLASSES } from "@/lib/runs/schemas";
 import type { SignificanceClass } from "@/lib/runs/types";
 import { tesseraGridTheme } from "./ag-grid-setup";
@@ -76,11 +77,11 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
           <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="cat-run">
             Run
           </label>
-          <select id="cat-run" className={`${inputClass} mt-1 w-64`} value={run} onChange={(e) => update({ run: e.target.value || null })}>
+          <select id="cat-run" className={`${inputClass} mt-1 w-[30rem] max-w-full`} value={run} onChange={(e) => update({ run: e.target.value || null })}>
             <option value="">Latest run of each indicator</option>
             {completedRuns.map((r) => (
               <option key={r.id} value={r.id}>
-                Run {r.id} · {r.panelName} v{r.panelVersion} · {new Date(r.finishedAt ?? r.createdAt).toLocaleDateString("en-GB")}
+                {runLabel(r)} · {new Date(r.finishedAt ?? r.createdAt).toLocaleDateString("en-GB")}
               </option>
             ))}
           </select>

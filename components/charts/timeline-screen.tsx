@@ -6,7 +6,9 @@ import { useIndicatorTimeline } from "@/components/runs/use-indicator-timeline";
 import { useQuery } from "@tanstack/react-query";
 import type { EChartsOption } from "echarts";
 import { secondaryButton } from "@/components/ui/button-styles";
-import { fmt, fmtP, fmtSigned, Notice, Panel, SignificanceBadge, weightsLabel } from "@/components/runs/format";
+import { fmt, fmtP, fmtSigned, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
+import { RunPicker } from "@/components/runs/run-picker";
+import { runLabel } from "@/lib/runs/label";
 import { robustnessQuery } from "@/components/runs/query-options";
 import type { Timeline } from "@/lib/runs/queries";
 import { EChart, INK, MUTED, OCHRE } from "./echart";
@@ -24,10 +26,10 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
     <div className="space-y-6">
       <div className="flex flex-wrap items-end gap-4">
         <IndicatorPicker id="tl-indicator" value={indicator} indicators={indicators} onChange={(code) => set({ indicator: code, run: null, period: null })} />
+        <RunPicker id="tl-run" slug={slug} indicator={indicator} value={data.data?.run.id ?? null} onChange={(id) => set({ run: String(id), period: null })} />
         {data.data ? (
-          <p className="pb-2 text-sm text-ink-500">
-            Run {data.data.run.id} · {weightsLabel(data.data.run.params.weights, data.data.run.params.transform)} weights ·{" "}
-            {data.data.run.params.permutations.toLocaleString("en-GB")} permutations · seed <span className="font-mono">{data.data.run.params.seed}</span>
+          <p className="pb-2 text-sm text-ink-500" data-testid="timeline-run">
+            {runLabel(data.data.run)} · seed <span className="font-mono">{data.data.run.params.seed}</span>
           </p>
         ) : null}
         <div className="ml-auto flex gap-2 pb-0.5">

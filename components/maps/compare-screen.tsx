@@ -7,11 +7,13 @@ import { useQuery } from "@tanstack/react-query";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
 import { fmt, fmtP, fmtSigned, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
 import { compareQuery } from "@/components/runs/query-options";
+import { RunPicker } from "@/components/runs/run-picker";
+import { periodPair } from "@/lib/runs/period-order";
 
 export function CompareScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
-  const { params, setParams: set, indicator, periods, runId } = useIndicatorTimeline(slug, indicators);
-  const a = params.get("a") ?? periods[0] ?? "";
-  const b = params.get("b") ?? periods[periods.length - 1] ?? "";
+  const { params, setParams: set, indicator, periods, runId, timeline } = useIndicatorTimeline(slug, indicators);
+  // Earlier period first whatever order the link or URL gave (lib/runs/period-order).
+  const { earlier: a, later: b } = periodPair(periods, params.get("a"), params.get("b"));
   const data = useQuery(compareQuery(slug, indicator, runId, a, b));
   const c = data.data?.comparison;
   const label = indicators.find((i) => i.code === indicator)?.label ?? indicator;
@@ -20,6 +22,7 @@ export function CompareScreen({ slug, indicators }: { slug: string; indicators: 
     <div className="space-y-6">
       <div className="flex flex-wrap items-end gap-4">
         <IndicatorPicker id="cmp-indicator" value={indicator} indicators={indicators} onChange={(code) => set({ indicator: code, run: null })} />
+        <RunPicker id="cmp-run" slug={slug} indicator={indicator} value={timeline.data?.run.id ?? null} onChange={(id) => set({ run: String(id) })} />
         {(["a", "b"] as const).map((key) => (
           <div key={key}>
             <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor={`cmp-${key}`}>

@@ -16,15 +16,16 @@ import { LocalInferenceNote } from "@/components/runs/reachability-note";
 import type { ClusterClass, IndependenceTest } from "@/lib/spatial";
 import type { MapPeriod } from "@/lib/runs/on-demand";
 import { escapeHtml } from "@/lib/security/html";
+import { periodPair } from "@/lib/runs/period-order";
+import { RunPicker } from "@/components/runs/run-picker";
 import { RegionMap, useRegionFeatures } from "./region-map";
 
 const CLASSES: ClusterClass[] = ["HH", "LL", "HL", "LH", "not-significant", "no-neighbours"];
 
 export function MapScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
   const { params, setParams: set, indicator, timeline, periods, runId } = useIndicatorTimeline(slug, indicators);
-  const a = params.get("a") ?? periods[0] ?? "";
-  const defaultB = periods.length ? (a === periods[periods.length - 1] ? periods[0] : periods[periods.length - 1]) : "";
-  const b = params.get("b") ?? defaultB;
+  // Earlier period on the left whatever order the link or URL gave (lib/runs/period-order).
+  const { earlier: a, later: b } = periodPair(periods, params.get("a"), params.get("b"));
   const geometry = useQuery(geometryQuery(slug, runId));
   const mapA = useQuery(mapQuery(slug, indicator, runId, a));
   const mapB = useQuery(mapQuery(slug, indicator, runId, b));
@@ -50,9 +51,10 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
     <div className="space-y-6">
       <div className="flex flex-wrap items-end gap-4">
         <IndicatorPicker id="map-indicator" value={indicator} indicators={indicators} onChange={(code) => set({ indicator: code, run: null })} />
+        <RunPicker id="map-run" slug={slug} indicator={indicator} value={timeline.data?.run.id ?? null} onChange={(id) => set({ run: String(id) })} />
         <div>
           <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="map-a">
-            Period A
+            Earlier period
           </label>
           <select id="map-a" className={`${inputClass} mt-1 w-28`} value={a} onChange={(e) => set({ a: e.target.value })}>
             {periods.map((p) => (
@@ -62,7 +64,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
         </div>
         <div>
           <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="map-b">
-            Period B
+            Later period
           </label>
           <select id="map-b" className={`${inputClass} mt-1 w-28`} value={b} onChange={(e) => set({ b: e.target.value })}>
             {periods.map((p) => (

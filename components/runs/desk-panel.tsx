@@ -2,7 +2,7 @@
 
 import Link from "next/link";
 import { useQuery } from "@tanstack/react-query";
-import { fmt, fmtSigned, Notice, SignificanceBadge, SIGNIFICANCE_SHORT, StateBadge } from "./format";
+import { fmt, fmtSigned, Notice, runLabel, runName, SignificanceBadge, SIGNIFICANCE_SHORT, StateBadge } from "./format";
 import { deskQuery } from "./query-options";
 
 export function DeskPanel({ slug }: { slug: string }) {
@@ -17,7 +17,7 @@ export function DeskPanel({ slug }: { slug: string }) {
           <h2 className="text-base font-semibold text-ink">Largest movements</h2>
           {d.latest ? (
             <Link className="text-sm font-medium text-ochre-700 hover:underline" href={`/w/${slug}/catalogue?run=${d.latest.id}`}>
-              Run {d.latest.id} in the catalogue
+              {runName(d.latest.number)} in the catalogue
             </Link>
           ) : null}
         </div>
@@ -26,7 +26,7 @@ export function DeskPanel({ slug }: { slug: string }) {
         ) : (
           <>
             <p className="mt-1 text-sm text-ink-500">
-              The biggest changes in Moran&apos;s I from one period to the next in run {d.latest.id} ({d.latest.panelName}, version {d.latest.panelVersion}).
+              The biggest changes in Moran&apos;s I from one period to the next in {runLabel(d.latest)}.
               {d.counts ? ` ${d.counts.clustering} indicator-periods show significant clustering, ${d.counts.dispersion} dispersion.` : ""}
             </p>
             <ul className="mt-4 divide-y divide-ink-50">
@@ -55,7 +55,7 @@ export function DeskPanel({ slug }: { slug: string }) {
         <section className="rounded-lg border border-ink-100 bg-white p-6 shadow-sm">
           <h2 className="text-base font-semibold text-ink">Changed since the previous run</h2>
           <p className="mt-1 text-sm text-ink-500">
-            Indicator-periods whose class differs between run {d.latest?.id} and run {d.previous.id}, the newest earlier run of this panel computed
+            Indicator-periods whose class differs between {d.latest ? runLabel(d.latest) : "the latest run"} and {runLabel(d.previous)}, the newest earlier run of this panel computed
             the same way (same weights, transform, island policy, permutations, alpha and correction).
           </p>
           {d.classChanges.length === 0 ? (
@@ -78,7 +78,7 @@ export function DeskPanel({ slug }: { slug: string }) {
         <section className="rounded-lg border border-ink-100 bg-white p-6 shadow-sm" data-testid="desk-method-change">
           <h2 className="text-base font-semibold text-ink">Changed since the previous run</h2>
           <p className="mt-1 text-sm text-ink-700">
-            Method changed between run {d.methodChange.runId} and run {d.latest?.id}: {d.methodChange.sentence}. A difference between them would be the
+            Method changed between {runName(d.methodChange.runNumber)} and {d.latest ? runName(d.latest.number) : "the latest run"}: {d.methodChange.sentence}. A difference between them would be the
             method&apos;s, not the data&apos;s, so none is shown.
           </p>
         </section>
@@ -96,7 +96,7 @@ export function DeskPanel({ slug }: { slug: string }) {
           {d.runs.map((r) => (
             <li key={r.id} className="flex items-center justify-between gap-3 py-2 text-sm">
               <span className="text-ink">
-                Run {r.id} · {r.panelName} v{r.panelVersion}
+                {runLabel(r)}
               </span>
               <span className="flex items-center gap-3 text-xs text-ink-500">
                 {r.state === "running" ? `${Math.round((100 * r.periodsDone) / Math.max(1, r.resultsTotal))}%` : new Date(r.finishedAt ?? r.createdAt).toLocaleDateString("en-GB")}

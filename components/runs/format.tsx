@@ -101,7 +101,4 @@ export function Notice({ tone = "info", children }: { tone?: "info" | "error"; c
   return <div className={`rounded-md border px-4 py-3 text-sm ${cls}`}>{children}</div>;
 }
 
-export function weightsLabel(rule: string, transform: string): string {
-  const r = rule === "band" ? "distance band" : rule.startsWith("knn:") ? `${rule.slice(4)} nearest` : rule;
-  return `${r}, ${transform === "row-standardised" ? "row-standardised" : "binary"}`;
-}
+export { runLabel, runName, weightsLabel } from "@/lib/runs/label";

@@ -130,7 +130,7 @@ export async function postJson<T>(url: string, body: unknown): Promise<T> {
 }
 
 export const runsApi = {
-  start: (slug: string, body: unknown) => postJson<{ runId: number }>(`${base(slug)}/runs`, body),
+  start: (slug: string, body: unknown) => postJson<{ runId: number; number: number }>(`${base(slug)}/runs`, body),
   cancel: (slug: string, runId: number) => postJson<{ runId: number }>(`${base(slug)}/runs/${runId}/cancel`, {}),
-  rerun: (slug: string, runId: number) => postJson<{ runId: number }>(`${base(slug)}/runs/${runId}/rerun`, {}),
+  rerun: (slug: string, runId: number) => postJson<{ runId: number; number: number }>(`${base(slug)}/runs/${runId}/rerun`, {}),
 };

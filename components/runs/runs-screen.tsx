@@ -8,7 +8,7 @@ import { dangerButton, inputClass, labelClass, primaryButton, secondaryButton } 
 import { startFormReachability } from "@/lib/runs/reachability";
 import { CORRECTION_LABELS, CORRECTIONS, ISLAND_POLICIES, ISLAND_POLICY_LABELS, runParamsInputSchema, SEQUENTIAL_EXTREMES, WEIGHTS_CHOICES } from "@/lib/runs/schemas";
 import type { RunSummary } from "@/lib/runs/queries";
-import { Notice, Panel, StateBadge, weightsLabel } from "./format";
+import { Notice, Panel, runLabel, runName, StateBadge, weightsLabel } from "./format";
 import { StartFormReachability } from "./reachability-note";
 import { runOptionsQuery, runsApi, runsKeys, runsQuery } from "./query-options";
 
@@ -41,7 +41,7 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
   const rerun = useMutation({
     mutationFn: (runId: number) => runsApi.rerun(slug, runId),
     onSuccess: (r) => {
-      setMessage(`Run ${r.runId} queued with the same parameters and seed.`);
+      setMessage(`${runName(r.number)} queued with the same parameters and seed.`);
       return client.invalidateQueries({ queryKey: runsKeys.all(slug) });
     },
     onError: (e) => setMessage(e.message),
@@ -58,13 +58,15 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
           const pct = run.resultsTotal ? Math.round((100 * run.periodsDone) / run.resultsTotal) : 0;
           const active = run.state === "queued" || run.state === "running";
           return (
-            <li key={run.id} className="py-4" data-testid={`run-${run.id}`} data-state={run.state}>
+            <li key={run.id} className="py-4" data-testid={`run-${run.id}`} data-run-number={run.number} data-state={run.state}>
               <div className="flex flex-wrap items-center justify-between gap-3">
                 <div className="min-w-0">
                   <div className="flex items-center gap-2">
-                    <span className="font-semibold text-ink">Run {run.id}</span>
+                    <span className="font-semibold text-ink" data-testid="run-label">
+                      {runLabel(run)}
+                    </span>
                     <StateBadge state={run.state} />
-                    {run.rerunOf ? <span className="text-xs text-ink-400">rerun of {run.rerunOf}</span> : null}
+                    {run.rerunOfNumber !== null ? <span className="text-xs text-ink-400">rerun of {runName(run.rerunOfNumber)}</span> : null}
                     {run.origin === "demo" ? <span className="text-xs text-ink-400">demo</span> : null}
                   </div>
                   <p className="mt-1 text-sm text-ink-500">
@@ -91,7 +93,7 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
                 </div>
               </div>
               <div className="mt-3 flex items-center gap-3">
-                <div className="h-2 flex-1 overflow-hidden rounded-full bg-ink-50" role="progressbar" aria-valuenow={pct} aria-valuemin={0} aria-valuemax={100} aria-label={`Run ${run.id} progress`}>
+                <div className="h-2 flex-1 overflow-hidden rounded-full bg-ink-50" role="progressbar" aria-valuenow={pct} aria-valuemin={0} aria-valuemax={100} aria-label={`${runName(run.number)} progress`}>
                   <div className={`h-full rounded-full ${run.state === "failed" ? "bg-red-400" : run.state === "cancelled" ? "bg-stone-300" : "bg-ochre-500"} transition-all`} style={{ width: `${pct}%` }} />
                 </div>
                 <span className="w-60 shrink-0 text-right text-xs tabular-nums text-ink-500">
@@ -164,7 +166,7 @@ function StartRunForm({ slug }: { slug: string }) {
   const [local, setLocal] = useState(true);
   const [sequential, setSequential] = useState(false);
   const [error, setError] = useState<{ field: string | null; message: string } | null>(null);
-  const [started, setStarted] = useState<number | null>(null);
+  const [started, setStarted] = useState<{ id: number; number: number } | null>(null);
 
   const version = useMemo(() => {
     const list = options.data ?? [];
@@ -195,7 +197,7 @@ function StartRunForm({ slug }: { slug: string }) {
   const start = useMutation({
     mutationFn: (body: unknown) => runsApi.start(slug, body),
     onSuccess: (r) => {
-      setStarted(r.runId);
+      setStarted({ id: r.runId, number: r.number });
       setError(null);
       return client.invalidateQueries({ queryKey: runsKeys.all(slug) });
     },
@@ -386,7 +388,14 @@ function StartRunForm({ slug }: { slug: string }) {
           </label>
           <StartFormReachability warnings={reachability} />
           {error && !["weights", "permutations", "seed", "alpha", "indicators", "periods"].includes(error.field ?? "") ? <Notice tone="error">{error.message}</Notice> : null}
-          {started ? <Notice>Run {started} is queued. Its progress shows in the queue.</Notice> : null}
+          {started ? (
+            <Notice>
+              <span data-testid="started-run" data-run-id={started.id}>
+                {runName(started.number)}
+              </span>{" "}
+              is queued. Its progress shows in the queue.
+            </Notice>
+          ) : null}
           <button type="submit" className={`${primaryButton} w-full`} disabled={start.isPending}>
             {start.isPending ? "Starting…" : "Start run"}
           </button>

@@ -3,6 +3,7 @@
 import { useQuery } from "@tanstack/react-query";
 import type { AuditRow } from "@/lib/auth/team";
 import { auditQuery } from "./query-options";
+import { runName } from "@/lib/runs/label";
 
 const LABELS: Record<string, string> = {
   "sign-in.succeeded": "Signed in",
@@ -52,8 +53,10 @@ function runSummary(d: Detail): string {
 }
 
 function rerunSummary(d: Detail): string {
+  // Events written before runs were numbered per workspace only have the global id.
+  const ofNumber = count(d.rerunOfNumber);
   const of = count(d.rerunOf);
-  return [of !== null ? `of run ${of}` : "", runSummary(d)].filter((p) => p !== "").join(", ");
+  return [ofNumber !== null ? `of ${runName(ofNumber)}` : of !== null ? `of run id ${of}` : "", runSummary(d)].filter((p) => p !== "").join(", ");
 }
 
 function indicatorChange(d: Detail): string {

@@ -13,10 +13,15 @@ import type { RunState } from "./store";
 import type { LocalFields, SignificanceClass, WeightsUsed } from "./types";
 
 export interface RunSummary {
+  /** Global id: URLs and API parameters. */
   id: number;
+  /** Per-workspace number: what labels show (lib/runs/label runLabel). */
+  number: number;
   state: RunState;
   origin: string;
   rerunOf: number | null;
+  /** The per-workspace number of the run this one reran. */
+  rerunOfNumber: number | null;
   params: ResolvedRunParams;
   panelName: string;
   panelVersion: number;
@@ -35,9 +40,11 @@ export interface RunSummary {
 
 interface RunRow {
   id: number;
+  number: number;
   state: RunState;
   origin: string;
   rerun_of: number | null;
+  rerun_of_number: number | null;
   params: ResolvedRunParams;
   panel_name: string;
   panel_version: number;
@@ -55,7 +62,7 @@ interface RunRow {
 }
 
 const RUN_SELECT = `
-  SELECT r.id, r.state, r.origin, r.rerun_of, r.params, p.name AS panel_name, pv.version AS panel_version, r.progress,
+  SELECT r.id, r.number, r.state, r.origin, r.rerun_of, (SELECT o.number FROM runs o WHERE o.id = r.rerun_of) AS rerun_of_number, r.params, p.name AS panel_name, pv.version AS panel_version, r.progress,
          r.pieces_total, r.pieces_done, r.results_total, r.significance_basis, r.error, u.name AS created_by_name,
          r.created_at, r.started_at, r.finished_at,
          (SELECT SUM(CASE WHEN rp.state = 'completed' THEN rp.periods_total ELSE rp.periods_done END) FROM run_pieces rp WHERE rp.run_id = r.id) AS periods_done
@@ -67,9 +74,11 @@ const RUN_SELECT = `
 function toSummary(r: RunRow): RunSummary {
   return {
     id: r.id,
+    number: r.number,
     state: r.state,
     origin: r.origin,
     rerunOf: r.rerun_of,
+    rerunOfNumber: r.rerun_of_number,
     params: r.params,
     panelName: r.panel_name,
     panelVersion: r.panel_version,
@@ -475,6 +484,8 @@ export interface ClassChange {
 export interface MethodChange {
   /** The newest earlier run of the same panel (computed differently). */
   runId: number;
+  /** Its per-workspace number (what the Desk shows). */
+  runNumber: number;
   /** "weights changed from queen to rook; no comparison" */
   sentence: string;
 }
@@ -531,7 +542,8 @@ export async function deskSummary(workspaceId: number): Promise<DeskSummary> {
   );
   const toComparable = (r: { id: number; panel_id: number; params: Record<string, unknown> }) => ({ id: Number(r.id), panelId: Number(r.panel_id), params: r.params });
   const baseline = selectBaseline(toComparable(completed[0]), earlier.map(toComparable));
-  const methodChange: MethodChange | null = baseline.kind === "method-changed" ? { runId: baseline.run.id, sentence: baseline.sentence } : null;
+  const methodChange: MethodChange | null =
+    baseline.kind === "method-changed" ? { runId: baseline.run.id, runNumber: (await getRun(workspaceId, baseline.run.id))?.number ?? 0, sentence: baseline.sentence } : null;
   const previousId = baseline.kind === "comparable" ? baseline.run.id : null;
   let classChanges: ClassChange[] = [];
   if (previousId !== null) {

@@ -14,6 +14,7 @@ import { QueryTypes, type Transaction } from "sequelize";
 import { freshSeed, RUN_METHOD, resolvedRunParamsSchema, SEQUENTIAL_EXTREMES, type ResolvedRunParams, type RunParamsChoice } from "./schemas";
 import { cancelRun as cancelRunRow, failRunAtStart, insertRun, setPieceJobIds } from "./store";
 import { weightsProblem } from "./weights-check";
+import { runLabel, runName } from "./label";
 
 /** A request that is well-formed but names something the panel version does not have (HTTP 422). */
 export class RunInputError extends Error {
@@ -145,6 +146,8 @@ export async function enqueuePieces(runId: number, indicators: readonly string[]
 
 export interface StartedRun {
   runId: number;
+  /** Per-workspace number (what labels show). */
+  number: number;
   params: ResolvedRunParams;
 }
 
@@ -155,8 +158,14 @@ interface RunActor {
   actorEmail?: string | null;
 }
 
-function runTarget(runId: number, version: PanelVersionRow): string {
-  return `run ${runId} on panel "${version.panel_name}" v${version.version}`;
+/** The trail names a run as every screen does (lib/runs/label). */
+function runTarget(number: number, version: PanelVersionRow, params: Pick<ResolvedRunParams, "weights" | "transform" | "permutations">): string {
+  return runLabel({ number, panelName: version.panel_name, panelVersion: version.version, params });
+}
+
+async function runNumberOf(runId: number, transaction?: Transaction): Promise<number> {
+  const rows = await db().query<{ number: number }>("SELECT number FROM runs WHERE id = $1", { bind: [runId], type: QueryTypes.SELECT, transaction });
+  return rows[0]?.number ?? 0;
 }
 
 /** What the trail keeps of a run's parameters: enough to tell runs apart, not the indicator list. */
@@ -186,11 +195,13 @@ async function createRun(
   rerunOf: number | null,
 ): Promise<StartedRun> {
   await requireBuildableWeights(version, params);
-  const runId = await db().transaction(async (transaction) => {
+  const { runId, number } = await db().transaction(async (transaction) => {
     const id = await insertRun({ workspaceId: actor.workspaceId, params, createdBy: actor.userId, origin, rerunOf, transaction });
-    const detail = { runId: id, ...paramsSummary(params), origin, ...(rerunOf === null ? {} : { rerunOf }) };
-    await auditRun(actor, rerunOf === null ? "run.started" : "run.rerun", runTarget(id, version), detail, transaction);
-    return id;
+    const runNumber = await runNumberOf(id, transaction);
+    const rerunOfNumber = rerunOf === null ? null : await runNumberOf(rerunOf, transaction);
+    const detail = { runId: id, runNumber, ...paramsSummary(params), origin, ...(rerunOf === null ? {} : { rerunOf, rerunOfNumber }) };
+    await auditRun(actor, rerunOf === null ? "run.started" : "run.rerun", runTarget(runNumber, version, params), detail, transaction);
+    return { runId: id, number: runNumber };
   });
   try {
     await enqueuePieces(runId, params.indicators);
@@ -201,7 +212,7 @@ async function createRun(
     await failRunAtStart(runId, `Its pieces could not be queued: ${error instanceof Error ? error.message : String(error)}`).catch(() => undefined);
     throw error;
   }
-  return { runId, params };
+  return { runId, number, params };
 }
 
 /** Creates a run and queues its pieces. */
@@ -244,7 +255,7 @@ export async function rerun(args: RunActor & { runId: number }): Promise<Started
 
 /** Cancels a queued or running run; queued pieces are withdrawn from the queue, running ones stop at their next period. */
 export async function cancelRun(args: RunActor & { runId: number }): Promise<void> {
-  const rows = await db().query<{ state: string; panel_version_id: number }>("SELECT state, panel_version_id FROM runs WHERE id = $1 AND workspace_id = $2", {
+  const rows = await db().query<{ state: string; panel_version_id: number; number: number; params: ResolvedRunParams }>("SELECT state, panel_version_id, number, params FROM runs WHERE id = $1 AND workspace_id = $2", {
     bind: [args.runId, args.workspaceId],
     type: QueryTypes.SELECT,
   });
@@ -254,11 +265,11 @@ export async function cancelRun(args: RunActor & { runId: number }): Promise<voi
   const result = await db().transaction(async (transaction) => {
     const cancelled = await cancelRunRow(args.runId, args.userId, transaction);
     if (cancelled.cancelled) {
-      await auditRun(args, "run.cancelled", runTarget(args.runId, version), { runId: args.runId, panelVersionId: run.panel_version_id }, transaction);
+      await auditRun(args, "run.cancelled", runTarget(run.number, version, run.params), { runId: args.runId, runNumber: run.number, panelVersionId: run.panel_version_id }, transaction);
     }
     return cancelled;
   });
-  if (!result.cancelled) throw new ConflictError(`Run ${args.runId} is already ${run.state}; only queued or running runs can be cancelled.`);
+  if (!result.cancelled) throw new ConflictError(`${runName(run.number)} is already ${run.state}; only queued or running runs can be cancelled.`);
   if (result.jobIds.length) {
     const boss = await getBoss();
     await boss.cancel("run-piece", result.jobIds).catch(() => undefined);

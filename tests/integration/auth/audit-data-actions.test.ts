@@ -52,6 +52,7 @@ let boundaryUploadId: string;
 let boundaryVersionId: number;
 let panelVersionId: number;
 let firstRunId: number;
+let firstRunNumber: number;
 
 beforeAll(async () => {
   await requireTestServices();
@@ -223,8 +224,11 @@ describe("run and digest actions on the audit trail", () => {
       started = await expectStatus(startRun({ panelVersionId, seed: 77, permutations: 99, local: false }), 201);
     });
     firstRunId = Number(started.runId);
-    expect(onlyEvent(events, "run.started", economist, `run ${firstRunId} on panel "${panelName}" v1`)).toEqual({
+    firstRunNumber = Number(started.number);
+    // The trail names the run as the screens do: its number in the workspace, panel version, weights and permutations.
+    expect(onlyEvent(events, "run.started", economist, `Run ${firstRunNumber} · ${panelName} v1 · queen, row-standardised · 99 perm.`)).toEqual({
       runId: firstRunId,
+      runNumber: firstRunNumber,
       panelVersionId,
       indicators: 2,
       periods: 3,
@@ -244,7 +248,17 @@ describe("run and digest actions on the audit trail", () => {
       answer = await expectStatus(postRerun(jsonRequest("POST", {}), ctx({ slug, runId: String(firstRunId) })), 201);
     });
     const rerunId = Number(answer.runId);
-    expect(onlyEvent(events, "run.rerun", steward, `run ${rerunId} on panel "${panelName}" v1`)).toMatchObject({ runId: rerunId, rerunOf: firstRunId, seed: 77, permutations: 99, origin: "rerun" });
+    const rerunNumber = Number(answer.number);
+    expect(rerunNumber).toBe(firstRunNumber + 1);
+    expect(onlyEvent(events, "run.rerun", steward, `Run ${rerunNumber} · ${panelName} v1 · queen, row-standardised · 99 perm.`)).toMatchObject({
+      runId: rerunId,
+      runNumber: rerunNumber,
+      rerunOf: firstRunId,
+      rerunOfNumber: firstRunNumber,
+      seed: 77,
+      permutations: 99,
+      origin: "rerun",
+    });
   });
 
   it("records a cancellation once; cancelling it again and a subscriber's attempt record nothing", async () => {
@@ -257,7 +271,8 @@ describe("run and digest actions on the audit trail", () => {
     expect(await recorded(() => expectStatus(cancel(), 403))).toEqual([]);
     const economist = as(users.economist);
     const events = await recorded(() => expectStatus(cancel(), 200));
-    expect(onlyEvent(events, "run.cancelled", economist, `run ${runId} on panel "${panelName}" v1`)).toEqual({ runId, panelVersionId });
+    const [{ number }] = await db().query<{ number: number }>("SELECT number FROM runs WHERE id = $1", { bind: [runId], type: QueryTypes.SELECT });
+    expect(onlyEvent(events, "run.cancelled", economist, `Run ${number} · ${panelName} v1 · queen, row-standardised · 99 perm.`)).toEqual({ runId, runNumber: number, panelVersionId });
     expect(await recorded(() => expectStatus(cancel(), 409))).toEqual([]);
   });
 
@@ -340,7 +355,7 @@ describe("the audit API", () => {
       expect(actions).toContain(action);
     }
     const started = events.find((e) => e.action === "run.started");
-    expect(started).toMatchObject({ actor: `${users.economist.name} (${users.economist.email})`, target: `run ${firstRunId} on panel "${panelName}" v1` });
+    expect(started).toMatchObject({ actor: `${users.economist.name} (${users.economist.email})`, target: `Run ${firstRunNumber} · ${panelName} v1 · queen, row-standardised · 99 perm.` });
     expect(events.find((e) => e.action === "version.archived")?.actor).toBe(`${manager.name} (${manager.email})`);
 
     as(users.steward);

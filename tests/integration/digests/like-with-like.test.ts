@@ -137,7 +137,8 @@ describe("a queen run, then a rook run, then a queen run on one panel", () => {
     expect(d.latest?.id).toBe(runs.rook);
     expect(d.previous).toBeNull();
     expect(d.classChanges).toEqual([]);
-    expect(d.methodChange).toEqual({ runId: runs.queen1, sentence: "weights changed from queen to rook; no comparison" });
+    const [{ number }] = await db().query<{ number: number }>("SELECT number FROM runs WHERE id = $1", { bind: [runs.queen1], type: QueryTypes.SELECT });
+    expect(d.methodChange).toEqual({ runId: runs.queen1, runNumber: number, sentence: "weights changed from queen to rook; no comparison" });
     // The largest movements are the rook run's own, from one period to the next.
     const [own] = await db().query<{ n: string }>("SELECT count(*) AS n FROM run_results WHERE run_id = $1 AND delta_i IS NOT NULL", { bind: [runs.rook], type: QueryTypes.SELECT });
     expect(d.movements.length).toBe(Math.min(6, Number(own.n)));

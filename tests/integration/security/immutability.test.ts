@@ -144,7 +144,9 @@ describe("the data is what it should be before anything is tried", () => {
 describe("a completed run cannot be changed by any route", () => {
   it("refuses to cancel it (409 naming the run) and changes nothing", async () => {
     const message = await leavesAllAsItWas(async () => refusal(await postCancel(jsonRequest("POST"), ctx({ slug, runId: String(runId) })), 409));
-    expect(message).toBe(`Run ${runId} is already completed; only queued or running runs can be cancelled.`);
+    const { number } = await one<{ number: number }>("SELECT number FROM runs WHERE id = $1", [runId]);
+    // Named by its number in the workspace, as every screen names it.
+    expect(message).toBe(`Run ${number} is already completed; only queued or running runs can be cancelled.`);
   });
 
   it("a rerun makes a new run with the same numbers and leaves the completed one byte for byte", async () => {

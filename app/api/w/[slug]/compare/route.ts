@@ -1,6 +1,7 @@
 import { jsonError, memberRoute } from "@/lib/auth/route";
 import { parseSearch, withIndicatorRun } from "@/lib/runs/http";
 import { comparison } from "@/lib/runs/on-demand";
+import { periodsInOrder } from "@/lib/runs/period-order";
 import { compareQuerySchema } from "@/lib/runs/schemas";
 
 export const dynamic = "force-dynamic";
@@ -11,7 +12,8 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
   const { indicator, run: runId, a, b } = search.value;
   if (a === b) return jsonError(400, "Choose two different periods to compare.", { field: "b" });
   return withIndicatorRun(member.workspace.id, indicator, runId, async (run) => {
-    const [earlier, later] = run.params.periods.indexOf(a) <= run.params.periods.indexOf(b) ? [a, b] : [b, a];
+    // The answer reads earlier → later whatever order the query gave.
+    const [earlier, later] = periodsInOrder(run.params.periods, a, b);
     return Response.json({ runId: run.id, comparison: await comparison(run, indicator, earlier, later) });
   });
 });

@@ -18,7 +18,7 @@ export const POST = memberRoute({ capability: "runs.manage", body: startRunSchem
   try {
     const { panelVersionId, ...choice } = body;
     const started = await startRun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, panelVersionId, choice });
-    return Response.json({ runId: started.runId, params: started.params }, { status: 201 });
+    return Response.json({ runId: started.runId, number: started.number, params: started.params }, { status: 201 });
   } catch (error) {
     return runsError(error);
   }

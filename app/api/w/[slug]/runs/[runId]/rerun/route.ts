@@ -13,7 +13,7 @@ export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, 
   if (limited) return limited;
   try {
     const started = await rerun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, runId });
-    return Response.json({ runId: started.runId, rerunOf: runId }, { status: 201 });
+    return Response.json({ runId: started.runId, number: started.number, rerunOf: runId }, { status: 201 });
   } catch (error) {
     return runsError(error);
   }
