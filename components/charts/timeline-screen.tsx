@@ -9,6 +9,8 @@ import { secondaryButton } from "@/components/ui/button-styles";
 import { fmt, fmtP, fmtSigned, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
 import { RunPicker } from "@/components/runs/run-picker";
 import { runLabel } from "@/lib/runs/label";
+import { CLUSTER_CLASS_COLOURS } from "@/lib/runs/cluster-classes";
+import { distanceSentence } from "@/lib/runs/distances";
 import { robustnessQuery } from "@/components/runs/query-options";
 import type { Timeline } from "@/lib/runs/queries";
 import { EChart, INK, MUTED, OCHRE } from "./echart";
@@ -115,7 +117,8 @@ function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period:
         type: "bar",
         data: pts.map((p) => ({
           value: p.zRandomisation,
-          itemStyle: { color: p.significance === "clustering" ? "#9a3412" : p.significance === "dispersion" ? "#115e59" : "#c3cbdb" },
+          // Clustering in the HH colour, dispersion in the LL one: the palette's pair (lib/runs/cluster-classes).
+          itemStyle: { color: p.significance === "clustering" ? CLUSTER_CLASS_COLOURS.HH : p.significance === "dispersion" ? CLUSTER_CLASS_COLOURS.LL : "#c3cbdb" },
         })),
         barMaxWidth: 22,
         markLine: {
@@ -140,6 +143,7 @@ function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period:
 function RobustnessStrip({ slug, indicator, run, period, periods, onPeriod }: { slug: string; indicator: string; run: number; period: string; periods: string[]; onPeriod: (p: string) => void }) {
   const strip = useQuery(robustnessQuery(slug, indicator, run, period));
   const entries = strip.data?.entries ?? [];
+  const measure = entries.find((e) => e.distances !== null)?.distances ?? null;
   const option: EChartsOption = {
     grid: { left: 110, right: 40, top: 12, bottom: 44 },
     tooltip: { trigger: "item" },
@@ -177,7 +181,12 @@ function RobustnessStrip({ slug, indicator, run, period, periods, onPeriod }: { 
           ))}
         </select>
       }
-      caption={`Moran's I for ${period} recomputed on demand under queen and rook contiguity, 4, 6 and 8 nearest neighbours and the smallest distance band that connects every region (${strip.data?.transform ?? "row-standardised"} weights, the run's seed and permutations). Grey bars are each rule's 95 % band under the null; a result that holds across rules depends less on the choice of weights.`}
+      caption={
+        <>
+          {`Moran's I for ${period} recomputed on demand under queen and rook contiguity, 4, 6 and 8 nearest neighbours and the smallest distance band that connects every region (${strip.data?.transform ?? "row-standardised"} weights, the run's seed and permutations). Grey bars are each rule's 95 % band under the null; a result that holds across rules depends less on the choice of weights.`}
+          {measure ? <span data-testid="robustness-distances"> {distanceSentence(measure)}</span> : null}
+        </>
+      }
     >
       {strip.isPending ? <p className="text-sm text-ink-500">Computing the strip…</p> : null}
       {strip.error ? <Notice tone="error">{strip.error.message}</Notice> : null}

@@ -7,6 +7,7 @@ import { useMemo, useState } from "react";
 import { feature } from "topojson-client";
 import { inputClass, labelClass } from "@/components/ui/button-styles";
 import type { WeightsPreview } from "@/lib/intake/queries";
+import { NO_NEIGHBOURS_HATCH } from "@/lib/runs/cluster-classes";
 import { Notice, Panel } from "./format";
 import { topologyQuery, weightsQuery, type TopologyResponse } from "./query-options";
 
@@ -114,8 +115,8 @@ function RegionsSvg({ topology, weights }: { topology: TopologyResponse; weights
       <svg viewBox={`0 0 ${WIDTH} ${HEIGHT}`} className="h-auto w-full rounded-md border border-ink-100 bg-ink-50/40" role="img" aria-label="Map of the regions and their neighbour links" data-testid="boundary-map">
         <defs>
           <pattern id="tessera-island-hatch" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)">
-            <rect width="6" height="6" fill="#e7e5e4" />
-            <line x1="0" y1="0" x2="0" y2="6" stroke="#a8a29e" strokeWidth="2" />
+            <rect width="6" height="6" fill={NO_NEIGHBOURS_HATCH.background} />
+            <line x1="0" y1="0" x2="0" y2="6" stroke={NO_NEIGHBOURS_HATCH.stroke} strokeWidth="2" />
           </pattern>
         </defs>
         <g>

@@ -10,17 +10,19 @@ import type { EChartsOption } from "echarts";
 import { useMemo, useState } from "react";
 import { EChart, INK, MUTED } from "@/components/charts/echart";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
-import { CLUSTER_COLOURS, CLUSTER_LABELS, CLUSTER_SHORT, fmt, fmtP, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
+import { fmt, fmtP, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
+import { CLUSTER_CLASS_COLOURS, CLUSTER_CLASS_NAMES, CLUSTER_CLASS_ORDER, clusterClassLegendSentence } from "@/lib/runs/cluster-classes";
 import { compareQuery, geometryQuery, mapQuery } from "@/components/runs/query-options";
 import { LocalInferenceNote } from "@/components/runs/reachability-note";
 import type { ClusterClass, IndependenceTest } from "@/lib/spatial";
 import type { MapPeriod } from "@/lib/runs/on-demand";
 import { escapeHtml } from "@/lib/security/html";
 import { periodPair } from "@/lib/runs/period-order";
+import { formatTick, formatValue } from "@/lib/runs/number-format";
 import { RunPicker } from "@/components/runs/run-picker";
 import { RegionMap, useRegionFeatures } from "./region-map";
 
-const CLASSES: ClusterClass[] = ["HH", "LL", "HL", "LH", "not-significant", "no-neighbours"];
+const CLASSES = CLUSTER_CLASS_ORDER;
 
 export function MapScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
   const { params, setParams: set, indicator, timeline, periods, runId } = useIndicatorTimeline(slug, indicators);
@@ -96,7 +98,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                 <RegionMap
                   features={features}
                   coordinates={geometry.data.coordinates}
-                  fill={(id) => CLUSTER_COLOURS[clusterOf(m, id) ?? "not-significant"]}
+                  fill={(id) => CLUSTER_CLASS_COLOURS[clusterOf(m, id) ?? "not-significant"]}
                   hatched={(id) => {
                     const c = clusterOf(m, id);
                     return c === "no-neighbours" || c === null;
@@ -160,7 +162,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
           </div>
           <div className="grid gap-6 lg:grid-cols-2">
             {[mapA.data.map, mapB.data.map].map((m, k) => (
-              <ScatterPanel key={`scatter-${k}`} map={m} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} />
+              <ScatterPanel key={`scatter-${k}`} map={m} unit={unit} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} />
             ))}
           </div>
         </>
@@ -178,7 +180,7 @@ function clusterOf(m: MapPeriod, id: string): ClusterClass | null {
 function clusterCaption(m: MapPeriod): string {
   if (!m.local) return m.note ?? "No local results were stored for this period.";
   const corr = m.local.correction === "fdr" ? "false discovery rate" : m.local.correction === "bonferroni" ? "Bonferroni" : "no";
-  return `Local Moran's I per region with conditional permutation pseudo p (two-sided) and ${corr} correction across regions at α = ${m.local.alpha}. High–High: a high value among high neighbours; Low–Low likewise; High–Low and Low–High are outliers. Hatched: no neighbour with a value, or left out.`;
+  return `Local Moran's I per region with conditional permutation pseudo p (two-sided) and ${corr} correction across regions at α = ${m.local.alpha}. ${clusterClassLegendSentence()} (hatched).`;
 }
 
 function PeriodBadge({ map }: { map: MapPeriod }) {
@@ -198,8 +200,8 @@ function ClusterLegend({ map }: { map: MapPeriod }) {
     <ul className="mt-3 flex flex-wrap gap-x-4 gap-y-1 text-xs text-ink-600">
       {CLASSES.map((c) => (
         <li key={c} className="flex items-center gap-1.5">
-          <span className={`inline-block h-3 w-3 rounded-sm ring-1 ring-black/10 ${c === "no-neighbours" ? "hatch-no-neighbours" : ""}`} style={c === "no-neighbours" ? undefined : { background: CLUSTER_COLOURS[c] }} />
-          {CLUSTER_LABELS[c]} <span className="tabular-nums text-ink-400">{counts ? counts[c] : 0}</span>
+          <span className={`inline-block h-3 w-3 rounded-sm ring-1 ring-black/10 ${c === "no-neighbours" ? "hatch-no-neighbours" : ""}`} style={c === "no-neighbours" ? undefined : { background: CLUSTER_CLASS_COLOURS[c] }} />
+          {CLUSTER_CLASS_NAMES[c]} <span className="tabular-nums text-ink-400">{counts ? counts[c] : 0}</span>
         </li>
       ))}
     </ul>
@@ -211,10 +213,9 @@ function ScaleLegend({ domain, unit }: { domain: [number, number]; unit: string 
   return (
     <div className="mt-3">
       <div className="h-2.5 w-full rounded-sm" style={{ background: `linear-gradient(to right, ${stops.join(",")})` }} />
-      <div className="mt-1 flex justify-between text-xs tabular-nums text-ink-500">
-        <span>{fmt(domain[0], 1)}</span>
-        <span>{unit}</span>
-        <span>{fmt(domain[1], 1)}</span>
+      <div className="mt-1 flex justify-between text-xs tabular-nums text-ink-500" data-testid="scale-legend">
+        <span>{formatValue(domain[0], { unit })}</span>
+        <span>{formatValue(domain[1], { unit })}</span>
       </div>
     </div>
   );
@@ -252,13 +253,13 @@ function RegionDetail({ id, names, a, b, unit }: { id: string | null; names: Rec
         <tbody className="divide-y divide-ink-50">
           <tr>
             <td className="py-1.5 text-ink-500">Value{unit ? ` (${unit})` : ""}</td>
-            <td className="py-1.5 text-right tabular-nums">{fmt(ra.value, 2)}</td>
-            <td className="py-1.5 text-right tabular-nums">{fmt(rb.value, 2)}</td>
+            <td className="py-1.5 text-right tabular-nums">{formatValue(ra.value)}</td>
+            <td className="py-1.5 text-right tabular-nums">{formatValue(rb.value)}</td>
           </tr>
           <tr>
             <td className="py-1.5 text-ink-500">Cluster class</td>
-            <td className="py-1.5 text-right">{ra.cluster ? CLUSTER_SHORT[ra.cluster] : "—"}</td>
-            <td className="py-1.5 text-right">{rb.cluster ? CLUSTER_SHORT[rb.cluster] : "—"}</td>
+            <td className="py-1.5 text-right">{ra.cluster ? CLUSTER_CLASS_NAMES[ra.cluster] : "—"}</td>
+            <td className="py-1.5 text-right">{rb.cluster ? CLUSTER_CLASS_NAMES[rb.cluster] : "—"}</td>
           </tr>
           <tr>
             <td className="py-1.5 text-ink-500">Local I</td>
@@ -288,7 +289,7 @@ function TransitionTable({ counts, moved, independence, a, b }: { counts: number
             </th>
             {CLASSES.map((c) => (
               <th key={c} className="px-1 py-1 text-right font-medium">
-                {CLUSTER_SHORT[c]}
+                {CLUSTER_CLASS_NAMES[c]}
               </th>
             ))}
           </tr>
@@ -296,7 +297,7 @@ function TransitionTable({ counts, moved, independence, a, b }: { counts: number
         <tbody>
           {CLASSES.map((from, i) => (
             <tr key={from}>
-              <th className="py-1 pr-2 text-left text-xs font-medium text-ink-500">{CLUSTER_SHORT[from]}</th>
+              <th className="py-1 pr-2 text-left text-xs font-medium text-ink-500">{CLUSTER_CLASS_NAMES[from]}</th>
               {CLASSES.map((to, j) => {
                 const v = counts[i]?.[j] ?? 0;
                 return (
@@ -333,7 +334,7 @@ function TransitionTable({ counts, moved, independence, a, b }: { counts: number
   );
 }
 
-function ScatterPanel({ map, active, onSelect, testId }: { map: MapPeriod; active: string | null; onSelect: (id: string) => void; testId: string }) {
+function ScatterPanel({ map, unit, active, onSelect, testId }: { map: MapPeriod; unit: string; active: string | null; onSelect: (id: string) => void; testId: string }) {
   const local = map.local;
   if (!local) {
     return (
@@ -348,7 +349,7 @@ function ScatterPanel({ map, active, onSelect, testId }: { map: MapPeriod; activ
     value: [xs[i], local.lag[i]],
     name: id,
     itemStyle: {
-      color: CLUSTER_COLOURS[local.cluster[i]],
+      color: CLUSTER_CLASS_COLOURS[local.cluster[i]],
       borderColor: id === active ? INK : "rgba(30,42,68,0.35)",
       borderWidth: id === active ? 2.5 : 0.5,
     },
@@ -357,9 +358,16 @@ function ScatterPanel({ map, active, onSelect, testId }: { map: MapPeriod; activ
   const option: EChartsOption = {
     grid: { left: 60, right: 20, top: 20, bottom: 50 },
     // ECharts inserts a formatter's string as HTML; region codes come from uploaded files.
-    tooltip: { trigger: "item", formatter: (p) => (Array.isArray(p) ? "" : escapeHtml(String(p.name ?? ""))) },
-    xAxis: { type: "value", min: -extent, max: extent, name: "Standardised value z (sd units)", nameLocation: "middle", nameGap: 30, axisLabel: { color: INK }, splitLine: { show: false } },
-    yAxis: { type: "value", min: -extent, max: extent, name: "Spatial lag of z (sd units)", nameLocation: "middle", nameGap: 40, axisLabel: { color: INK }, splitLine: { show: false } },
+    tooltip: {
+      trigger: "item",
+      formatter: (p) => {
+        if (Array.isArray(p)) return "";
+        const i = local.ids.indexOf(String(p.name ?? ""));
+        return escapeHtml(i < 0 ? String(p.name ?? "") : `${local.ids[i]} · ${CLUSTER_CLASS_NAMES[local.cluster[i]]} · ${formatValue(map.values[local.ids[i]], { unit })}`);
+      },
+    },
+    xAxis: { type: "value", min: -extent, max: extent, name: "Standardised value z (sd units)", nameLocation: "middle", nameGap: 30, axisLabel: { color: INK, formatter: formatTick }, splitLine: { show: false } },
+    yAxis: { type: "value", min: -extent, max: extent, name: "Spatial lag of z (sd units)", nameLocation: "middle", nameGap: 40, axisLabel: { color: INK, formatter: formatTick }, splitLine: { show: false } },
     series: [
       {
         type: "scatter",

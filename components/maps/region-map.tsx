@@ -6,6 +6,7 @@ import { feature } from "topojson-client";
 import type { Feature, FeatureCollection, Geometry } from "geojson";
 import type { GeometryCollection, Topology } from "topojson-specification";
 import type { MapGeometry } from "@/lib/runs/on-demand";
+import { NO_NEIGHBOURS_HATCH } from "@/lib/runs/cluster-classes";
 
 export type RegionFeature = Feature<Geometry, Record<string, unknown>> & { regionId: string };
 
@@ -60,8 +61,8 @@ export function RegionMap({
     <svg viewBox={`0 0 ${WIDTH} ${HEIGHT}`} role="img" aria-label={label} className="h-auto w-full" data-testid={testId} onMouseLeave={() => onHover(null)}>
       <defs>
         <pattern id="tessera-hatch" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)">
-          <rect width="6" height="6" fill="#e7e5e4" />
-          <line x1="0" y1="0" x2="0" y2="6" stroke="#a8a29e" strokeWidth="2" />
+          <rect width="6" height="6" fill={NO_NEIGHBOURS_HATCH.background} />
+          <line x1="0" y1="0" x2="0" y2="6" stroke={NO_NEIGHBOURS_HATCH.stroke} strokeWidth="2" />
         </pattern>
       </defs>
       {paths.map((p) => (

@@ -1,4 +1,3 @@
-import type { ClusterClass } from "@/lib/spatial";
 import type { SignificanceClass } from "@/lib/runs/types";
 
 // Shared formatting and small visual pieces of the analyses screens.
@@ -20,32 +19,8 @@ export function fmtSigned(value: number | null | undefined, digits = 3): string 
   return `${value > 0 ? "+" : value < 0 ? "−" : "±"}${Math.abs(value).toFixed(digits)}`;
 }
 
-export const CLUSTER_COLOURS: Record<ClusterClass, string> = {
-  HH: "#9a3412",
-  LL: "#115e59",
-  HL: "#fdba74",
-  LH: "#5eead4",
-  "not-significant": "#e7e5e4",
-  "no-neighbours": "#d6d3d1",
-};
-
-export const CLUSTER_LABELS: Record<ClusterClass, string> = {
-  HH: "High among high",
-  LL: "Low among low",
-  HL: "High among low",
-  LH: "Low among high",
-  "not-significant": "Not significant",
-  "no-neighbours": "No neighbours",
-};
-
-export const CLUSTER_SHORT: Record<ClusterClass, string> = {
-  HH: "High–High",
-  LL: "Low–Low",
-  HL: "High–Low",
-  LH: "Low–High",
-  "not-significant": "n.s.",
-  "no-neighbours": "No neighbours",
-};
+// Local cluster classes are named and coloured in one place only.
+export { CLUSTER_CLASS_COLOURS, CLUSTER_CLASS_NAMES, CLUSTER_CLASS_ORDER } from "@/lib/runs/cluster-classes";
 
 const BADGE: Record<SignificanceClass, string> = {
   clustering: "bg-[#9a3412]/10 text-[#7c2d12] ring-[#9a3412]/30",

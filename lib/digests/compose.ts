@@ -8,17 +8,13 @@
  */
 import type { SignificanceClass } from "@/lib/runs/types";
 import type { DigestScope, DigestThreshold } from "@/models/digest-types";
+import { CLUSTER_CLASS_NAMES, SIGNIFICANT_CLUSTER_CLASSES, type SignificantClusterClass } from "@/lib/runs/cluster-classes";
 
-/** The local cluster classes that count as a significant local cluster. */
-export const LOCAL_CLUSTER_CLASSES = ["HH", "LL", "HL", "LH"] as const;
-export type LocalClusterClass = (typeof LOCAL_CLUSTER_CLASSES)[number];
+/** The local cluster classes that count as a significant local cluster, named as on the map (lib/runs/cluster-classes). */
+export const LOCAL_CLUSTER_CLASSES = SIGNIFICANT_CLUSTER_CLASSES;
+export type LocalClusterClass = SignificantClusterClass;
 
-export const LOCAL_CLUSTER_LABELS: Record<LocalClusterClass, string> = {
-  HH: "High-High",
-  LL: "Low-Low",
-  HL: "High-Low",
-  LH: "Low-High",
-};
+export const LOCAL_CLUSTER_LABELS: Readonly<Record<LocalClusterClass, string>> = CLUSTER_CLASS_NAMES;
 
 /** One indicator × period of a run, reduced to what a digest compares. */
 export interface DigestResultRow {

@@ -12,12 +12,14 @@ import {
   moranOfChange,
   pairedMoranChangeTest,
   prepareAnalysis,
+  regionCentroids,
   transitionTable,
   type ClusterClass,
   type IndependenceTest,
   type RegionValues,
 } from "@/lib/spatial";
 import { buildRunGeometry, messageOf, statisticSeed, type RunGeometry, type TopologyLayout } from "./compute";
+import { distanceMeasureOf, ruleMeasuresDistance, type DistanceMeasure } from "./distances";
 import type { ResolvedRunParams } from "./schemas";
 import type { LocalFields } from "./types";
 
@@ -170,6 +172,12 @@ export const ROBUSTNESS_RULES = ["queen", "rook", "knn:4", "knn:6", "knn:8", "ba
 
 export interface RobustnessEntry {
   rule: string;
+  /**
+   * How the rule measured distances between region centroids: great-circle
+   * on the sphere for longitude/latitude boundaries, planar in the file's
+   * units for projected ones; null for contiguity rules, which measure none.
+   */
+  distances: DistanceMeasure | null;
   n: number | null;
   meanNeighbours: number | null;
   I: number | null;
@@ -185,7 +193,15 @@ export interface RobustnessEntry {
  * with the run's transform, island policy, permutations and seed.
  */
 export function robustnessStrip(topology: Topology, layout: TopologyLayout, params: CompareParams, values: RegionValues): RobustnessEntry[] {
+  let system: DistanceMeasure | null = null;
+  try {
+    // Detected as weightsFromTopology detects it for knn and band weights (bounding box of the decoded coordinates).
+    system = distanceMeasureOf(regionCentroids(topology, { object: layout.object, idProperty: layout.idProperty }).coordinates);
+  } catch {
+    // A rule that needs centroids reports its own error below.
+  }
   return ROBUSTNESS_RULES.map((rule) => {
+    const distances = ruleMeasuresDistance(rule) ? system : null;
     try {
       const geometry = buildRunGeometry(topology, layout, { weights: rule, islandPolicy: params.islandPolicy });
       const prepared = prepareAnalysis(geometry.baseWeights, values, { islandPolicy: params.islandPolicy, transform: params.transform, points: geometry.points });
@@ -195,6 +211,7 @@ export function robustnessStrip(topology: Topology, layout: TopologyLayout, para
       });
       return {
         rule,
+        distances,
         n: result.n,
         meanNeighbours: prepared.weights.neighbours.length / Math.max(1, prepared.ids.length),
         I: result.I,
@@ -205,7 +222,7 @@ export function robustnessStrip(topology: Topology, layout: TopologyLayout, para
         note: prepared.report.islands.length ? `${prepared.report.islands.length} region(s) without neighbours (policy "${params.islandPolicy}").` : null,
       };
     } catch (error) {
-      return { rule, n: null, meanNeighbours: null, I: null, expectedI: null, pseudoP: null, bandLow: null, bandHigh: null, note: messageOf(error) };
+      return { rule, distances, n: null, meanNeighbours: null, I: null, expectedI: null, pseudoP: null, bandLow: null, bandHigh: null, note: messageOf(error) };
     }
   });
 }
