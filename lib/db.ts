@@ -67,6 +67,7 @@ function connectionUsable(connection: unknown): boolean {
 const NETWORK_CODES = new Set(["ECONNREFUSED", "ECONNRESET", "ETIMEDOUT", "EHOSTUNREACH", "ENETUNREACH", "ENOTFOUND", "EAI_AGAIN", "EPIPE"]);
 const OUTAGE_SQLSTATE = /^(08[0-9A-Z]{3}|57P0[123])$/;
 const OUTAGE_ERROR_NAMES = new Set([
+  "TesseraDatabaseUnavailableError",
   "SequelizeConnectionRefusedError",
   "SequelizeConnectionTimedOutError",
   "SequelizeConnectionAcquireTimeoutError",
@@ -96,6 +97,14 @@ export function isDatabaseUnavailable(error: unknown): boolean {
     if (Array.isArray(o.errors)) stack.push(...o.errors);
   }
   return false;
+}
+
+/**
+ * An outage met where the driver's own error cannot travel on, e.g. through
+ * next-auth's session callback, whose errors next-auth swallows.
+ */
+export class DatabaseUnavailableError extends Error {
+  override name = "TesseraDatabaseUnavailableError";
 }
 
 /** Stamps the outage digest on `error` when it is an outage (see lib/service-unavailable.ts), and returns it. */

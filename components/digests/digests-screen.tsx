@@ -30,7 +30,7 @@ function covers(d: DeliveryView): string {
   const period = d.idempotencyKey.slice(d.idempotencyKey.indexOf(":") + 1);
   const occasion = period.startsWith("manual-") ? "on request" : period.startsWith("run-") ? "after a run" : period;
   const run = d.coveredRunId ?? d.runId;
-  return run ? `${occasion} · run ${run}` : occasion;
+  return d.runLabel ? `${occasion} · ${d.runLabel}` : run ? `${occasion} · run id ${run}` : occasion;
 }
 
 const STATUS_LABELS: Record<DeliveryView["status"], string> = { queued: "queued", sending: "sending", sent: "sent", skipped: "skipped", failed: "failed" };

@@ -4,6 +4,8 @@ import "next-auth/jwt";
 declare module "next-auth" {
   interface Session {
     user?: { id?: number; name?: string | null; email?: string | null; image?: string | null };
+    /** The database did not answer when the session's version was checked (lib/auth/options.ts). */
+    outage?: boolean;
   }
   interface User {
     /** users.session_version at sign-in (lib/auth/session-version.ts). */

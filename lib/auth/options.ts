@@ -1,6 +1,7 @@
 import type { NextAuthOptions } from "next-auth";
 import CredentialsProvider from "next-auth/providers/credentials";
 import { env } from "@/lib/config/env";
+import { isDatabaseUnavailable } from "@/lib/db";
 import { isHttpsUrl, sessionCookie } from "@/lib/security/cookies";
 import { safeCallbackPath } from "./callback";
 import { verifySignIn } from "./credentials";
@@ -73,8 +74,19 @@ export function buildAuthOptions(appUrl: string): NextAuthOptions {
       // whose version is no longer the user's is answered as no session.
       async session({ session, token }) {
         const uid = token.uid;
-        const valid = typeof uid === "number" && typeof token.sv === "number" && (await currentSessionVersion(uid)) === token.sv;
-        if (!valid) return { expires: session.expires };
+        if (typeof uid !== "number" || typeof token.sv !== "number") return { expires: session.expires };
+        let current: number | null;
+        try {
+          current = await currentSessionVersion(uid);
+        } catch (error) {
+          // next-auth would log a thrown error, answer "no session" and clear
+          // the cookie: a database restart would sign everyone out and turn
+          // every API answer into a 401. Say "not known now" instead;
+          // getSessionUser turns it into the outage (503 / outage screen).
+          if (isDatabaseUnavailable(error)) return { expires: session.expires, outage: true };
+          throw error;
+        }
+        if (current !== token.sv) return { expires: session.expires };
         if (session.user) session.user.id = uid;
         return session;
       },

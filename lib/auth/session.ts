@@ -1,4 +1,5 @@
 import { getServerSession } from "next-auth";
+import { DatabaseUnavailableError, markIfDatabaseUnavailable } from "@/lib/db";
 import { authOptions } from "./options";
 
 export type SessionUser = { id: number; email: string; name: string };
@@ -12,6 +13,7 @@ export type SessionUser = { id: number; email: string; name: string };
  */
 export async function getSessionUser(): Promise<SessionUser | null> {
   const session = await getServerSession(authOptions);
+  if (session?.outage) throw markIfDatabaseUnavailable(new DatabaseUnavailableError("The database did not answer while the session was checked."));
   const user = session?.user;
   if (!user || typeof user.id !== "number") return null;
   return { id: user.id, email: user.email ?? "", name: user.name ?? "" };

@@ -1,6 +1,7 @@
 import { QueryTypes } from "sequelize";
 import { db } from "@/lib/db";
 import { indicatorVisibleSql, type IndicatorVisibility } from "@/lib/intake/queries";
+import { runLabel } from "@/lib/runs/label";
 import type { SignificanceClass } from "@/lib/runs/types";
 import type { DigestCadence, DigestDeliveryStatus, DigestEmptyPolicy, DigestScope, DigestThreshold } from "@/models/digest-types";
 import { LOCAL_CLUSTER_CLASSES, type DigestResultRow } from "./compose";
@@ -119,6 +120,8 @@ export interface DeliveryView {
   skippedReason: string | null;
   /** The run whose results it reported. */
   coveredRunId: number | null;
+  /** That run (else the run that occasioned it) as the screens name it (lib/runs/label). */
+  runLabel: string | null;
   sentAt: string | null;
   createdAt: string;
   summary: Record<string, unknown> | null;
@@ -138,7 +141,19 @@ export async function deliveryHistory(subscriptionId: number, limit = 50): Promi
     sent_at: Date | null;
     created_at: Date;
     summary: Record<string, unknown> | null;
-  }>("SELECT * FROM digest_deliveries WHERE subscription_id = $1 ORDER BY created_at DESC, id DESC LIMIT $2", { bind: [subscriptionId, limit], type: QueryTypes.SELECT });
+    run_number: number | null;
+    run_params: Record<string, unknown> | null;
+    panel_name: string | null;
+    panel_version: number | null;
+  }>(
+    `SELECT d.*, r.number AS run_number, r.params AS run_params, p.name AS panel_name, pv.version AS panel_version
+       FROM digest_deliveries d
+       LEFT JOIN runs r ON r.id = COALESCE(d.covered_run_id, d.run_id)
+       LEFT JOIN panel_versions pv ON pv.id = r.panel_version_id
+       LEFT JOIN panels p ON p.id = pv.panel_id
+      WHERE d.subscription_id = $1 ORDER BY d.created_at DESC, d.id DESC LIMIT $2`,
+    { bind: [subscriptionId, limit], type: QueryTypes.SELECT },
+  );
   return rows.map((r) => ({
     id: Number(r.id),
     idempotencyKey: r.idempotency_key,
@@ -149,6 +164,10 @@ export async function deliveryHistory(subscriptionId: number, limit = 50): Promi
     error: r.error,
     skippedReason: r.skipped_reason,
     coveredRunId: r.covered_run_id === null ? null : Number(r.covered_run_id),
+    runLabel:
+      r.run_number === null || r.run_params === null || r.panel_name === null
+        ? null
+        : runLabel({ number: Number(r.run_number), panelName: r.panel_name, panelVersion: Number(r.panel_version), params: labelParams(r.run_params) }),
     sentAt: iso(r.sent_at),
     createdAt: new Date(r.created_at).toISOString(),
     summary: r.summary,
@@ -157,6 +176,9 @@ export async function deliveryHistory(subscriptionId: number, limit = 50): Promi
 
 export interface RunRef {
   id: number;
+  /** Per-workspace number, and the run's label as every screen shows it (lib/runs/label). */
+  number: number;
+  label: string;
   workspaceId: number;
   panelVersionId: number;
   boundaryVersionId: number;
@@ -165,17 +187,39 @@ export interface RunRef {
   params: Record<string, unknown>;
 }
 
-type RunRow = { id: number; workspace_id: number; panel_version_id: number; boundary_version_id: number; panel_id: number; params: Record<string, unknown> };
+type RunRow = {
+  id: number;
+  number: number;
+  workspace_id: number;
+  panel_version_id: number;
+  boundary_version_id: number;
+  panel_id: number;
+  panel_name: string;
+  panel_version: number;
+  params: Record<string, unknown>;
+};
+/** The label's parameters out of stored run params (JSON). */
+function labelParams(params: Record<string, unknown>) {
+  return { weights: String(params.weights ?? ""), transform: String(params.transform ?? ""), permutations: Number(params.permutations ?? 0) };
+}
+
 const toRun = (r: RunRow): RunRef => ({
   id: Number(r.id),
+  number: Number(r.number),
+  label: runLabel({
+    number: Number(r.number),
+    panelName: r.panel_name,
+    panelVersion: Number(r.panel_version),
+    params: labelParams(r.params),
+  }),
   workspaceId: Number(r.workspace_id),
   panelVersionId: Number(r.panel_version_id),
   boundaryVersionId: Number(r.boundary_version_id),
   panelId: Number(r.panel_id),
   params: r.params,
 });
-const RUN_REF_SELECT = `SELECT r.id, r.workspace_id, r.panel_version_id, r.boundary_version_id, pv.panel_id, r.params
-  FROM runs r JOIN panel_versions pv ON pv.id = r.panel_version_id`;
+const RUN_REF_SELECT = `SELECT r.id, r.number, r.workspace_id, r.panel_version_id, r.boundary_version_id, pv.panel_id, p.name AS panel_name, pv.version AS panel_version, r.params
+  FROM runs r JOIN panel_versions pv ON pv.id = r.panel_version_id JOIN panels p ON p.id = pv.panel_id`;
 
 /** A completed run of the workspace (never one from another workspace), or null. */
 export async function completedRun(workspaceId: number, runId: number): Promise<RunRef | null> {
@@ -201,11 +245,13 @@ export async function latestCompletedRun(workspaceId: number): Promise<RunRef | 
  */
 export async function deliveredRuns(subscriptionId: number, workspaceId: number, limit = 200): Promise<RunRef[]> {
   const rows = await db().query<RunRow>(
-    `SELECT id, workspace_id, panel_version_id, boundary_version_id, panel_id, params FROM (
-        SELECT DISTINCT ON (r.id) r.id, r.workspace_id, r.panel_version_id, r.boundary_version_id, pv.panel_id, r.params, d.sent_at, d.id AS delivery_id
+    `SELECT id, number, workspace_id, panel_version_id, boundary_version_id, panel_id, panel_name, panel_version, params FROM (
+        SELECT DISTINCT ON (r.id) r.id, r.number, r.workspace_id, r.panel_version_id, r.boundary_version_id, pv.panel_id, p.name AS panel_name, pv.version AS panel_version,
+               r.params, d.sent_at, d.id AS delivery_id
           FROM digest_deliveries d
           JOIN runs r ON r.id = d.covered_run_id AND r.workspace_id = $2 AND r.state = 'completed'
           JOIN panel_versions pv ON pv.id = r.panel_version_id
+          JOIN panels p ON p.id = pv.panel_id
          WHERE d.subscription_id = $1 AND d.status = 'sent'
          ORDER BY r.id, d.sent_at DESC NULLS LAST, d.id DESC
       ) x ORDER BY sent_at DESC NULLS LAST, delivery_id DESC LIMIT $3`,

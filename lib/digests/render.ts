@@ -24,6 +24,10 @@ export interface DigestRenderInput {
   /** What the digest covers, e.g. "run 12" or "week 2026-W49". */
   readonly coverage: string;
   readonly runId: number | null;
+  /** The run as the screens name it (lib/runs/label runLabel); without it, "run <id>". */
+  readonly runLabel?: string | null;
+  /** The same for the run the previous digest reported. */
+  readonly baselineRunLabel?: string | null;
   /** How the run was computed, in one line (lib/runs/comparability describeMethod); null without a run. */
   readonly runMethod?: string | null;
   readonly indicatorLabels: ReadonlyMap<string, string>;
@@ -57,7 +61,8 @@ export function renderDigest(input: DigestRenderInput): RenderedDigest {
   const deskUrl = `${base}/w/${encodeURIComponent(workspace.slug)}/desk`;
 
   const comparable = content.baseline.kind === "previous-digest";
-  const runName = input.runId !== null ? `run ${input.runId}` : "the latest run";
+  const runName = input.runId !== null ? (input.runLabel ?? `run ${input.runId}`) : "the latest run";
+  const baselineName = content.baseline.kind === "first" ? "" : (input.baselineRunLabel ?? `run ${content.baseline.runId}`);
   const subject = content.baseline.kind === "method-changed"
     ? `Tessera digest · ${workspace.name}: method changed, no comparison (${input.coverage})`
     : content.empty
@@ -71,9 +76,9 @@ export function renderDigest(input: DigestRenderInput): RenderedDigest {
     input.runId === null
       ? "There is no completed run in this workspace yet, so there is nothing to report."
       : content.baseline.kind === "previous-digest"
-        ? `Compared with run ${content.baseline.runId}, which your previous digest reported (same panel, same method).`
+        ? `Compared with ${baselineName}, which your previous digest reported (same panel, same method).`
         : content.baseline.kind === "method-changed"
-          ? `Method changed since your previous digest (run ${content.baseline.runId}): ${content.baseline.sentence}. Below is where ${runName} stands on its own.`
+          ? `Method changed since your previous digest (${baselineName}): ${content.baseline.sentence}. Below is where ${runName} stands on its own.`
           : `Your first digest of these results: there is no previous digest to compare with, so this shows where ${runName} stands.`;
   const emptyText = comparable
     ? "Nothing changed in the indicators you follow since your previous digest."

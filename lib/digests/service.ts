@@ -13,6 +13,7 @@ import { db } from "@/lib/db";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { sendMail } from "@/lib/mail/send";
 import { describeMethod, selectBaseline } from "@/lib/runs/comparability";
+import { runName } from "@/lib/runs/label";
 import type { DigestCadence } from "@/models/digest-types";
 import { renderIndicatorChart, stableSvgIds } from "./chart";
 import { composeDigest, summariseDigest, type DigestComparison, type DigestContent } from "./compose";
@@ -56,6 +57,8 @@ export interface BuiltDigest {
   workspace: { id: number; slug: string; name: string };
   current: RunRef | null;
   previousRunId: number | null;
+  /** The previous digest's run as the screens name it (null for a first digest). */
+  previousRunLabel: string | null;
   content: DigestContent;
   rendered: RenderedDigest;
   unsubscribeUrl: string;
@@ -96,14 +99,17 @@ export async function buildDigest(subscription: SubscriptionView, options: { run
   const current = options.runId ? await completedRun(workspaceId, options.runId) : await latestCompletedRun(workspaceId);
   const currentRows = current ? await digestRows(current.id) : [];
   let comparison: DigestComparison = { kind: "first" };
+  let previousRunLabel: string | null = null;
   if (current) {
     const baseline = selectBaseline(current, await deliveredRuns(subscription.id, workspaceId));
     if (baseline.kind === "comparable") {
       // The same run as last time: nothing is new.
       const rows = baseline.run.id === current.id ? currentRows : await digestRows(baseline.run.id);
       comparison = { kind: "previous-digest", runId: baseline.run.id, rows };
+      previousRunLabel = baseline.run.label;
     } else if (baseline.kind === "method-changed") {
       comparison = { kind: "method-changed", runId: baseline.run.id, sentence: baseline.sentence };
+      previousRunLabel = baseline.run.label;
     }
   }
   const names = current ? await regionNames(current.boundaryVersionId) : new Map<string, string>();
@@ -118,8 +124,10 @@ export async function buildDigest(subscription: SubscriptionView, options: { run
     content,
     workspace: access.workspace,
     recipientName: access.recipient.name,
-    coverage: options.coverage ?? (current ? `results of run ${current.id}` : "no completed run yet"),
+    coverage: options.coverage ?? (current ? `results of ${current.label}` : "no completed run yet"),
     runId: current?.id ?? null,
+    runLabel: current?.label ?? null,
+    baselineRunLabel: previousRunLabel,
     runMethod: current ? describeMethod(current) : null,
     indicatorLabels: labels,
     charts,
@@ -127,7 +135,7 @@ export async function buildDigest(subscription: SubscriptionView, options: { run
     unsubscribeUrl: link,
   });
   const previousRunId = content.baseline.kind === "first" ? null : content.baseline.runId;
-  return { subscription, ...access, current, previousRunId, content, rendered, unsubscribeUrl: link };
+  return { subscription, ...access, current, previousRunId, previousRunLabel, content, rendered, unsubscribeUrl: link };
 }
 
 /** Whether a prepared digest goes out, and if not, the sentence that says why (recorded and shown). */
@@ -152,9 +160,9 @@ export function decideDigest(subscription: SubscriptionView | null, built: Built
         ? "There is no completed run in this workspace yet"
         : built.content.baseline.kind === "previous-digest"
           ? built.content.baseline.runId === built.current.id
-            ? `Your previous digest already reported run ${built.current.id}, so nothing is new`
-            : `Nothing changed in the indicators you follow between run ${built.content.baseline.runId} (your previous digest) and run ${built.current.id}`
-          : `Nothing in the indicators you follow is significant or moved between periods in run ${built.current.id}`;
+            ? `Your previous digest already reported ${built.current.label}, so nothing is new`
+            : `Nothing changed in the indicators you follow between ${built.previousRunLabel ?? `run ${built.content.baseline.runId}`} (your previous digest) and ${built.current.label}`
+          : `Nothing in the indicators you follow is significant or moved between periods in ${built.current.label}`;
     return { send: false, reason: `${why}, and you chose to receive nothing when nothing changed.` };
   }
   return { send: true, to: built.recipient.email };
@@ -343,7 +351,9 @@ export async function digestJobsForRun(runId: number): Promise<DigestSendPayload
   const rows = await db().query<{ workspace_id: number }>("SELECT workspace_id FROM runs WHERE id = $1 AND state = 'completed'", { bind: [runId], type: QueryTypes.SELECT });
   if (!rows[0]) return [];
   const subscriptions = await activeSubscriptions(Number(rows[0].workspace_id), "after_run");
-  return subscriptions.map((s) => ({ subscriptionId: s.id, idempotencyKey: `sub-${s.id}:run-${runId}`, runId, coverage: `results of run ${runId}` }));
+  const [run] = await db().query<{ number: number }>("SELECT number FROM runs WHERE id = $1", { bind: [runId], type: QueryTypes.SELECT });
+  // Named by the workspace's run number, as on every screen; the full label is in the digest itself.
+  return subscriptions.map((s) => ({ subscriptionId: s.id, idempotencyKey: `sub-${s.id}:run-${runId}`, runId, coverage: `results of ${runName(run?.number ?? runId)}` }));
 }
 
 /**

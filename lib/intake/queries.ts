@@ -318,9 +318,13 @@ function coordinatesOf(topology: Topology): "planar" | "lonlat" {
   let bbox = topology.bbox as number[] | undefined;
   if (!bbox || bbox.length < 4) {
     let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-    for (const arc of topology.arcs) {
+    // A rejected upload's stored file may be GeoJSON or broken TopoJSON: no arcs, no extent.
+    for (const arc of Array.isArray(topology.arcs) ? topology.arcs : []) {
+      if (!Array.isArray(arc)) continue;
       let x = 0, y = 0;
-      for (const [px, py] of arc) {
+      for (const point of arc) {
+        if (!Array.isArray(point)) continue;
+        const [px, py] = point as number[];
         if (topology.transform) {
           x += px;
           y += py;

@@ -10,6 +10,7 @@ import { GET as getUnsubscribe, POST as postUnsubscribe } from "@/app/api/digest
 import { getSessionUser, type SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { getOwnSubscription } from "@/lib/digests/queries";
+import { runLabelOf } from "./run-label-of";
 import { deliverDigest, type MailSender } from "@/lib/digests/service";
 import { signUnsubscribeToken } from "@/lib/digests/token";
 import { enqueue } from "@/lib/jobs/enqueue";
@@ -149,7 +150,9 @@ describe("a completed run produces digests", () => {
     expect(await waitForRun(firstRun)).toBe("completed");
 
     const readerMail = await waitForMailTo(users.reader.email, { since: started, subjectContains: "Tessera digest", timeoutMs: 60_000 });
-    expect(readerMail.subject).toContain(`results of run ${firstRun}`);
+    expect(readerMail.subject).toContain(`results of ${(await runLabelOf(firstRun)).name})`);
+    // The text names the run as the screens do: number, panel version, weights, permutations.
+    expect(readerMail.text).toContain((await runLabelOf(firstRun)).label);
     expect(readerMail.text).toContain(UNEMPLOYMENT);
     expect(readerMail.text).toContain(BROADBAND);
     expect(readerMail.text).toContain("Significance is not causation");
@@ -251,8 +254,9 @@ describe("unsubscribing", () => {
     expect(response.status).toBe(201);
     const rerun = ((await response.json()) as { runId: number }).runId;
     expect(await waitForRun(rerun)).toBe("completed");
+    const rerunLabel = await runLabelOf(rerun);
 
-    const nothing = await waitForMailTo(users.analyst.email, { since: started, subjectContains: `nothing changed (results of run ${rerun})`, timeoutMs: 60_000 });
+    const nothing = await waitForMailTo(users.analyst.email, { since: started, subjectContains: `nothing changed (results of ${rerunLabel.name})`, timeoutMs: 60_000 });
     expect(nothing.text).toContain("Nothing changed in the indicators you follow");
     const bossSub = await getOwnSubscription(workspaceId, users.boss.id);
     const bossRows = await waitFor("the manager's skipped delivery", async () => {
@@ -262,9 +266,9 @@ describe("unsubscribing", () => {
     expect(bossRows.find((r) => r.run_id === rerun)).toMatchObject({
       status: "skipped",
       error: null,
-      skipped_reason: `Nothing changed in the indicators you follow between run ${firstRun} (your previous digest) and run ${rerun}, and you chose to receive nothing when nothing changed.`,
+      skipped_reason: `Nothing changed in the indicators you follow between ${(await runLabelOf(firstRun)).label} (your previous digest) and ${rerunLabel.label}, and you chose to receive nothing when nothing changed.`,
     });
-    expect((await mailsTo(users.boss.email)).filter((m) => m.subject.includes(`run ${rerun}`))).toEqual([]);
+    expect((await mailsTo(users.boss.email)).filter((m) => m.subject.includes(`${rerunLabel.name})`))).toEqual([]);
 
     const readerSub = await getOwnSubscription(workspaceId, users.reader.id);
     expect((await deliveries(readerSub?.id ?? 0)).filter((r) => r.run_id === rerun)).toEqual([]);

@@ -5,6 +5,7 @@ import { GET as getDesk } from "@/app/api/w/[slug]/desk/route";
 import { getSessionUser, type SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { getOwnSubscription } from "@/lib/digests/queries";
+import { runLabelOf } from "./run-label-of";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import type { CapturedMail } from "@/lib/mail/outbox";
 import type { DeskSummary } from "@/lib/runs/queries";
@@ -62,8 +63,9 @@ async function runAndWait(weights: string, seed: number): Promise<number> {
   return runId;
 }
 
-const digestOf = (user: { email: string }, runId: number): Promise<CapturedMail> =>
-  waitForMailTo(user.email, { since: started, subjectContains: `(results of run ${runId})`, timeoutMs: 90_000 });
+// After-run digests name the run by its number in the workspace; the mail's text gives its full label.
+const digestOf = async (user: { email: string }, runId: number): Promise<CapturedMail> =>
+  waitForMailTo(user.email, { since: started, subjectContains: `(results of ${(await runLabelOf(runId)).name})`, timeoutMs: 90_000 });
 
 async function summaryOf(userId: number, runId: number) {
   const sub = await getOwnSubscription(workspaceId, userId);
@@ -104,7 +106,7 @@ describe("a queen run, then a rook run, then a queen run on one panel", () => {
     const first = await digestOf(users.early, runs.queen1);
     expect(first.text).toContain("Your first digest of these results: there is no previous digest to compare with");
     expect(first.text).not.toContain("since your previous digest");
-    expect(first.text).toContain(`Method of run ${runs.queen1}: weights queen, transform row-standardised`);
+    expect(first.text).toContain(`Method of ${(await runLabelOf(runs.queen1)).label}: weights queen, transform row-standardised`);
     expect(await summaryOf(users.early.id, runs.queen1)).toMatchObject({ status: "sent", covered_run_id: runs.queen1, summary: { baseline: { kind: "first" }, previousRunId: null } });
   });
 
@@ -115,7 +117,7 @@ describe("a queen run, then a rook run, then a queen run on one panel", () => {
 
     const mail = await digestOf(users.early, runs.rook);
     expect(mail.subject).toContain("method changed, no comparison");
-    expect(mail.text).toContain(`Method changed since your previous digest (run ${runs.queen1}): weights changed from queen to rook; no comparison.`);
+    expect(mail.text).toContain(`Method changed since your previous digest (${(await runLabelOf(runs.queen1)).label}): weights changed from queen to rook; no comparison.`);
     expect(mail.html).toContain("weights changed from queen to rook; no comparison");
     expect(mail.text).not.toContain("since your previous digest)");
     expect(mail.text).not.toMatch(SIGNED_CHANGE);
@@ -147,7 +149,7 @@ describe("a queen run, then a rook run, then a queen run on one panel", () => {
   it("a second queen run compares with the first queen run, in the digest and on the Desk", async () => {
     runs.queen2 = await runAndWait("queen", 778);
     const mail = await digestOf(users.early, runs.queen2);
-    expect(mail.text).toContain(`Compared with run ${runs.queen1}, which your previous digest reported (same panel, same method).`);
+    expect(mail.text).toContain(`Compared with ${(await runLabelOf(runs.queen1)).label}, which your previous digest reported (same panel, same method).`);
     expect(mail.text).not.toContain("Method changed");
     expect(await summaryOf(users.early.id, runs.queen2)).toMatchObject({ status: "sent", summary: { baseline: { kind: "previous-digest", runId: runs.queen1 }, previousRunId: runs.queen1 } });
 

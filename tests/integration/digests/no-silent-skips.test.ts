@@ -7,6 +7,7 @@ import { getSessionUser, type SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import type { DigestPreviewAnswer, SendNowAnswer } from "@/lib/digests/answers";
 import type { DeliveryView } from "@/lib/digests/queries";
+import { runLabelOf } from "./run-label-of";
 import { digestJobsForCadence } from "@/lib/digests/service";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
@@ -131,11 +132,11 @@ describe("the preview is what is sent", () => {
     expect(same(mail.text)).toBe(same(shown.text));
     expect(same(mail.html)).toBe(same(shown.html));
     expect(same(shown.text)).toContain("Unsubscribe: http");
-    expect(same(mail.text)).toContain(`Method of run ${runId}: weights queen`);
+    expect(same(mail.text)).toContain(`Method of ${(await runLabelOf(runId)).label}: weights queen`);
   });
 
   it("asked again with nothing new: the answer gives the reason, and the preview said the same beforehand", async () => {
-    const reason = `Your previous digest already reported run ${runId}, so nothing is new, and you chose to receive nothing when nothing changed.`;
+    const reason = `Your previous digest already reported ${(await runLabelOf(runId)).label}, so nothing is new, and you chose to receive nothing when nothing changed.`;
     const shown = await preview();
     expect(shown.decision).toEqual({ send: false, reason, sentence: `Nothing would be sent now: ${reason}` });
     expect(shown.baseline).toEqual({ kind: "previous-digest", runId });
@@ -158,7 +159,7 @@ describe("a scheduled digest that is skipped", () => {
       status: "skipped",
       error: null,
       coveredRunId: runId,
-      skippedReason: `Your previous digest already reported run ${runId}, so nothing is new, and you chose to receive nothing when nothing changed.`,
+      skippedReason: `Your previous digest already reported ${(await runLabelOf(runId)).label}, so nothing is new, and you chose to receive nothing when nothing changed.`,
     });
     // Skipped digests report nothing: the last digest is still the one sent.
     const sent = (await history()).filter((d) => d.status === "sent");

@@ -18,7 +18,7 @@ beforeAll(() => requireTestServices());
 
 async function run(path: string, init: { method?: string; headers?: Record<string, string> } = {}): Promise<Response> {
   const request = new NextRequest(`${APP()}${path}`, { method: init.method ?? "GET", headers: { host: new URL(APP()).host, ...init.headers } });
-  const response = await proxy(request, new NextFetchEvent({ request, page: "/" }));
+  const response = await proxy(request, new NextFetchEvent({ request, page: "/", context: undefined }));
   if (!response) throw new Error(`proxy.ts answered nothing for ${path}`);
   return response;
 }
