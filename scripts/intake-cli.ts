@@ -166,6 +166,11 @@ async function preview(values: Record<string, string | undefined>): Promise<numb
 }
 
 async function main(argv: string[]): Promise<number> {
+  // Asking for help is not an error: usage on stdout, exit 0.
+  if (argv[0] === "--help" || argv[0] === "-h" || argv[0] === "help") {
+    process.stdout.write(`${USAGE}\n`);
+    return 0;
+  }
   let parsed: ReturnType<typeof parseArgs<{ options: typeof OPTIONS; allowPositionals: true; strict: true }>>;
   try {
     parsed = parseArgs({ args: argv, options: OPTIONS, allowPositionals: true, strict: true });

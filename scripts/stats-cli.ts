@@ -79,7 +79,7 @@ const usage =
 
 function parseArguments(argv: readonly string[]): { command: Command; options: Options } {
   const [command, ...rest] = argv;
-  if (command === undefined || command === "--help" || command === "-h") throw new InputError(usage);
+  if (command === undefined) throw new InputError(usage);
   if (!(commands as readonly string[]).includes(command)) {
     throw new InputError(`Unknown command "${command}"; use moran, local, geary or getis-ord.`);
   }
@@ -318,6 +318,12 @@ function run(argv: readonly string[]): { output: unknown; notes: string[] } {
 }
 
 function main(): void {
+  const first = process.argv[2];
+  // Asking for help is not an error: usage on stdout, exit 0.
+  if (first === "--help" || first === "-h" || first === "help") {
+    process.stdout.write(`${usage}\n`);
+    return;
+  }
   try {
     const { output, notes } = run(process.argv.slice(2));
     for (const note of notes) process.stderr.write(`${note}\n`);

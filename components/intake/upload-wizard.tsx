@@ -233,7 +233,7 @@ function BoundaryFormFields({
         </select>
       </Field>
       <Field label="Region code property" hint="Only properties present and unique on every region are offered first.">
-        <select className={inputClass} value={idProperty} onChange={(e) => setIdProperty(e.target.value)}>
+        <select className={inputClass} value={idProperty} onChange={(e) => setIdProperty(e.target.value)} aria-label="Region code property">
           {idCandidates.map((p) => (
             <option key={p} value={p}>
               {p}

@@ -473,7 +473,7 @@ export interface IndicatorMeta {
  * publishes it, so its code, label and description can describe embargoed
  * data. "published" keeps only indicators that have observations in a
  * published panel version or that a run analysed (runs start only on published
- * versions); "all" is for roles holding `data.view-unpublished` (DESIGN §Roles).
+ * versions); "all" is for roles holding `data.view-unpublished` (the roles table in docs/guarantees.md).
  */
 export type IndicatorVisibility = "all" | "published";
 

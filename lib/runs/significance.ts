@@ -1,7 +1,7 @@
 /**
  * Run-wide significance of the global results. The family of tests is every
- * computed indicator-period of the run, so the correction (DESIGN.md
- * §Cautions: "many indicator-periods tested at once produce false positives
+ * computed indicator-period of the run, so the correction (docs/statistics.md,
+ * Cautions: "many indicator-periods tested at once produce false positives
  * unless corrected") covers the whole run.
  */
 import { adjustPValues } from "@/lib/spatial";

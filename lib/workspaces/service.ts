@@ -11,7 +11,7 @@ export type CreatedWorkspace = { id: number; slug: string; name: string };
 /**
  * A new workspace with `user` as its first (and only) manager, and the audit
  * event that records it — all in one transaction, so a workspace never exists
- * without a manager (DESIGN §Roles: the creator is its first manager).
+ * without a manager (the roles table in docs/guarantees.md: the creator is its first manager).
  * A taken address is a ConflictError (409), also when two requests race for it:
  * the unique index decides, not a read before the write.
  */

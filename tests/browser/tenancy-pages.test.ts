@@ -12,7 +12,7 @@ import { PASSWORD } from "@/tests/integration/auth/fixtures";
 import { buildTenancyWorld, leaksOf, type TenancyWorld, type WorkspaceB } from "@/tests/integration/security/fixtures-tenancy";
 import { MEMBER_ROLES, subscriptionFor, type MemberRole } from "@/tests/integration/security/fixtures-world";
 
-// Tenancy proven on pages (DESIGN §Tenancy): every page under app/(app),
+// Tenancy proven on pages (docs/guarantees.md, "No one reads another team's data"): every page under app/(app),
 // found on disk, fetched over HTTP from the running app after a real
 // credentials sign-in as each role of workspace A. No page's HTML (with the
 // React payload it carries) may contain any of workspace B's strings or row

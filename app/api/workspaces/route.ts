@@ -4,7 +4,7 @@ import { createWorkspaceSchema } from "@/lib/workspaces/schemas";
 import { createWorkspace } from "@/lib/workspaces/service";
 
 // Belongs to no workspace yet, so memberRoute cannot guard it: any signed-in
-// user may create one and becomes its first manager (DESIGN §Tenancy).
+// user may create one and becomes its first manager (docs/guarantees.md, "No one reads another team's data").
 export async function POST(request: Request): Promise<Response> {
   try {
     const user = await requireUser();

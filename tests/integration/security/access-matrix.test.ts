@@ -8,7 +8,7 @@ import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
 import { buildWorld, CALLERS, type Caller, type World } from "./fixtures-world";
 import {
-  DESIGN_ROLES,
+  DOCUMENTED_ROLES,
   METHODS,
   PUBLIC_ROWS,
   SERVER_ACTION_FILES,
@@ -60,7 +60,7 @@ function filesUnder(dir: string, pattern: RegExp): string[] {
 function expectedStatus(row: WorkspaceRow, caller: Caller): number {
   if (caller === "signed-out") return 401;
   if (caller === "outsider") return 404;
-  return DESIGN_ROLES[row.capability].includes(caller) ? row.ok : (row.refused ?? 403);
+  return DOCUMENTED_ROLES[row.capability].includes(caller) ? row.ok : (row.refused ?? 403);
 }
 
 const CALLER_LABELS: Record<Caller, string> = {
@@ -140,9 +140,9 @@ describe("the matrix lists every route handler and server action", () => {
     expect(unchecked.map((row) => `${row.method} ${row.route}`)).toEqual([]);
   });
 
-  it("has lib/auth/roles.ts grant exactly the capabilities of DESIGN.md §Roles", () => {
+  it("has lib/auth/roles.ts grant exactly the capabilities of the roles table in docs/guarantees.md", () => {
     for (const capability of CAPABILITIES) {
-      expect(ROLES.filter((role) => can(role, capability))).toEqual(DESIGN_ROLES[capability]);
+      expect(ROLES.filter((role) => can(role, capability))).toEqual(DOCUMENTED_ROLES[capability]);
     }
   });
 });
@@ -176,7 +176,7 @@ for (const row of WORKSPACE_ROWS) {
 
     const invalidBody = row.invalidBody;
     if (invalidBody) {
-      const allowed = DESIGN_ROLES[row.capability][0] as Caller;
+      const allowed = DOCUMENTED_ROLES[row.capability][0] as Caller;
       it(`${allowed} gets 400 for malformed JSON sent to ${where}`, async () => {
         const call = await row.prepare(world, allowed);
         signInCaller(allowed);
@@ -199,7 +199,7 @@ for (const row of WORKSPACE_ROWS) {
 
     const invalidQuery = row.invalidQuery;
     if (invalidQuery) {
-      const allowed = DESIGN_ROLES[row.capability].at(-1) as Caller;
+      const allowed = DOCUMENTED_ROLES[row.capability].at(-1) as Caller;
       it(`${allowed} gets 400 naming "${invalidQuery.field}" for a bad query string on ${where}`, async () => {
         const call = await row.prepare(world, allowed);
         signInCaller(allowed);

@@ -10,7 +10,7 @@ import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
 import { makeUser, PASSWORD } from "@/tests/integration/auth/fixtures";
 import { buildWorld, type Caller, type World } from "./fixtures-world";
-import { DESIGN_ROLES, PUBLIC_ROWS, WORKSPACE_ROWS, urlOf, type Call, type WorkspaceRow } from "./route-matrix";
+import { DOCUMENTED_ROLES, PUBLIC_ROWS, WORKSPACE_ROWS, urlOf, type Call, type WorkspaceRow } from "./route-matrix";
 import { bodyOf, handlerOf, send, signedInAs, signInCaller } from "./route-calls";
 
 // Every route of the access matrix, called in-process by a member allowed to
@@ -317,7 +317,7 @@ const FUZZED_ROWS = [...WORKSPACE_ROWS.filter((r) => !r.variant && !destructive(
 
 for (const row of FUZZED_ROWS) {
   const where = `${row.method} ${urlOf(row.route)}`;
-  const caller = DESIGN_ROLES[row.capability][0] as Caller;
+  const caller = DOCUMENTED_ROLES[row.capability][0] as Caller;
   describe(`${where} as ${caller}`, () => {
     it("answers every hostile path parameter, search parameter and body field with a 4xx naming it, never a 5xx", async () => {
       const valid = await row.prepare(world, caller);

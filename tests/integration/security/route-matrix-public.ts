@@ -530,7 +530,7 @@ export const PUBLIC_ROWS: PublicRow[] = [
     kind: "public",
     route: "app/api/workspaces/route.ts",
     method: "POST",
-    rule: "any signed-in user creates a workspace and becomes its first manager (DESIGN §Tenancy); signed out 401",
+    rule: "any signed-in user creates a workspace and becomes its first manager (docs/guarantees.md, section “No one reads another team’s data”); signed out 401",
     readsBodyItself: "there is no workspace yet for memberRoute to check membership of; the body is parsed with createWorkspaceSchema (lib/workspaces/schemas.ts)",
     cases: [
       {

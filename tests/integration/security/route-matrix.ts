@@ -25,7 +25,7 @@ import { PUBLIC_ROWS } from "./route-matrix-public";
 // pair has no row here, or a row names a pair that no longer exists.
 //
 // Workspace routes: the capability the row names decides who gets 2xx and
-// who 403 (DESIGN_ROLES below, copied from DESIGN.md §Roles); a manager of
+// who 403 (DOCUMENTED_ROLES below, copied from the roles table in docs/guarantees.md); a manager of
 // another workspace gets 404 exactly as for a workspace that does not exist,
 // and a signed-out visitor 401. Routes outside workspaces have their own
 // rules, written out case by case in route-matrix-public.ts.
@@ -33,8 +33,8 @@ import { PUBLIC_ROWS } from "./route-matrix-public";
 export const METHODS = ["GET", "HEAD", "POST", "PUT", "PATCH", "DELETE", "OPTIONS"] as const;
 export type Method = (typeof METHODS)[number];
 
-/** DESIGN.md §Roles, transcribed: which roles hold each capability. Deliberately not computed from lib/auth/roles.ts. */
-export const DESIGN_ROLES: Record<Capability, readonly Caller[]> = {
+/** the roles table in docs/guarantees.md, transcribed: which roles hold each capability. Deliberately not computed from lib/auth/roles.ts. */
+export const DOCUMENTED_ROLES: Record<Capability, readonly Caller[]> = {
   "results.view": ["manager", "steward", "economist", "subscriber"], // see published results, timelines, maps
   "digests.subscribe": ["manager", "steward", "economist", "subscriber"], // manage own digest subscription
   "runs.manage": ["manager", "steward", "economist"], // start, cancel and rerun analyses; export results
@@ -63,7 +63,7 @@ export interface WorkspaceRow {
    * which the handler checks after memberRoute's guard.
    */
   variant?: string;
-  /** The status a member whose role is too small gets: 403, or 404 where the data does not exist for them (DESIGN.md §Roles). */
+  /** The status a member whose role is too small gets: 403, or 404 where the data does not exist for them (the roles table in docs/guarantees.md). */
   refused?: 403 | 404;
   /** What the call does, for the reader of the matrix. */
   does: string;

@@ -9,10 +9,10 @@ import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { buildTenancyWorld, leaksOf, type TenancyWorld } from "./fixtures-tenancy";
 import { MEMBER_ROLES, subscriptionFor, type MemberRole } from "./fixtures-world";
-import { DESIGN_ROLES, PUBLIC_ROWS, WORKSPACE_ROWS, urlOf, type Call, type WorkspaceRow } from "./route-matrix";
+import { DOCUMENTED_ROLES, PUBLIC_ROWS, WORKSPACE_ROWS, urlOf, type Call, type WorkspaceRow } from "./route-matrix";
 import type { Handler } from "./route-matrix-public";
 
-// Tenancy proven on content (DESIGN §Tenancy): with a second workspace B full
+// Tenancy proven on content (docs/guarantees.md, "No one reads another team's data"): with a second workspace B full
 // of distinctive data (fixtures-tenancy.ts), every route handler the access
 // matrix lists is called as each role of workspace A — with A's own
 // parameters, with B's slug, and with B's row ids in A's URLs — and no answer
@@ -118,7 +118,7 @@ function withIds(row: WorkspaceRow, call: Call, ids: Substitutes): Call | null {
   return changed ? { params, search, body } : null;
 }
 
-const allowed = (row: WorkspaceRow, role: MemberRole) => DESIGN_ROLES[row.capability].includes(role);
+const allowed = (row: WorkspaceRow, role: MemberRole) => DOCUMENTED_ROLES[row.capability].includes(role);
 
 describe("workspace B exists and is distinctive", () => {
   it("was created through POST /api/workspaces with B's manager as its only member, a manager", async () => {

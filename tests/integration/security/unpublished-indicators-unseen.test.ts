@@ -27,7 +27,7 @@ import { closeConnections } from "@/tests/helpers/teardown";
 import { makeWorkspace, unique } from "@/tests/integration/auth/fixtures";
 import { loadVeldmarkPanel } from "@/tests/integration/runs/fixtures";
 
-// DESIGN §Roles: only stewards and managers see unpublished data. An indicator
+// the roles table in docs/guarantees.md: only stewards and managers see unpublished data. An indicator
 // record is written when a panel is ingested, so a panel still under embargo
 // names its indicators (code, label, description) before it is published.
 // One published panel (indicator P, analysed by a completed run) and one

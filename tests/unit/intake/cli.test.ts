@@ -17,6 +17,12 @@ const boundaries = ["--boundaries", fixture("regions.topojson"), "--object", "re
 jest.setTimeout(120_000);
 
 describe("intake CLI", () => {
+  test("--help prints the usage on stdout and exits 0", () => {
+    const { status, stdout, stderr } = run(["--help"]);
+    expect({ status, stderr }).toEqual({ status: 0, stderr: "" });
+    expect(stdout).toMatch(/^usage: intake check --boundaries FILE/);
+  });
+
   test("exit 0 and one JSON report for a usable panel", () => {
     const { status, stdout, stderr } = run(["check", ...boundaries, "--panel", fixture("long-bom.csv")]);
     expect(stderr).toBe("");

@@ -52,6 +52,16 @@ function csv(name: string, transform: (lines: string[]) => string[]): string {
 }
 
 describe("stats CLI", () => {
+  test("--help prints the usage on stdout and exits 0; no command at all is a usage error (exit 2)", async () => {
+    const help = await runCli(["--help"]);
+    expect(help).toMatchObject({ code: 0, stderr: "" });
+    expect(help.stdout).toMatch(/^usage: stats <moran\|local\|geary\|getis-ord>/);
+    const none = await runCli([]);
+    expect(none.code).toBe(2);
+    expect(none.stdout).toBe("");
+    expect(none.stderr).toMatch(/^usage: stats/);
+  });
+
   test("moran prints exactly the documented fields", async () => {
     const run = await runCli(["moran", ...common({ weights: "rook", permutations: "199", seed: "5" })]);
     expect(run.code).toBe(0);

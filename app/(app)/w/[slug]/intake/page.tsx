@@ -9,7 +9,7 @@ export const metadata: Metadata = { title: "Intake" };
 export default async function IntakePage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
   await guardPage(`/w/${slug}/intake`, () => requireMember(slug, "data.view-unpublished"));
-  // The screen belongs to stewards and managers (DESIGN.md §Roles); the published
+  // The screen belongs to stewards and managers (the roles table in docs/guarantees.md); the published
   // data it curates reaches everyone else through the analyses screens.
   return (
     <>

@@ -11,7 +11,7 @@ export const metadata: Metadata = { title: "Runs" };
 export default async function RunsPage({ params }: { params: Promise<{ slug: string }> }) {
   const { slug } = await params;
   const access = await guardPage(`/w/${slug}/runs`, () => requireMember(slug, "runs.manage"));
-  // Subscribers never reach this screen (DESIGN.md §Roles: runs are an economist's capability).
+  // Subscribers never reach this screen (the roles table in docs/guarantees.md: runs are an economist's capability).
   const canManage = can(access.role, "runs.manage");
   return (
     <div>

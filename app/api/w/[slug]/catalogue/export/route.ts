@@ -7,7 +7,7 @@ import { SIGNIFICANCE_LABELS } from "@/lib/runs/types";
 
 export const dynamic = "force-dynamic";
 
-// Export is an economist's capability (DESIGN.md §Roles); subscribers only view.
+// Export is an economist's capability (the roles table in docs/guarantees.md); subscribers only view.
 export const GET = memberRoute({ capability: "runs.manage" }, async ({ member, request }) => {
   const search = parseSearch(request, catalogueQuerySchema);
   if (!search.ok) return search.response;
