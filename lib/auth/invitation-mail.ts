@@ -1,9 +1,9 @@
 import { QueryTypes } from "sequelize";
 import { db } from "@/lib/db";
 import { sendMail } from "@/lib/mail/send";
-import type { InvitationEmailPayload } from "./invitation-mail-schema";
+import type { InvitationEmailPayload } from "@/lib/jobs/payloads";
 
-// Renders and sends the invitation e-mail. Runs in the worker (lib/jobs/handlers.ts),
+// Renders and sends the invitation e-mail. Runs in the worker (worker/handlers.ts),
 // never in the request that created the invitation.
 
 function escapeHtml(value: string): string {

@@ -15,14 +15,3 @@ export const subscriptionInputSchema = z
   .refine((s) => s.scope === "all" || s.indicatorCodes.length > 0, { message: "Pick at least one indicator, or follow all of them.", path: ["indicatorCodes"] });
 
 export type SubscriptionInput = z.output<typeof subscriptionInputSchema>;
-
-/** Payload of a digest-send job. */
-export const digestSendPayloadSchema = z.object({
-  subscriptionId: z.number().int().positive(),
-  /** Unique per subscription and digest period; the delivery row's key. */
-  idempotencyKey: z.string().min(1).max(200),
-  /** The completed run that triggered an after-run digest (null: weekly/monthly, use the latest). */
-  runId: z.number().int().positive().nullable().default(null),
-  coverage: z.string().min(1).max(120),
-});
-export type DigestSendPayload = z.output<typeof digestSendPayloadSchema>;

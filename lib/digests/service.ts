@@ -11,6 +11,7 @@ import { can, isRole } from "@/lib/auth/roles";
 import { env } from "@/lib/config/env";
 import { db } from "@/lib/db";
 import { enqueue } from "@/lib/jobs/enqueue";
+import type { DigestSendPayload } from "@/lib/jobs/payloads";
 import { sendMail } from "@/lib/mail/send";
 import { describeMethod, selectBaseline } from "@/lib/runs/comparability";
 import { runName } from "@/lib/runs/label";
@@ -31,7 +32,7 @@ import {
   type SubscriptionView,
 } from "./queries";
 import { renderDigest, type RenderedDigest } from "./render";
-import type { DigestSendPayload, SubscriptionInput } from "./schemas";
+import type { SubscriptionInput } from "./schemas";
 import { signUnsubscribeToken } from "./token";
 
 /** At most this many charts per digest (the rest are linked). */

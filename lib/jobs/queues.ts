@@ -1,11 +1,12 @@
 import { z } from "zod";
-import { invitationEmailPayloadSchema } from "@/lib/auth/invitation-mail-schema";
-import { digestSendPayloadSchema } from "@/lib/digests/schemas";
+import { digestSendPayloadSchema, invitationEmailPayloadSchema } from "./payloads";
 
 /**
  * Every queue Tessera uses, with the zod schema its payload must satisfy.
- * To add a queue: add its schema here and its handler in handlers.ts (the
- * registry's type makes a missing handler a compile error).
+ * To add a queue: add its schema here (a schema the domains also use goes in
+ * payloads.ts) and its handler in worker/handlers.ts (the registry's type
+ * makes a missing handler a compile error). Nothing in lib/jobs imports a
+ * domain: the worker wires queues to domain code from above.
  */
 export const queueSchemas = {
   /** Self-check: sends one mail through the worker. Used by tests and by `npm run worker -- --self-check`. */
@@ -36,6 +37,11 @@ export type QueueName = keyof typeof queueSchemas;
 export type JobPayload<Q extends QueueName> = z.output<(typeof queueSchemas)[Q]>;
 /** What a caller passes to enqueue(). */
 export type JobInput<Q extends QueueName> = z.input<(typeof queueSchemas)[Q]>;
+
+/** `worker` is the label of the worker process running the job (WORKER_LABEL, else host:pid). */
+export type JobContext = { id: string; queue: QueueName; worker: string; log: (message: string) => void };
+/** What the worker calls with a job's parsed payload (the registry is worker/handlers.ts). */
+export type JobHandler<Q extends QueueName> = (payload: JobPayload<Q>, context: JobContext) => Promise<void>;
 
 export const QUEUE_NAMES = Object.keys(queueSchemas) as QueueName[];
 

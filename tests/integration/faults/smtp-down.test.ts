@@ -4,7 +4,7 @@ import { QueryTypes } from "sequelize";
 import { env } from "@/lib/config/env";
 import { db } from "@/lib/db";
 import { deliverDigest, digestJobsForCadence, digestMessageId, saveSubscription } from "@/lib/digests/service";
-import type { DigestSendPayload } from "@/lib/digests/schemas";
+import type { DigestSendPayload } from "@/lib/jobs/payloads";
 import { getBoss } from "@/lib/jobs/boss";
 import { DEFAULT_QUEUE_SETTINGS, queueSchemas, queueSettings } from "@/lib/jobs/queues";
 import { sendMail } from "@/lib/mail/send";

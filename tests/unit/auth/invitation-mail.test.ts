@@ -1,5 +1,5 @@
 import { renderInvitationEmail } from "@/lib/auth/invitation-mail";
-import { invitationEmailPayloadSchema } from "@/lib/auth/invitation-mail-schema";
+import { invitationEmailPayloadSchema } from "@/lib/jobs/payloads";
 
 const payload = invitationEmailPayloadSchema.parse({
   invitationId: 7,

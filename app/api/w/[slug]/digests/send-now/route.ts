@@ -6,7 +6,7 @@ import { enqueue } from "@/lib/jobs/enqueue";
 import type { SendNowAnswer } from "@/lib/digests/answers";
 import { getOwnSubscription } from "@/lib/digests/queries";
 import { deliverDigestReport, ON_REQUEST_COVERAGE, prepareDigest, type DeliveryReport } from "@/lib/digests/service";
-import type { DigestSendPayload } from "@/lib/digests/schemas";
+import type { DigestSendPayload } from "@/lib/jobs/payloads";
 import { limitAction } from "@/lib/security/rate-limits";
 
 
