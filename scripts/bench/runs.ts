@@ -205,7 +205,7 @@ async function withDatabase<T>(work: () => Promise<T>): Promise<T | null> {
 
 function startWorker(): Promise<ChildProcess> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [...process.execArgv, path.join(ROOT, "scripts", "worker.ts")], {
+    const child = spawn(process.execPath, [...process.execArgv, path.join(ROOT, "worker", "main.ts")], {
       cwd: ROOT,
       env: { ...process.env, WORKER_CONCURRENCY: "1", WORKER_POLL_SECONDS: "0.5" },
       stdio: ["ignore", "pipe", "pipe"],

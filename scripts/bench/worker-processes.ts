@@ -1,5 +1,5 @@
 /**
- * Job worker processes started by a test or a benchmark: `scripts/worker.ts`
+ * Job worker processes started by a test or a benchmark: `worker/main.ts`
  * run by node itself with tsx as a loader (not through the tsx launcher, which
  * would put a second process in between: a SIGKILL must reach the worker).
  *
@@ -26,7 +26,7 @@ export interface WorkerProcess {
  * queues subscribed). `env` is added to this process's environment.
  */
 export async function startWorkerProcess(label: string, env: Record<string, string>, readyTimeoutMs = 90_000): Promise<WorkerProcess> {
-  const child = spawn(process.execPath, ["--import", "tsx", path.join(ROOT, "scripts", "worker.ts")], {
+  const child = spawn(process.execPath, ["--import", "tsx", path.join(ROOT, "worker", "main.ts")], {
     cwd: ROOT,
     env: { ...process.env, ...env, WORKER_LABEL: label },
     stdio: ["ignore", "pipe", "pipe"],

@@ -145,7 +145,7 @@ export async function seedDemoData(stack) {
 export async function startWorker(stack, name = "worker") {
   const { env, supervisor } = stack;
   const logFile = childLog(stack, name);
-  const record = supervisor.spawn(name, path.join(BIN, "tsx"), [path.join(ROOT, "scripts/worker.ts")], { env, logFile, stopTimeoutMs: 30_000 });
+  const record = supervisor.spawn(name, path.join(BIN, "tsx"), [path.join(ROOT, "worker/main.ts")], { env, logFile, stopTimeoutMs: 30_000 });
   try {
     await record.waitForLine(/\] ready:/, 60_000);
   } catch (err) {

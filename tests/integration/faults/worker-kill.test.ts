@@ -11,7 +11,7 @@ import { waitFor } from "@/tests/helpers/wait";
 import { multiplicity, piecesOf, runState, stageLatticeRun, storedOnce, storedResults, waitForRunEnd, type LatticeStage, type PieceRow } from "./worker-run-checks";
 
 // Issue 7, faults: a worker SIGKILLed in the middle of a run. Real worker
-// processes (scripts/worker.ts) on the test PostgreSQL and S3, serving a jobs
+// processes (worker/main.ts) on the test PostgreSQL and S3, serving a jobs
 // schema only this file's workers use, so the test bring-up's worker cannot
 // take a piece and every kill lands on a piece this file chose.
 

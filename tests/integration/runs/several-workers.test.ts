@@ -5,7 +5,7 @@ import { startWorkerProcess, type WorkerProcess } from "@/scripts/bench/worker-p
 import { multiplicity, piecesOf, stageLatticeRun, storedOnce, storedResults, waitForRunEnd, type LatticeStage } from "@/tests/integration/faults/worker-run-checks";
 
 // Issue 7, item 5: two worker processes share one large run. Real workers
-// (scripts/worker.ts) on a jobs schema only this file's workers serve, so the
+// (worker/main.ts) on a jobs schema only this file's workers serve, so the
 // test bring-up's worker takes no piece and the two workers below are the only
 // ones. Whether two finish faster than one is a benchmark (`npm run bench --
 // --only workers --services`), never a timed test.

@@ -8,7 +8,7 @@ import { closeConnections } from "@/tests/helpers/teardown";
 import { waitFor } from "@/tests/helpers/wait";
 
 // scripts/test.mjs (and `npm run services:test`) runs the real worker
-// (`tsx scripts/worker.ts`) next to the test services; this test only enqueues.
+// (`tsx worker/main.ts`) next to the test services; this test only enqueues.
 beforeAll(async () => {
   await requireTestServices();
 });
@@ -52,7 +52,7 @@ describe("pg-boss jobs processed by the worker process", () => {
 
   test("a second worker process runs alongside, takes jobs, and stops gracefully on SIGTERM", async () => {
     const root = path.resolve(__dirname, "..", "..", "..");
-    const child = spawn(path.join(root, "node_modules", ".bin", "tsx"), [path.join(root, "scripts", "worker.ts")], {
+    const child = spawn(path.join(root, "node_modules", ".bin", "tsx"), [path.join(root, "worker", "main.ts")], {
       cwd: root,
       env: { ...process.env, NODE_ENV: "production", WORKER_CONCURRENCY: "1" },
       stdio: ["ignore", "pipe", "pipe"],

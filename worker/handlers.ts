@@ -6,14 +6,10 @@ import { describeSweep } from "@/lib/intake/abandoned-uploads";
 import { sweepAbandonedUploads } from "@/lib/intake/abandoned-uploads-sweep";
 import { env } from "@/lib/config/env";
 import { deliverDigest, scheduleDigestsForCadence, scheduleDigestsForRun } from "@/lib/digests/service";
-import type { JobPayload, QueueName } from "@/lib/jobs/queues";
-
-/** `worker` is the label of the worker process running the job (WORKER_LABEL, else host:pid). */
-export type JobContext = { id: string; queue: QueueName; worker: string; log: (message: string) => void };
-export type JobHandler<Q extends QueueName> = (payload: JobPayload<Q>, context: JobContext) => Promise<void>;
+import type { JobHandler, JobPayload, QueueName } from "@/lib/jobs/queues";
 
 /**
- * One handler per queue of queues.ts. The worker (scripts/worker.ts) parses
+ * One handler per queue of lib/jobs/queues.ts. The worker (worker/main.ts) parses
  * each payload with the queue's schema before calling its handler; a thrown
  * error fails the job and pg-boss retries it per the queue's settings.
  */

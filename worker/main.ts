@@ -1,5 +1,5 @@
 // Tessera job worker: `npm run worker`. Starts pg-boss on DATABASE_URL, works
-// every queue of lib/jobs/queues.ts with its handler from lib/jobs/handlers.ts,
+// every queue of lib/jobs/queues.ts with its handler from worker/handlers.ts,
 // logs one line per job, and stops gracefully on SIGINT/SIGTERM (active jobs
 // finish first). Run as many workers as you like against the same database.
 //
@@ -18,11 +18,11 @@ import type PgBoss from "pg-boss";
 import { z } from "zod";
 import { getBoss, jobsSchema, stopBoss } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";
-import { abandonedHandlers, handlers, type JobHandler } from "@/lib/jobs/handlers";
 import { WorkerLease, type HandedBackJob } from "@/lib/jobs/lease";
 import { deadAfterSeconds, leaseSettingsFrom, workerLabelFrom } from "@/lib/jobs/liveness";
-import { isQueueName, QUEUE_NAMES, queueSchemas, type QueueName } from "@/lib/jobs/queues";
+import { isQueueName, QUEUE_NAMES, queueSchemas, type JobHandler, type QueueName } from "@/lib/jobs/queues";
 import { closeMailer } from "@/lib/mail/send";
+import { abandonedHandlers, handlers } from "./handlers";
 
 const label = workerLabelFrom(process.env, os.hostname(), process.pid);
 const log = (message: string) => console.log(`[${new Date().toISOString()}] [worker ${label}] ${message}`);
