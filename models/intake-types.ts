@@ -1,6 +1,6 @@
 // Types shared by the intake models (migrations/20261201000400-create-intake-tables.js).
 // Observations have no model: they are written with COPY and read with plain
-// SQL (lib/intake/queries.ts).
+// SQL (lib/intake/published-panel.ts).
 
 /** Life of a boundary or panel version. Immutable content; only the state moves forward. */
 export const VERSION_STATES = ["uploaded", "validated", "rejected", "published", "archived"] as const;

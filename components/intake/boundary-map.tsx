@@ -6,7 +6,7 @@ import type { Feature, FeatureCollection, Geometry, GeoJsonProperties } from "ge
 import { useMemo, useState } from "react";
 import { feature } from "topojson-client";
 import { inputClass, labelClass } from "@/components/ui/button-styles";
-import type { WeightsPreview } from "@/lib/intake/queries";
+import type { WeightsPreview } from "@/lib/geometry/weights-preview";
 import { NO_NEIGHBOURS_HATCH } from "@/lib/runs/cluster-classes";
 import { Notice, Panel } from "./format";
 import { topologyQuery, weightsQuery, type TopologyResponse } from "./query-options";

@@ -3,7 +3,7 @@
 import { useMutation, useQueryClient } from "@tanstack/react-query";
 import { useState } from "react";
 import { inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
-import type { IndicatorMeta } from "@/lib/intake/queries";
+import type { IndicatorMeta } from "@/lib/intake/published-panel";
 import { Notice, Panel } from "./format";
 import { intakeApi, intakeKeys } from "./query-options";
 

@@ -1,7 +1,9 @@
 import { queryOptions } from "@tanstack/react-query";
 import { apiFetch } from "@/components/team/query-options";
 import type { BoundaryUploadPreview, CreatedVersion, PanelUploadPreview, UploadTicket, UploadView } from "@/lib/intake/actions";
-import type { IndicatorMeta, IntakeOverview, VersionDetail, WeightsPreview } from "@/lib/intake/queries";
+import type { IndicatorMeta } from "@/lib/intake/published-panel";
+import type { IntakeOverview, VersionDetail } from "@/lib/intake/queries";
+import type { WeightsPreview } from "@/lib/geometry/weights-preview";
 import type { Topology } from "topojson-specification";
 
 // One options factory per intake resource; every mutation invalidates intakeKeys.all(slug).

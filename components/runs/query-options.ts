@@ -3,7 +3,7 @@ import { apiFetch } from "@/components/team/query-options";
 import type { DeskSummary, RunOption, RunPieceRow, RunSummary, Timeline } from "@/lib/runs/queries";
 import type { Comparison, MapGeometry, MapPeriod } from "@/lib/runs/on-demand";
 import type { RobustnessEntry } from "@/lib/runs/compare";
-import type { IndicatorMeta } from "@/lib/intake/queries";
+import type { IndicatorMeta } from "@/lib/intake/published-panel";
 import { catalogueRowsOf, type CatalogueAnswer } from "@/lib/runs/catalogue-wire";
 import type { ReachabilityWarning } from "@/lib/runs/reachability";
 

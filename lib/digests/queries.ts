@@ -1,6 +1,6 @@
 import { QueryTypes } from "sequelize";
 import { db } from "@/lib/db";
-import { indicatorVisibleSql, type IndicatorVisibility } from "@/lib/intake/queries";
+import { indicatorVisibleSql, type IndicatorVisibility } from "@/lib/intake/published-panel";
 import { runLabel } from "@/lib/runs/label";
 import type { SignificanceClass } from "@/lib/runs/types";
 import type { DigestCadence, DigestDeliveryStatus, DigestEmptyPolicy, DigestScope, DigestThreshold } from "@/models/digest-types";
@@ -322,7 +322,7 @@ export async function indicatorLabels(workspaceId: number): Promise<Map<string, 
 
 /**
  * Indicators a subscriber can pick: those with an indicator record the reader
- * may see (lib/intake/queries `indicatorVisibleSql`) or analysed by a completed run.
+ * may see (lib/intake/published-panel `indicatorVisibleSql`) or analysed by a completed run.
  */
 export async function pickableIndicators(workspaceId: number, visibility: IndicatorVisibility): Promise<{ code: string; label: string }[]> {
   const rows = await db().query<{ code: string; label: string | null }>(

@@ -29,7 +29,6 @@ import type { UploadKind } from "@/models/intake-types";
 import { boundaryIds, inspectBoundaries, loadBoundaries, BoundaryError, type BoundarySummary } from "./boundaries";
 import { id, idText, text, uuidText } from "@/lib/http/params";
 import { fileIndicatorCodes, indicatorFromFileName, normaliseHeader } from "./mapping";
-import { PREVIEW_RULES } from "./queries";
 import { readPanelHeader, readPanelSample, type PanelPreview } from "./preview";
 import { columnMappingSchema, decimalSchema, type ColumnMapping } from "./schemas";
 import { StorageQuotaError, lockWorkspaceQuota, quotaRefusal, workspaceStorageUsed } from "./storage-quota";
@@ -136,10 +135,6 @@ export const uploadParamsSchema = z.object({ uploadId: uuidText() });
 /** Path parameters of …/versions/[kind]/[versionId]. */
 export const versionParamsSchema = z.object({ kind: versionKindSchema, versionId: idText() });
 
-/** Search parameters of the neighbours preview (GET …/boundaries/[versionId]/weights). */
-export const weightsPreviewQuerySchema = z.object({
-  rule: z.string().regex(PREVIEW_RULES, "use queen, rook, knn:K (K from 1 to 99), band or band:D").default("queen"),
-});
 export type VersionKind = z.infer<typeof versionKindSchema>;
 
 // ---------------------------------------------------------------- uploads

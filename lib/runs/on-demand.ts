@@ -3,7 +3,8 @@
  * comparison of two periods and the robustness strip. Server-only; callers
  * authorise first and pass a run of the member's workspace.
  */
-import { loadBoundaryTopology, loadPanelMatrix } from "@/lib/intake/queries";
+import { loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
+import { loadPanelMatrix } from "@/lib/intake/published-panel";
 import { NotFoundError } from "@/lib/auth/errors";
 import { clusterTransitionTable, comparePeriods, robustnessStrip, type ClusterTransitionTable, type PeriodComparison, type RobustnessEntry } from "./compare";
 import { storedResult, type RunSummary } from "./queries";

@@ -5,7 +5,7 @@
  */
 import { QueryTypes } from "sequelize";
 import { db, selectTuples } from "@/lib/db";
-import { indicatorMetadata, publishedPanelVersions, panelDimensions, type IndicatorMeta } from "@/lib/intake/queries";
+import { indicatorMetadata, publishedPanelVersions, panelDimensions, type IndicatorMeta } from "@/lib/intake/published-panel";
 import { CATALOGUE_FIELDS, catalogueAnswerText, catalogueRowsOf, type CatalogueAnswer, type CatalogueRow, type CatalogueRun } from "./catalogue-wire";
 import { selectBaseline } from "./comparability";
 import type { ResolvedRunParams } from "./schemas";

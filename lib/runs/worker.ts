@@ -7,7 +7,8 @@
  * two attempts overlap the first to finish stores the rows (store.ts).
  */
 import os from "node:os";
-import { loadBoundaryTopology, loadPanelMatrix } from "@/lib/intake/queries";
+import { loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
+import { loadPanelMatrix } from "@/lib/intake/published-panel";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { buildRunGeometry, computePeriod, messageOf, withChanges, type RunGeometry } from "./compute";
 import type { ResolvedRunParams } from "./schemas";

@@ -225,7 +225,7 @@ async function demoEndToEnd(): Promise<BenchResult | null> {
   return withDatabase(async () => {
     const { db } = await import("../../lib/db");
     const { QueryTypes } = await import("sequelize");
-    const { publishedPanelVersions } = await import("../../lib/intake/queries");
+    const { publishedPanelVersions } = await import("../../lib/intake/published-panel");
     const { startRun } = await import("../../lib/runs/service");
     const { runParamsInputSchema } = await import("../../lib/runs/schemas");
     const demo = JSON.parse(readFileSync(path.join(ROOT, "seeders", "demo-accounts.json"), "utf8")) as { workspace: { slug: string } };

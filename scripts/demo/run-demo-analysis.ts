@@ -14,7 +14,7 @@ import demo from "../../seeders/demo-accounts.json";
 import { db } from "@/lib/db";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { stopBoss } from "@/lib/jobs/boss";
-import { publishedPanelVersions } from "@/lib/intake/queries";
+import { publishedPanelVersions } from "@/lib/intake/published-panel";
 import { runParamsInputSchema } from "@/lib/runs/schemas";
 import { resolveRunParams } from "@/lib/runs/service";
 import { cancelRun, insertRun } from "@/lib/runs/store";

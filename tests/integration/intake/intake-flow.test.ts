@@ -13,7 +13,7 @@ import { PUT as putIndicator } from "@/app/api/workspaces/[slug]/intake/indicato
 import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
-import { loadPanelMatrix } from "@/lib/intake/queries";
+import { loadPanelMatrix } from "@/lib/intake/published-panel";
 import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { waitFor } from "@/tests/helpers/wait";

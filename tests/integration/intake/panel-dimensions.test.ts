@@ -1,6 +1,6 @@
 import { QueryTypes } from "sequelize";
 import { db } from "@/lib/db";
-import { panelDimensions } from "@/lib/intake/queries";
+import { panelDimensions } from "@/lib/intake/published-panel";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";

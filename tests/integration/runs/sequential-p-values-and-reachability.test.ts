@@ -7,7 +7,7 @@ import { GET as getCatalogue } from "@/app/api/w/[slug]/catalogue/route";
 import { getSessionUser, type SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
-import { loadPanelMatrix } from "@/lib/intake/queries";
+import { loadPanelMatrix } from "@/lib/intake/published-panel";
 import { catalogueRowsOf, type CatalogueAnswer } from "@/lib/runs/catalogue-wire";
 import { computePeriod } from "@/lib/runs/compute";
 import type { RunOption } from "@/lib/runs/queries";

@@ -4,7 +4,7 @@ import fc from "fast-check";
 import { z } from "zod";
 import { getSessionUser } from "@/lib/auth/session";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
-import { weightsPreviewQuerySchema } from "@/lib/intake/actions";
+import { weightsPreviewQuerySchema } from "@/lib/geometry/weights-preview";
 import { catalogueQuerySchema, compareQuerySchema, geometryQuerySchema, periodQuerySchema, timelineQuerySchema } from "@/lib/runs/schemas";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";

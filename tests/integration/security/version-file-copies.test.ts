@@ -8,7 +8,7 @@ import { createBoundaryVersion, createPanelVersion } from "@/lib/intake/actions"
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";
-import { forgetCachedTopologies, loadBoundaryTopology } from "@/lib/intake/queries";
+import { forgetCachedTopologies, loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
 import { StoredFileChecksumError } from "@/lib/storage/errors";
 import { getObjectBytes, putObject } from "@/lib/storage/s3";
 import { requireTestServices } from "@/tests/helpers/env";

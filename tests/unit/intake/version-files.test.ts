@@ -1,5 +1,5 @@
 import { createHash } from "node:crypto";
-import { expectedTopologySha256 } from "@/lib/intake/queries";
+import { expectedTopologySha256 } from "@/lib/geometry/boundary-topology";
 import { drainable, verifiedChunks, versionFileKey, versionTopologyKey } from "@/lib/intake/version-files";
 import { StoredFileChecksumError } from "@/lib/storage/errors";
 

@@ -1,7 +1,7 @@
 import { memberRoute } from "@/lib/auth/route";
 import { deliveryHistory, getOwnSubscription, pickableIndicators } from "@/lib/digests/queries";
 import { subscriptionInputSchema } from "@/lib/digests/schemas";
-import { indicatorVisibilityFor } from "@/lib/intake/queries";
+import { indicatorVisibilityFor } from "@/lib/intake/published-panel";
 import { saveSubscription } from "@/lib/digests/service";
 
 /** The signed-in member's own subscription, the indicators they can pick, and their delivery history. */

@@ -1,7 +1,7 @@
 import { can } from "@/lib/auth/roles";
 import { jsonError, memberRoute } from "@/lib/auth/route";
 import { parseIdParam } from "@/lib/http/params";
-import { boundaryVersionInWorkspace, loadBoundaryTopology } from "@/lib/intake/queries";
+import { boundaryVersionInWorkspace, loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
 
 // The stored TopoJSON of a validated boundary version, with the object and properties that hold the regions.
 export const GET = memberRoute({ capability: "results.view" }, async ({ member, params }) => {

@@ -1,8 +1,8 @@
 import { can } from "@/lib/auth/roles";
 import { invalidBody, jsonError, memberRoute } from "@/lib/auth/route";
 import { parseIdParam } from "@/lib/http/params";
-import { weightsPreviewQuerySchema } from "@/lib/intake/actions";
-import { boundaryVersionInWorkspace, boundaryWeightsPreview } from "@/lib/intake/queries";
+import { boundaryVersionInWorkspace } from "@/lib/geometry/boundary-topology";
+import { boundaryWeightsPreview, weightsPreviewQuerySchema } from "@/lib/geometry/weights-preview";
 
 // Neighbours under a weights rule: centroids, links, neighbour-count histogram, islands.
 export const GET = memberRoute({ capability: "results.view" }, async ({ member, params, request }) => {
