@@ -1,5 +1,53 @@
-import { gearyC, generalG, globalMoran, prepareAnalysis, createRandomSource, weightsFromNeighbourLists, type SpatialWeights } from "@/lib/spatial";
+import { gearyC, generalG, globalMoran, prepareAnalysis, createRandomSource, weightsFromNeighbourLists, type RandomSource, type SpatialWeights } from "@/lib/spatial";
 import { computeIndicator, computePeriod, statisticSeed, type PeriodParams, type RunGeometry } from "@/lib/runs/compute";
+
+/**
+ * Every random source the run code creates, with what it drew: the partner j
+ * of every Fisher–Yates position (the relabellings themselves) and every
+ * bounded integer (the local samples). The sources pass every call through to
+ * the engine's generator, so the numbers the run computes are unchanged.
+ */
+const mockDrawLog: { seed: number; draws: number[] }[] = [];
+jest.mock("@/lib/spatial", () => {
+  const actual: typeof import("@/lib/spatial") = jest.requireActual("@/lib/spatial");
+  return {
+    ...actual,
+    createRandomSource(seed: number): RandomSource {
+      const source = actual.createRandomSource(seed);
+      const draws: number[] = [];
+      mockDrawLog.push({ seed, draws });
+      return {
+        nextUint32: () => {
+          const v = source.nextUint32();
+          draws.push(v);
+          return v;
+        },
+        nextInt: (bound: number) => {
+          const v = source.nextInt(bound);
+          draws.push(v);
+          return v;
+        },
+        nextFloat: () => {
+          const v = source.nextFloat();
+          draws.push(v);
+          return v;
+        },
+        shuffle: (values: Float64Array, swaps?: Int32Array | null) => {
+          const partners = swaps ?? new Int32Array(values.length);
+          source.shuffle(values, partners);
+          for (let i = values.length - 1; i > 0; i--) draws.push(partners[i]);
+        },
+      };
+    },
+  };
+});
+
+/** The draws of the sources created while `work` ran, in creation order. */
+function drawsDuring(work: () => void): { seed: number; draws: number[] }[] {
+  const start = mockDrawLog.length;
+  work();
+  return mockDrawLog.slice(start);
+}
 
 // A 6 × 6 rook lattice (36 regions "r0".."r35") plus one region "isle" with
 // no neighbours, as base (binary) weights.
@@ -57,7 +105,9 @@ describe("computePeriod", () => {
     expect(row.permutation?.pTwoSided).toBeGreaterThanOrEqual(1 / 200);
     expect(row.permutation?.bandLow).toBeLessThan(row.permutation?.bandHigh ?? -Infinity);
     expect(row.geary?.C).toBeLessThan(1);
-    expect(row.generalG?.G).toBeGreaterThan(0);
+    // High values sit next to high values: G above its expectation, at the smallest two-sided pseudo p of 199 permutations.
+    expect(row.generalG?.G).toBeGreaterThan(row.generalG?.expectedG ?? Infinity);
+    expect(row.generalG?.pseudoP).toBe(2 / 200);
     expect(row.local?.ids).toHaveLength(36);
     expect(row.local?.quadrant).toContain("HH");
     expect(Object.values(row.local?.counts ?? {}).reduce((a, b) => a + b, 0)).toBe(36);
@@ -129,7 +179,11 @@ describe("computePeriod", () => {
     expect(row.status).toBe("computed");
     expect(row.generalG).toBeNull();
     expect(row.note).toContain("General G was not computed");
-    expect(row.moran).not.toBeNull();
+    // The rest is computed as for the unshifted values (Moran's I and Geary's C do not change under a shift).
+    const unshifted = computePeriod(geometry, params, "x", "2020", gradient());
+    expect(row.moran?.I).toBeCloseTo(unshifted.moran?.I ?? NaN, 12);
+    expect(row.geary?.C).toBeCloseTo(unshifted.geary?.C ?? NaN, 12);
+    expect(row.local?.cluster).toEqual(unshifted.local?.cluster);
   });
 });
 
@@ -149,7 +203,7 @@ describe("computeIndicator", () => {
     expect(rows[3].deltaI).toBeCloseTo((rows[3].moran?.I ?? NaN) - (rows[2].moran?.I ?? NaN), 14);
   });
 
-  it("reproduces every number with the same seed, and uses the same draws in every period", () => {
+  it("reproduces every number with the same seed", () => {
     const periods = [
       { period: "2020", values: gradient() },
       { period: "2021", values: gradient(0.5) },
@@ -159,7 +213,40 @@ describe("computeIndicator", () => {
     expect(JSON.stringify(second)).toBe(JSON.stringify(first));
     const other = computeIndicator(geometry, { ...params, seed: 8 }, "x", periods);
     expect(other[0].permutation?.mean).not.toBe(first[0].permutation?.mean);
-    // Common random numbers: a shift of every value leaves z unchanged, so the permuted I's are identical.
-    expect(first[1].moran?.I).toBeDefined();
+  });
+
+  it("uses the same draws in every period with the same regions, and other draws when the regions differ", () => {
+    // A second period unlike the first (not an affine copy, so no outcome would match by itself).
+    const later = new Map<string, number | null>([...gradient()].map(([id, v]) => [id, v === null ? null : ((v * 37) % 11) + 0.5]));
+    const run = drawsDuring(() =>
+      computeIndicator(geometry, params, "x", [
+        { period: "2020", values: gradient() },
+        { period: "2021", values: later },
+      ]),
+    );
+    // Per period one source for the global test (the run's seed) and one for local Moran.
+    const [moran, local] = [statisticSeed(7, "moran"), statisticSeed(7, "local")];
+    expect(run.map((s) => s.seed)).toEqual([moran, local, moran, local]);
+    const [first, second] = [run.slice(0, 2), run.slice(2, 4)];
+    expect(first[0].draws).toHaveLength(199 * 35); // 36 regions: the partners of positions 35 … 1 of each of the 199 shuffles
+    expect(first[1].draws.length).toBeGreaterThanOrEqual(199 * 4); // k_max = 4 neighbours sampled per permutation
+    expect(second[0].draws).toEqual(first[0].draws);
+    expect(second[1].draws).toEqual(first[1].draws);
+    // Another seed draws otherwise, so the equality above is not a property of any two sources.
+    const reseeded = drawsDuring(() => computePeriod(geometry, { ...params, seed: 8 }, "x", "2020", gradient()));
+    expect(reseeded[0].draws).not.toEqual(first[0].draws);
+
+    // Not the same regions: with one region missing in 2021, its draws are those of 35 regions.
+    const gap = gradient();
+    gap.set("r14", null);
+    const ragged = drawsDuring(() =>
+      computeIndicator(geometry, params, "x", [
+        { period: "2020", values: gradient() },
+        { period: "2021", values: gap },
+      ]),
+    );
+    expect(ragged[0].draws).toEqual(first[0].draws);
+    expect(ragged[2].draws).toHaveLength(199 * 34);
+    expect(ragged[2].draws.slice(0, 34)).not.toEqual(first[0].draws.slice(0, 34));
   });
 });
