@@ -4,7 +4,7 @@ import type { PanelLayoutName } from "./intake-types";
 export class ColumnMappingMemory extends Model<InferAttributes<ColumnMappingMemory>, InferCreationAttributes<ColumnMappingMemory>> {
   declare id: CreationOptional<number>;
   declare workspaceId: number;
-  /** sha256 hex of the normalised header (see lib/intake/actions.ts headerSignature). */
+  /** sha256 hex of the normalised header (see lib/intake/service.ts headerSignature). */
   declare headerSignature: string;
   declare layout: PanelLayoutName;
   declare mapping: Record<string, unknown>;

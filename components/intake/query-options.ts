@@ -1,6 +1,6 @@
 import { queryOptions } from "@tanstack/react-query";
 import { apiFetch } from "@/components/team/query-options";
-import type { BoundaryUploadPreview, CreatedVersion, PanelUploadPreview, UploadTicket, UploadView } from "@/lib/intake/actions";
+import type { BoundaryUploadPreview, CreatedVersion, PanelUploadPreview, UploadTicket, UploadView } from "@/lib/intake/service";
 import type { IndicatorMeta } from "@/lib/intake/published-panel";
 import type { IntakeOverview, VersionDetail } from "@/lib/intake/queries";
 import type { WeightsPreview } from "@/lib/geometry/weights-preview";

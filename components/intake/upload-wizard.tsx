@@ -5,7 +5,7 @@ import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useRef, useState } from "react";
 import { inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
 import { ConfirmDialog } from "@/components/ui/confirm-dialog";
-import type { BoundaryUploadPreview, PanelUploadPreview, UploadTicket } from "@/lib/intake/actions";
+import type { BoundaryUploadPreview, PanelUploadPreview, UploadTicket } from "@/lib/intake/service";
 import { headerPeriod } from "@/lib/intake/mapping";
 import { mismatchWarning, type CandidateMatch, type TargetSuggestion } from "@/lib/intake/version-target";
 import type { BoundarySetView, PanelView } from "@/lib/intake/queries";

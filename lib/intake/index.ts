@@ -1,6 +1,6 @@
 /**
  * Intake: pure, database-free checks of uploaded boundaries and panels.
- * The ingest (lib/intake queries/actions, worker) calls these and stores what they return.
+ * The ingest (lib/intake queries/service, worker) calls these and stores what they return.
  */
 export { Utf8StreamDecoder, type EncodingProblem, type EncodingSummary } from "./encoding";
 export { sniffDelimiter, sniffNewline, delimiterName, DELIMITERS, type Delimiter, type DelimiterGuess } from "./sniff";

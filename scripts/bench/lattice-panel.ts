@@ -13,7 +13,7 @@
  */
 import { createHash } from "node:crypto";
 import { authorizeMember, type MemberContext } from "@/lib/auth/guard";
-import { completeUpload, createBoundaryVersion, createPanelVersion, createUpload, publishVersion } from "@/lib/intake/actions";
+import { completeUpload, createBoundaryVersion, createPanelVersion, createUpload, publishVersion } from "@/lib/intake/service";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";
 

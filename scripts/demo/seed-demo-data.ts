@@ -25,7 +25,7 @@ import {
   publishVersion,
   saveIndicator,
   indicatorPatchSchema,
-} from "@/lib/intake/actions";
+} from "@/lib/intake/service";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";

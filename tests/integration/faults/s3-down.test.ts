@@ -7,7 +7,7 @@ import { putFailureMessage } from "@/components/intake/upload-file";
 import { requireMember, type MemberContext } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
-import { createBoundaryVersion } from "@/lib/intake/actions";
+import { createBoundaryVersion } from "@/lib/intake/service";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { runIntakeValidation } from "@/lib/intake/jobs";
 import { requireTestServices } from "@/tests/helpers/env";

@@ -1,4 +1,4 @@
-import { sha256OfStream } from "@/lib/intake/actions";
+import { sha256OfStream } from "@/lib/intake/service";
 import { StorageUnavailableError } from "@/lib/storage/errors";
 import { getObjectStream, putObject } from "@/lib/storage/s3";
 import { requireTestServices } from "@/tests/helpers/env";

@@ -2,7 +2,7 @@ import { QueryTypes } from "sequelize";
 import { requireMember, type MemberContext } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
-import { createUpload } from "@/lib/intake/actions";
+import { createUpload } from "@/lib/intake/service";
 import { getBoss, jobsSchema } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { QUEUE_SCHEDULES } from "@/lib/jobs/queues";

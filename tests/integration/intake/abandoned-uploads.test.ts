@@ -2,7 +2,7 @@ import { QueryTypes } from "sequelize";
 import { requireMember, type MemberContext } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
-import { completeUpload, createBoundaryVersion, createUpload, type UploadTicket } from "@/lib/intake/actions";
+import { completeUpload, createBoundaryVersion, createUpload, type UploadTicket } from "@/lib/intake/service";
 import { sweepAbandonedUploads } from "@/lib/intake/abandoned-uploads-sweep";
 import { headObject } from "@/lib/storage/s3";
 import { requireTestServices } from "@/tests/helpers/env";

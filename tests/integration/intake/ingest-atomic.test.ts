@@ -1,7 +1,7 @@
 import { QueryTypes } from "sequelize";
 import { authorizeMember } from "@/lib/auth/guard";
 import { db } from "@/lib/db";
-import { completeUpload, createBoundaryVersion, createPanelVersion, createUpload, publishVersion } from "@/lib/intake/actions";
+import { completeUpload, createBoundaryVersion, createPanelVersion, createUpload, publishVersion } from "@/lib/intake/service";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";

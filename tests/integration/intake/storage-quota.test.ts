@@ -6,7 +6,7 @@ import { POST as postUpload } from "@/app/api/workspaces/[slug]/intake/uploads/r
 import { POST as postComplete } from "@/app/api/workspaces/[slug]/intake/uploads/[uploadId]/complete/route";
 import { requireMember } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
-import { createBoundaryVersion, createUpload, createUploadSchema } from "@/lib/intake/actions";
+import { createBoundaryVersion, createUpload, createUploadSchema } from "@/lib/intake/service";
 import { workspaceStorageUsed } from "@/lib/intake/storage-quota";
 import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";

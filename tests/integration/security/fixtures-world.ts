@@ -5,7 +5,7 @@ import type { Role } from "@/lib/auth/roles";
 import { createInvitation } from "@/lib/auth/team";
 import { db } from "@/lib/db";
 import { saveSubscription } from "@/lib/digests/service";
-import { completeUpload, createUpload } from "@/lib/intake/actions";
+import { completeUpload, createUpload } from "@/lib/intake/service";
 import { runParamsInputSchema } from "@/lib/runs/schemas";
 import { resolveRunParams } from "@/lib/runs/service";
 import { insertRun } from "@/lib/runs/store";

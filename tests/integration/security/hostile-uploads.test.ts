@@ -3,7 +3,7 @@ import { POST as postUpload } from "@/app/api/workspaces/[slug]/intake/uploads/r
 import { POST as postComplete } from "@/app/api/workspaces/[slug]/intake/uploads/[uploadId]/complete/route";
 import { POST as postPanels } from "@/app/api/workspaces/[slug]/intake/panels/route";
 import { getSessionUser } from "@/lib/auth/session";
-import { MAX_UPLOAD_BYTES } from "@/lib/intake/actions";
+import { MAX_UPLOAD_BYTES } from "@/lib/intake/service";
 import { headObject, s3Client } from "@/lib/storage/s3";
 import { models } from "@/models";
 import { requireTestServices } from "@/tests/helpers/env";

@@ -4,7 +4,7 @@ import { POST as postRun } from "@/app/api/w/[slug]/runs/route";
 import { requireMember } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
-import { createBoundaryVersion, createPanelVersion } from "@/lib/intake/actions";
+import { createBoundaryVersion, createPanelVersion } from "@/lib/intake/service";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";

@@ -1,5 +1,5 @@
 import { memberRoute } from "@/lib/auth/route";
-import { createUpload, createUploadSchema, withIntakeErrors } from "@/lib/intake/actions";
+import { createUpload, createUploadSchema, withIntakeErrors } from "@/lib/intake/service";
 
 // Step 1 of an upload: a pending record and a presigned PUT URL (files over 200 MB are refused here, before any byte moves).
 export const POST = memberRoute({ capability: "data.curate", body: createUploadSchema }, async ({ member, body }) =>

@@ -1,6 +1,6 @@
 import { memberRoute } from "@/lib/auth/route";
 import { parseParams } from "@/lib/http/params";
-import { indicatorParamsSchema, indicatorPatchSchema, saveIndicator, withIntakeErrors } from "@/lib/intake/actions";
+import { indicatorParamsSchema, indicatorPatchSchema, saveIndicator, withIntakeErrors } from "@/lib/intake/service";
 
 // Indicator metadata (label, unit, description, source, direction) is curated by stewards.
 export const PUT = memberRoute({ capability: "data.curate", body: indicatorPatchSchema }, async ({ member, body, params }) =>

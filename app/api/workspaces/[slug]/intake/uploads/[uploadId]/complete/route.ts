@@ -1,6 +1,6 @@
 import { memberRoute } from "@/lib/auth/route";
 import { parseParams } from "@/lib/http/params";
-import { completeUpload, uploadParamsSchema, withIntakeErrors } from "@/lib/intake/actions";
+import { completeUpload, uploadParamsSchema, withIntakeErrors } from "@/lib/intake/service";
 
 // Step 2, after the browser's PUT: size and SHA-256 of the stored object are checked; a mismatch fails the upload.
 export const POST = memberRoute({ capability: "data.curate" }, async ({ member, params }) =>

@@ -1,6 +1,6 @@
 import { memberRoute } from "@/lib/auth/route";
 import { parseParams } from "@/lib/http/params";
-import { previewBoundaryUpload, previewPanelUpload, uploadParamsSchema, withIntakeErrors } from "@/lib/intake/actions";
+import { previewBoundaryUpload, previewPanelUpload, uploadParamsSchema, withIntakeErrors } from "@/lib/intake/service";
 import { models } from "@/models";
 
 // What the mapping step needs: a panel's header, delimiter and suggested (or remembered) mapping, or a boundary file's objects and id candidates.

@@ -1,7 +1,7 @@
 import { can } from "@/lib/auth/roles";
 import { jsonError, memberRoute } from "@/lib/auth/route";
 import { parseParams } from "@/lib/http/params";
-import { versionParamsSchema } from "@/lib/intake/actions";
+import { versionParamsSchema } from "@/lib/intake/service";
 import { versionDetail } from "@/lib/intake/queries";
 
 // One version with its validation report and diff. An unpublished version does not exist for economists and subscribers (404).

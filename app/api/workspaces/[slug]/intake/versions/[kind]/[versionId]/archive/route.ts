@@ -1,6 +1,6 @@
 import { memberRoute } from "@/lib/auth/route";
 import { parseParams } from "@/lib/http/params";
-import { archiveVersion, versionParamsSchema, withIntakeErrors } from "@/lib/intake/actions";
+import { archiveVersion, versionParamsSchema, withIntakeErrors } from "@/lib/intake/service";
 
 // Archives a validated or published version (stewards and managers); a wrong state answers 409 with the reason.
 export const POST = memberRoute({ capability: "data.curate" }, async ({ member, params }) =>
