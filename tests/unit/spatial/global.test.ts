@@ -147,9 +147,11 @@ describe("global Moran's I", () => {
     );
   });
 
-  test("the mean of I over 99,999 seeded permutations is near E[I] = −1/(n−1)", () => {
-    const perm = globalMoran(smallValues, smallW, { permutations: 99999, random: createRandomSource(5) }).permutation!;
-    expect(perm.mean).toBeCloseTo(-0.2, 2);
+  test("the mean of I over 99,999 seeded permutations is E[I] = −1/(n−1) within 4 standard errors of the mean", () => {
+    const result = globalMoran(smallValues, smallW, { permutations: 99999, random: createRandomSource(5) });
+    const perm = result.permutation!;
+    expect(result.expectedI).toBeCloseTo(-0.2, 15);
+    expect(Math.abs(perm.mean - result.expectedI)).toBeLessThan((4 * perm.sd) / Math.sqrt(99999));
   });
 
   test("inputs that must throw", () => {
@@ -194,8 +196,20 @@ describe("Geary's C and General G", () => {
     expect(gearyC(values, w, { permutations: 199, random: createRandomSource(8) }).permutation).toEqual(a.permutation);
     expect(a.permutation!.pLess).toBeGreaterThanOrEqual(1 / 200);
     const g = generalG(values, w, { permutations: 199, random: createRandomSource(8) });
-    expect(g.permutation!.mean).toBeCloseTo(g.expectedG, 2);
+    expect(generalG(values, w, { permutations: 199, random: createRandomSource(8) }).permutation).toEqual(g.permutation);
     expect(() => generalG(values.map((v, i) => (i === 3 ? -1 : v)), w)).toThrow(/non-negative/);
+  });
+
+  test("the mean of General G over 9,999 permutations is E[G] = S0/(n(n−1)) within 4 standard errors of the mean", () => {
+    // 5×5 rook lattice, binary: S0 = 80, n = 25 ⇒ E[G] = 80/600. The standard error of the mean of R
+    // draws is sd/√R ≈ 6.4e-5 here (0.05 % of E[G]), so an expectation off by 1 %, or S0/n² in place
+    // of S0/(n(n−1)) (4 % low), fails by far; a loose constant tolerance such as 0.005 would let both pass.
+    const w = latticeWeights(5, 5, "rook");
+    const R = 9999;
+    const g = generalG(inventedValues(25), w, { permutations: R, random: createRandomSource(8) });
+    const standardError = g.permutation!.sd / Math.sqrt(R);
+    expect(standardError).toBeLessThan(1e-3 * g.expectedG);
+    expect(Math.abs(g.permutation!.mean - g.expectedG)).toBeLessThan(4 * standardError);
   });
 });
 
