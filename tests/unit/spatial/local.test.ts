@@ -72,7 +72,7 @@ describe("local Moran's I", () => {
     expect(q.pseudoPLess!).toBeCloseTo(1 / 3, 2);
   });
 
-  test("quadrants come from the signs of z_i and of its lag; clusters need corrected significance", () => {
+  test("quadrants come from the signs of z_i and of its lag; a cluster needs its adjusted p at most α", () => {
     // Two blocks on a 4×4 lattice: high on the left half, low on the right half (invented).
     const x = Array.from({ length: 16 }, (_, i) => (i % 4 < 2 ? 10 + (i % 3) : 1 + (i % 2)));
     const w = rowStandardisedWeights(latticeWeights(4, 4, "rook"));
@@ -83,10 +83,59 @@ describe("local Moran's I", () => {
       if (r.cluster !== "not-significant") expect(r.cluster).toBe(r.quadrant);
       expect(r.cluster === "not-significant").toBe(!(r.adjustedP! <= 0.05));
     }
-    const strict = localMoran(x, w, { permutations: 999, random: createRandomSource(1), alpha: 0.05, correction: "bonferroni" });
-    const significant = (res: typeof result) => res.regions.filter((r) => r.cluster !== "not-significant").length;
-    expect(significant(strict)).toBeLessThanOrEqual(significant(result));
-    expect(strict.tests).toBe(16);
+  });
+
+  test("corrections over local results: with 20 regions significant uncorrected, FDR keeps 14 and Bonferroni 9, dropping the weakest", () => {
+    // 8×8 queen lattice: a high 3×3 block in one corner, a low one in the opposite corner, texture elsewhere
+    // (invented). 9,999 permutations, so the smallest two-sided p (0.0002) can pass Bonferroni over 64 tests.
+    const w = rowStandardisedWeights(latticeWeights(8, 8, "queen"));
+    const x = inventedValues(64).map((v, i) => {
+      const [r, c] = [Math.floor(i / 8), i % 8];
+      return (r < 3 && c < 3 ? 10 : r >= 5 && c >= 5 ? -10 : 0) + v;
+    });
+    const run = (correction: "none" | "fdr" | "bonferroni") =>
+      localMoran(x, w, { permutations: 9999, random: createRandomSource(11), alpha: 0.05, correction });
+    const [none, fdr, bonferroni] = [run("none"), run("fdr"), run("bonferroni")];
+    const significant = (res: typeof none) => new Set(res.regions.flatMap((r, i) => (r.cluster === "not-significant" ? [] : [i])));
+    const p = none.regions.map((r) => r.pseudoP!);
+    // The correction changes the adjusted p and the classes only: the same draws give the same pseudo p.
+    expect(fdr.regions.map((r) => r.pseudoP)).toEqual(p);
+    expect(bonferroni.regions.map((r) => r.pseudoP)).toEqual(p);
+    expect(bonferroni.tests).toBe(64);
+    expect(bonferroni.regions.map((r) => r.adjustedP)).toEqual(p.map((v) => Math.min(1, 64 * v)));
+
+    // Benjamini–Hochberg from its definition: reject every p ≤ p_(k), k the largest rank with p_(k) ≤ k·α/m.
+    const sorted = [...p].sort((a, b) => a - b);
+    let k = 0;
+    sorted.forEach((v, rank) => {
+      if (v <= ((rank + 1) * 0.05) / 64) k = rank + 1;
+    });
+    const bhBar = k > 0 ? sorted[k - 1] : -1;
+    const expectedFdr = new Set(p.flatMap((v, i) => (v <= bhBar ? [i] : [])));
+    const expectedBonferroni = new Set(p.flatMap((v, i) => (64 * v <= 0.05 ? [i] : [])));
+
+    const [s0, s1, s2] = [significant(none), significant(fdr), significant(bonferroni)];
+    expect([s0.size, s1.size, s2.size]).toEqual([20, 14, 9]);
+    expect(s1).toEqual(expectedFdr);
+    expect(s2).toEqual(expectedBonferroni);
+    // Nested: Bonferroni ⊂ FDR ⊂ uncorrected, and every region dropped has a larger p than every region kept.
+    for (const i of s2) expect(s1.has(i)).toBe(true);
+    for (const i of s1) expect(s0.has(i)).toBe(true);
+    const droppedByFdr = [...s0].filter((i) => !s1.has(i));
+    const droppedByBonferroni = [...s1].filter((i) => !s2.has(i));
+    expect(droppedByFdr).toHaveLength(6);
+    expect(droppedByBonferroni).toHaveLength(5);
+    expect(Math.min(...droppedByFdr.map((i) => p[i]))).toBeGreaterThan(Math.max(...[...s1].map((i) => p[i])));
+    expect(Math.min(...droppedByBonferroni.map((i) => p[i]))).toBeGreaterThan(Math.max(...[...s2].map((i) => p[i])));
+    // A dropped region keeps its quadrant but is no longer a cluster; a kept one is the cluster of its quadrant.
+    for (const i of [...droppedByFdr, ...droppedByBonferroni]) {
+      expect(bonferroni.regions[i].cluster).toBe("not-significant");
+      expect(bonferroni.regions[i].quadrant).toBe(none.regions[i].quadrant);
+      expect(none.regions[i].cluster).toBe(none.regions[i].quadrant);
+    }
+    for (const i of s2) expect(bonferroni.regions[i].cluster).toBe(none.regions[i].quadrant);
+    // Both corners survive Bonferroni.
+    expect(new Set([...s2].map((i) => bonferroni.regions[i].cluster))).toEqual(new Set(["HH", "LL"]));
   });
 
   test("islands get no inference and the class no-neighbours; they are not counted as tests", () => {
