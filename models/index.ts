@@ -1,34 +1,60 @@
-import { DataTypes } from "sequelize";
-import { db } from "@/lib/db";
-import { ROLES } from "@/lib/auth/roles";
+import { DataTypes, type Sequelize } from "sequelize";
 import { AuditEvent } from "./audit-event";
-import { DigestDelivery } from "./digest-delivery";
-import { DigestSubscription } from "./digest-subscription";
-import { DIGEST_CADENCES, DIGEST_DELIVERY_STATUSES, DIGEST_EMPTY_POLICIES, DIGEST_SCOPES, DIGEST_THRESHOLDS } from "./digest-types";
 import { BoundarySet } from "./boundary-set";
 import { BoundaryVersion } from "./boundary-version";
 import { ColumnMappingMemory } from "./column-mapping";
 import { Indicator } from "./indicator";
 import { Panel } from "./panel";
 import { PanelVersion } from "./panel-version";
-import { Region } from "./region";
 import { Upload } from "./upload";
 import { UPLOAD_KINDS, UPLOAD_STATES, VERSION_STATES } from "./intake-types";
 import { Invitation } from "./invitation";
 import { LoginAttempt } from "./login-attempt";
 import { Membership } from "./membership";
+import { ROLES } from "./roles";
 import { User } from "./user";
 import { Workspace } from "./workspace";
-import { Run, RunPiece, RunResult, initRunModels } from "./run";
+import { Run, initRunModel } from "./run";
 
 // Columns mirror migrations/20261201000200-* onward; the schema itself is only
-// ever changed there (never sync()). A module-level flag rather than a global:
-// after a dev reload the classes are new objects and must be initialised again.
-let ready = false;
+// ever changed there (never sync()). Tables without a model here (regions,
+// run_pieces, run_results, digest_subscriptions, digest_deliveries, …) are
+// read and written with SQL by their domain in lib/.
+//
+// The models take their Sequelize instance from the caller (lib/models.ts
+// passes lib/db.ts db()), so nothing here imports lib/. A module-level record
+// rather than a global: after a dev reload the classes are new objects and
+// must be initialised again.
+let definedOn: Sequelize | null = null;
 
-function initModels(): void {
-  if (ready) return;
-  const sequelize = db();
+/** Defines every model and association on `sequelize` (once per instance) and returns the models. */
+export function defineModels(sequelize: Sequelize) {
+  if (definedOn !== sequelize) {
+    initModels(sequelize);
+    definedOn = sequelize;
+  }
+  return {
+    User,
+    Workspace,
+    Membership,
+    Invitation,
+    AuditEvent,
+    LoginAttempt,
+    Indicator,
+    BoundarySet,
+    BoundaryVersion,
+    Panel,
+    PanelVersion,
+    ColumnMappingMemory,
+    Upload,
+    Run,
+  };
+}
+
+/** What lib/models.ts models() returns. */
+export type ModelRegistry = ReturnType<typeof defineModels>;
+
+function initModels(sequelize: Sequelize): void {
   const common = { sequelize, underscored: true };
 
   User.init(
@@ -199,17 +225,6 @@ function initModels(): void {
     { ...common, tableName: "boundary_versions", modelName: "BoundaryVersion" },
   );
 
-  Region.init(
-    {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      boundaryVersionId: { type: DataTypes.INTEGER, allowNull: false },
-      code: { type: DataTypes.STRING(120), allowNull: false },
-      name: { type: DataTypes.STRING(300), allowNull: true },
-      attributes: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
-    },
-    { ...common, tableName: "regions", modelName: "Region", timestamps: false },
-  );
-
   Panel.init(
     {
       id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
@@ -278,48 +293,6 @@ function initModels(): void {
     { ...common, tableName: "uploads", modelName: "Upload" },
   );
 
-  // Digests (migrations/20261201000600-*).
-  const oneOf = (values: readonly string[]) => ({ isIn: [values as unknown as string[]] });
-  DigestSubscription.init(
-    {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      userId: { type: DataTypes.INTEGER, allowNull: false },
-      workspaceId: { type: DataTypes.INTEGER, allowNull: false },
-      cadence: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "after_run", validate: oneOf(DIGEST_CADENCES) },
-      scope: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "all", validate: oneOf(DIGEST_SCOPES) },
-      indicatorCodes: { type: DataTypes.ARRAY(DataTypes.STRING(120)), allowNull: false, defaultValue: [] },
-      threshold: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "every_change", validate: oneOf(DIGEST_THRESHOLDS) },
-      emptyPolicy: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "skip", validate: oneOf(DIGEST_EMPTY_POLICIES) },
-      active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
-      unsubscribedAt: { type: DataTypes.DATE, allowNull: true },
-      lastDigestAt: { type: DataTypes.DATE, allowNull: true },
-      lastRunId: { type: DataTypes.INTEGER, allowNull: true },
-      createdAt: DataTypes.DATE,
-      updatedAt: DataTypes.DATE,
-    },
-    { ...common, tableName: "digest_subscriptions", modelName: "DigestSubscription" },
-  );
-
-  DigestDelivery.init(
-    {
-      id: { type: DataTypes.BIGINT, autoIncrement: true, primaryKey: true },
-      subscriptionId: { type: DataTypes.INTEGER, allowNull: false },
-      idempotencyKey: { type: DataTypes.STRING(200), allowNull: false, unique: true },
-      runId: { type: DataTypes.INTEGER, allowNull: true },
-      status: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "queued", validate: oneOf(DIGEST_DELIVERY_STATUSES) },
-      messageId: { type: DataTypes.STRING(400), allowNull: true },
-      attempts: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
-      error: { type: DataTypes.TEXT, allowNull: true },
-      skippedReason: { type: DataTypes.TEXT, allowNull: true },
-      coveredRunId: { type: DataTypes.INTEGER, allowNull: true },
-      sentAt: { type: DataTypes.DATE, allowNull: true },
-      summary: { type: DataTypes.JSONB, allowNull: true },
-      createdAt: DataTypes.DATE,
-      updatedAt: DataTypes.DATE,
-    },
-    { ...common, tableName: "digest_deliveries", modelName: "DigestDelivery" },
-  );
-
   // Associations, all in one place.
   User.hasMany(Membership, { foreignKey: "userId", as: "memberships" });
   Membership.belongsTo(User, { foreignKey: "userId", as: "user" });
@@ -335,51 +308,18 @@ function initModels(): void {
   Workspace.hasMany(BoundarySet, { foreignKey: "workspaceId", as: "boundarySets" });
   BoundarySet.hasMany(BoundaryVersion, { foreignKey: "boundarySetId", as: "versions" });
   BoundaryVersion.belongsTo(BoundarySet, { foreignKey: "boundarySetId", as: "boundarySet" });
-  BoundaryVersion.hasMany(Region, { foreignKey: "boundaryVersionId", as: "regions" });
   Workspace.hasMany(Panel, { foreignKey: "workspaceId", as: "panels" });
   Panel.belongsTo(BoundarySet, { foreignKey: "boundarySetId", as: "boundarySet" });
   Panel.hasMany(PanelVersion, { foreignKey: "panelId", as: "versions" });
   PanelVersion.belongsTo(Panel, { foreignKey: "panelId", as: "panel" });
   PanelVersion.belongsTo(BoundaryVersion, { foreignKey: "boundaryVersionId", as: "boundaryVersion" });
-  DigestSubscription.belongsTo(User, { foreignKey: "userId", as: "user" });
-  DigestSubscription.belongsTo(Workspace, { foreignKey: "workspaceId", as: "workspace" });
-  DigestSubscription.hasMany(DigestDelivery, { foreignKey: "subscriptionId", as: "deliveries" });
-  DigestDelivery.belongsTo(DigestSubscription, { foreignKey: "subscriptionId", as: "subscription" });
 
-  initRunModels(sequelize);
-
-  ready = true;
-}
-
-/** Initialises the models on first use and returns them. */
-export function models() {
-  initModels();
-  return {
-    User,
-    Workspace,
-    Membership,
-    Invitation,
-    AuditEvent,
-    LoginAttempt,
-    Indicator,
-    BoundarySet,
-    BoundaryVersion,
-    Region,
-    Panel,
-    PanelVersion,
-    ColumnMappingMemory,
-    Upload,
-    DigestSubscription,
-    DigestDelivery,
-    Run,
-    RunPiece,
-    RunResult,
-  };
+  initRunModel(sequelize);
 }
 
 export { AuditEvent, Invitation, LoginAttempt, Membership, User, Workspace };
-export { BoundarySet, BoundaryVersion, ColumnMappingMemory, Indicator, Panel, PanelVersion, Region, Upload };
-export { DigestDelivery, DigestSubscription };
-export { Run, RunPiece, RunResult };
+export { BoundarySet, BoundaryVersion, ColumnMappingMemory, Indicator, Panel, PanelVersion, Upload };
+export { Run };
 export * from "./intake-types";
 export * from "./digest-types";
+export * from "./roles";

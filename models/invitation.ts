@@ -1,5 +1,5 @@
 import { Model, type CreationOptional, type InferAttributes, type InferCreationAttributes } from "sequelize";
-import type { Role } from "@/lib/auth/roles";
+import type { Role } from "./roles";
 
 export class Invitation extends Model<InferAttributes<Invitation>, InferCreationAttributes<Invitation>> {
   declare id: CreationOptional<number>;

@@ -1,5 +1,5 @@
 import { Model, type CreationOptional, type InferAttributes, type InferCreationAttributes } from "sequelize";
-import type { Role } from "@/lib/auth/roles";
+import type { Role } from "./roles";
 
 export class Membership extends Model<InferAttributes<Membership>, InferCreationAttributes<Membership>> {
   declare id: CreationOptional<number>;

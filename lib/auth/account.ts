@@ -1,5 +1,5 @@
 import { db } from "@/lib/db";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { audit } from "./audit";
 import type { SessionUser } from "./session";
 import { hashPassword, verifyPassword } from "./passwords";

@@ -1,5 +1,5 @@
 import type { Transaction } from "sequelize";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import type { AuditAction } from "@/models/audit-event";
 import type { MemberContext } from "./guard";
 

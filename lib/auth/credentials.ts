@@ -1,5 +1,5 @@
 import { env } from "@/lib/config/env";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { normaliseEmail } from "@/models/user";
 import { audit } from "./audit";
 import { verifyDeviceCookie } from "./device-cookie";

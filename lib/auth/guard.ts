@@ -1,5 +1,5 @@
 import { SLUG_PATTERN } from "@/lib/http/params";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { can, isRole, type Capability, type Role } from "./roles";
 import { ACCESS_MESSAGES, AccessError } from "./errors";
 import { getSessionUser, type SessionUser } from "./session";

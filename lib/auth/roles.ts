@@ -1,8 +1,10 @@
 // Roles and capabilities of the roles table (docs/guarantees.md). This file is the single source:
 // pages, route handlers, server actions and the nav all ask `can()`.
+// The role list itself is models/roles.ts, so the models need nothing from lib/.
 
-export const ROLES = ["manager", "steward", "economist", "subscriber"] as const;
-export type Role = (typeof ROLES)[number];
+import { ROLES, type Role } from "@/models/roles";
+
+export { ROLES, type Role };
 
 export const CAPABILITIES = [
   "results.view", // see published results, timelines, maps

@@ -1,7 +1,7 @@
 import { QueryTypes, type Transaction } from "sequelize";
 import { db } from "@/lib/db";
 import { env } from "@/lib/config/env";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { normaliseEmail } from "@/models/user";
 import { audit } from "./audit";
 import { ConflictError, NotFoundError } from "./errors";

@@ -1,5 +1,5 @@
 import { Op, type WhereOptions } from "sequelize";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import type { LoginAttempt } from "@/models/login-attempt";
 
 // Sign-in throttling, stored in login_attempts so it holds across restarts and

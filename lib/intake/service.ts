@@ -24,7 +24,7 @@ import type { MemberContext } from "@/lib/auth/guard";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { env } from "@/lib/config/env";
 import { copyObject, deleteObject, getObjectBytes, getObjectStream, headObject, presignPut } from "@/lib/storage/s3";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import type { UploadKind } from "@/models/intake-types";
 import { boundaryIds, inspectBoundaries, loadBoundaries, BoundaryError, type BoundarySummary } from "./boundaries";
 import { id, idText, text, uuidText } from "@/lib/http/params";

@@ -3,7 +3,7 @@ import { audit } from "@/lib/auth/audit";
 import { ConflictError } from "@/lib/auth/errors";
 import type { SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import type { CreateWorkspaceInput } from "./schemas";
 
 export type CreatedWorkspace = { id: number; slug: string; name: string };

@@ -20,7 +20,7 @@ import { db } from "../../lib/db";
 import { closeIntakePool } from "../../lib/intake/ingest-db";
 import { ingestBoundaryVersion } from "../../lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "../../lib/intake/ingest-panel";
-import { models } from "../../models";
+import { models } from "../../lib/models";
 
 function args(): { rows: number; json: boolean } {
   const argv = process.argv.slice(2);

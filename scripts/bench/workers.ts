@@ -33,7 +33,7 @@ import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { runParamsInputSchema } from "@/lib/runs/schemas";
 import { startRun } from "@/lib/runs/service";
 import { closeS3 } from "@/lib/storage/s3";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { publishLatticePanel } from "./lattice-panel";
 import { clusterCpuSeconds, postmasterOf, processCpuSeconds } from "./cpu-time";
 import { startWorkerProcess, stopWorkerProcess, type WorkerProcess } from "./worker-processes";

@@ -30,7 +30,7 @@ import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";
 import { closeS3 } from "@/lib/storage/s3";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 
 const ROOT = path.resolve(__dirname, "..", "..");
 const DATA = path.join(ROOT, "seeders", "data", "veldmark");

@@ -1,7 +1,7 @@
 import { randomBytes } from "node:crypto";
 import { hashPassword } from "@/lib/auth/passwords";
 import type { Role } from "@/lib/auth/roles";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 
 // Each test file builds its own users and workspace with unique names, so
 // files can run in any order against the shared test database.

@@ -11,7 +11,7 @@ import { getSessionUser } from "@/lib/auth/session";
 import { createInvitation, viewInvitation } from "@/lib/auth/team";
 import { hashToken } from "@/lib/auth/tokens";
 import { db } from "@/lib/db";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { firstLink, waitForMailTo } from "@/tests/helpers/mail";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices, uniqueAddress } from "@/tests/helpers/env";

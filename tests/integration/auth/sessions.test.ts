@@ -203,7 +203,7 @@ describe("sessions end for real", () => {
   it("refuses a session's cookie once its user is removed from their last workspace, not before", async () => {
     const first = await makeWorkspace({ boss: "manager", me: "economist" });
     const second = await makeWorkspace({ boss: "manager" });
-    const { Membership } = (await import("@/models")).models();
+    const { Membership } = (await import("@/lib/models")).models();
     const me = first.users.me;
     await Membership.create({ workspaceId: second.workspace.id, userId: me.id, role: "subscriber" });
     const jar = (await signIn(me.email, PASSWORD)).jar;

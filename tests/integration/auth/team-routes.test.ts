@@ -5,7 +5,7 @@ import { POST as postInvitation } from "@/app/api/workspaces/[slug]/invitations/
 import { GET as getAudit } from "@/app/api/workspaces/[slug]/audit/route";
 import { getSessionUser, type SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
 import { makeWorkspace } from "./fixtures";

@@ -16,7 +16,7 @@ import { signUnsubscribeToken } from "@/lib/digests/token";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import type { CapturedMail } from "@/lib/mail/outbox";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
 import { waitForMailTo } from "@/tests/helpers/mail";

@@ -7,7 +7,7 @@ import { POST as postPanels } from "@/app/api/workspaces/[slug]/intake/panels/ro
 import { PUT as putDigest } from "@/app/api/w/[slug]/digests/route";
 import { POST as postSendNow } from "@/app/api/w/[slug]/digests/send-now/route";
 import { db } from "@/lib/db";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { uniqueAddress } from "@/tests/helpers/env";
 import { waitForMailTo } from "@/tests/helpers/mail";
 import { makeUser } from "@/tests/integration/auth/fixtures";

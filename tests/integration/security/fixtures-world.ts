@@ -11,7 +11,7 @@ import { resolveRunParams } from "@/lib/runs/service";
 import { insertRun } from "@/lib/runs/store";
 import { runPiece } from "@/lib/runs/worker";
 import { putObject } from "@/lib/storage/s3";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { uniqueAddress } from "@/tests/helpers/env";
 import { makeUser, makeWorkspace } from "@/tests/integration/auth/fixtures";
 import { gridGeoJson, sha256 } from "@/tests/integration/intake/fixtures";

@@ -11,7 +11,7 @@ import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { catalogueRowsOf, type CatalogueAnswer } from "@/lib/runs/catalogue-wire";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { waitFor } from "@/tests/helpers/wait";

@@ -5,7 +5,7 @@ import { POST as postPanels } from "@/app/api/workspaces/[slug]/intake/panels/ro
 import { getSessionUser } from "@/lib/auth/session";
 import { MAX_UPLOAD_BYTES } from "@/lib/intake/service";
 import { headObject, s3Client } from "@/lib/storage/s3";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { makeWorkspace } from "../auth/fixtures";

@@ -1,7 +1,7 @@
 import { memberRoute } from "@/lib/auth/route";
 import { parseParams } from "@/lib/http/params";
 import { previewBoundaryUpload, previewPanelUpload, uploadParamsSchema, withIntakeErrors } from "@/lib/intake/service";
-import { models } from "@/models";
+import { models } from "@/lib/models";
 
 // What the mapping step needs: a panel's header, delimiter and suggested (or remembered) mapping, or a boundary file's objects and id candidates.
 export const GET = memberRoute({ capability: "data.curate" }, async ({ member, params }) =>
