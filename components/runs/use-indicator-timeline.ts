@@ -1,6 +1,7 @@
 "use client";
 
 import { useQuery } from "@tanstack/react-query";
+import { idFromText } from "@/lib/http/params";
 import { timelineQuery } from "./query-options";
 import { useUrlParams } from "./use-url-params";
 
@@ -12,8 +13,8 @@ import { useUrlParams } from "./use-url-params";
 export function useIndicatorTimeline(slug: string, indicators: { code: string; label: string }[]) {
   const url = useUrlParams();
   const indicator = url.params.get("indicator") ?? indicators[0]?.code ?? "";
-  const runParam = url.params.get("run");
-  const run = runParam && /^\d+$/.test(runParam) ? Number(runParam) : null;
+  // A run number as the API accepts it (lib/http/params.ts); anything else means the latest run.
+  const run = idFromText(url.params.get("run"));
   const timeline = useQuery(timelineQuery(slug, indicator, run));
   const periods = timeline.data?.points.map((p) => p.period) ?? [];
   return { ...url, indicator, run, timeline, periods, runId: timeline.data?.run.id ?? run };

@@ -1,4 +1,5 @@
 import { db } from "@/lib/db";
+import { HttpError } from "@/lib/http/errors";
 import { models } from "@/lib/models";
 import { audit } from "./audit";
 import type { SessionUser } from "./session";
@@ -9,13 +10,13 @@ import { checkThrottle, recordAttempt } from "./throttle";
 
 // The signed-in user's own account, outside any workspace.
 
-export class AccountError extends Error {
+export class AccountError extends HttpError {
   constructor(
-    readonly status: 400 | 401 | 429,
+    override readonly status: 400 | 401 | 429,
     message: string,
     readonly field: string | null = null,
   ) {
-    super(message);
+    super(status, message, { field });
     this.name = "AccountError";
   }
 }

@@ -4,7 +4,7 @@ import { env } from "@/lib/config/env";
 import { models } from "@/lib/models";
 import { normaliseEmail } from "@/models/user";
 import { audit } from "./audit";
-import { ConflictError, NotFoundError } from "./errors";
+import { ConflictError, HttpError, NotFoundError } from "@/lib/http/errors";
 import type { MemberContext } from "./guard";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { hashPassword } from "./passwords";
@@ -325,13 +325,13 @@ export const INVITATION_MESSAGES: Record<Exclude<InvitationState, "pending">, st
   unknown: "This invitation link is not valid. Check that you copied the whole link from the e-mail.",
 };
 
-export class InvitationError extends Error {
+export class InvitationError extends HttpError {
   constructor(
-    readonly status: 400 | 401 | 403 | 409 | 410,
+    override readonly status: 400 | 401 | 403 | 409 | 410,
     message: string,
     readonly field: string | null = null,
   ) {
-    super(message);
+    super(status, message, { field });
     this.name = "InvitationError";
   }
 }

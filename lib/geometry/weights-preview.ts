@@ -4,6 +4,7 @@
  * histogram and the islands. Server-only; does not authorise.
  */
 import { z } from "zod";
+import { InputError } from "@/lib/http/errors";
 import { regionCentroids, summariseWeights, weightsFromTopology } from "@/lib/spatial";
 import { loadBoundaryTopology } from "./boundary-topology";
 
@@ -31,18 +32,29 @@ export interface WeightsPreview {
   band: number | null;
 }
 
+/** The engine names the problem (k too large for the number of regions, …): a 422 naming the rule. */
+function refusedRule<T>(work: () => T): T {
+  try {
+    return work();
+  } catch (err) {
+    throw new InputError(err instanceof Error ? err.message : String(err), "rule", 422);
+  }
+}
+
 /**
  * Neighbours of a boundary version under a weights rule, for the Boundaries
  * screen: centroids, links, the neighbour-count histogram and the islands.
- * @throws naming the rule when it is not one of queen, rook, knn:K, band, band:D.
+ * @throws InputError (422, field `rule`) naming the rule when it is not one of
+ * queen, rook, knn:K, band, band:D, or the engine refuses it for these
+ * boundaries (k too large for the number of regions, …).
  */
 export async function boundaryWeightsPreview(boundaryVersionId: number, rule: string): Promise<WeightsPreview> {
-  if (!PREVIEW_RULES.test(rule)) throw new Error(`unknown weights rule '${rule}'; use queen, rook, knn:K (K from 1 to 99), band or band:D`);
+  if (!PREVIEW_RULES.test(rule)) throw new InputError(`unknown weights rule '${rule}'; use queen, rook, knn:K (K from 1 to 99), band or band:D`, "rule", 422);
   const boundaries = await loadBoundaryTopology(boundaryVersionId);
   const options = { object: boundaries.objectName, idProperty: boundaries.idProperty };
-  const weights = weightsFromTopology(boundaries.topology, rule, options);
-  const points = regionCentroids(boundaries.topology, options);
-  const summaryW = summariseWeights(weights);
+  const weights = refusedRule(() => weightsFromTopology(boundaries.topology, rule, options));
+  const points = refusedRule(() => regionCentroids(boundaries.topology, options));
+  const summaryW = refusedRule(() => summariseWeights(weights));
   const seen = new Set<string>();
   const links: [number, number][] = [];
   for (let i = 0; i < weights.ids.length; i++) {

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { badRequest } from "./errors";
 
 // zod building blocks for what arrives at the edge (path segments, search
 // parameters, JSON bodies), so every route refuses the same bad input with a
@@ -60,6 +61,12 @@ export function idText(message = `must be a whole number from 1 to ${PG_INT4_MAX
     .refine((n) => n <= PG_INT4_MAX, message);
 }
 
+/** A row id read from URL text (e.g. `?run=7` in the browser) as the number, or null when it is not one by {@link idText}. */
+export function idFromText(value: string | null | undefined): number | null {
+  const parsed = idText().safeParse(value);
+  return parsed.success ? parsed.data : null;
+}
+
 /** A UUID (upload ids) in a URL or body, any case. */
 export function uuidText(message = "must be an id of the form 3f1c2b4e-9a8d-4c7b-8e6f-5a4b3c2d1e0f") {
   return z.string({ error: message }).regex(/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i, message);
@@ -69,17 +76,6 @@ export function uuidText(message = "must be an id of the form 3f1c2b4e-9a8d-4c7b
 export const SLUG_PATTERN = /^[a-z0-9][a-z0-9-]{0,63}$/;
 
 export type RouteParams = Record<string, string | string[] | undefined>;
-
-/** A 400 naming the first bad field: `{ error: "field: message", field, issues }`. */
-export function badRequest(error: z.ZodError): Response {
-  const first = error.issues[0];
-  const field = first?.path.map(String).join(".") || null;
-  const message = first ? (field ? `${field}: ${first.message}` : first.message) : "The request is not valid.";
-  return Response.json(
-    { error: message, field, issues: error.issues.map((i) => ({ field: i.path.map(String).join("."), message: i.message })) },
-    { status: 400 },
-  );
-}
 
 /** Path parameters through `schema`; a 400 naming the parameter when one does not fit. */
 export function parseParams<S extends z.ZodType>(params: RouteParams, schema: S): { ok: true; value: z.output<S> } | { ok: false; response: Response } {
@@ -91,4 +87,15 @@ export function parseParams<S extends z.ZodType>(params: RouteParams, schema: S)
 export function parseIdParam(params: RouteParams, name: string): { ok: true; value: number } | { ok: false; response: Response } {
   const parsed = parseParams(params, z.object({ [name]: idText() }));
   return parsed.ok ? { ok: true, value: parsed.value[name] as number } : parsed;
+}
+
+/** Reads a URL's search parameters into a plain object (absent keys stay absent, so defaults apply). */
+export function searchObject(url: string): Record<string, string> {
+  return Object.fromEntries(new URL(url).searchParams.entries());
+}
+
+/** The request's search parameters through `schema`; a 400 naming the parameter when one does not fit. */
+export function parseSearch<S extends z.ZodType>(request: Request, schema: S): { ok: true; value: z.output<S> } | { ok: false; response: Response } {
+  const parsed = schema.safeParse(searchObject(request.url));
+  return parsed.success ? { ok: true, value: parsed.data } : { ok: false, response: badRequest(parsed.error) };
 }

@@ -19,7 +19,7 @@ import { Op, QueryTypes } from "sequelize";
 import { z } from "zod";
 import { db } from "@/lib/db";
 import { auditMember, versionTarget } from "@/lib/auth/audit";
-import { ConflictError, NotFoundError } from "@/lib/auth/errors";
+import { ConflictError, InputError, NotFoundError } from "@/lib/http/errors";
 import type { MemberContext } from "@/lib/auth/guard";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { env } from "@/lib/config/env";
@@ -31,7 +31,7 @@ import { id, idText, text, uuidText } from "@/lib/http/params";
 import { fileIndicatorCodes, indicatorFromFileName, normaliseHeader } from "./mapping";
 import { readPanelHeader, readPanelSample, type PanelPreview } from "./preview";
 import { columnMappingSchema, decimalSchema, type ColumnMapping } from "./schemas";
-import { StorageQuotaError, lockWorkspaceQuota, quotaRefusal, workspaceStorageUsed } from "./storage-quota";
+import { lockWorkspaceQuota, quotaRefusal, workspaceStorageUsed } from "./storage-quota";
 import { versionFileKey } from "./version-files";
 import { suggestTarget, type TargetSuggestion } from "./version-target";
 import { boundaryTargetCandidates, panelTargetCandidates } from "./version-target-queries";
@@ -42,25 +42,11 @@ export const MAX_UPLOAD_BYTES = 200 * 1024 * 1024;
 export const UPLOAD_URL_SECONDS = 3600;
 
 /** A request that is well-formed JSON but cannot be accepted; `field` names the culprit (HTTP 400). */
-export class IntakeInputError extends Error {
-  readonly status = 400;
-  constructor(
-    message: string,
-    readonly field: string | null = null,
-  ) {
-    super(message);
+export class IntakeInputError extends InputError {
+  constructor(message: string, field: string | null = null) {
+    super(message, field);
     this.name = "IntakeInputError";
   }
-}
-
-/** Maps intake errors to responses; returns null for anything the generic handler should see. */
-export function intakeErrorResponse(error: unknown): Response | null {
-  if (error instanceof IntakeInputError) return Response.json({ error: error.message, field: error.field }, { status: 400 });
-  if (error instanceof StorageQuotaError) {
-    return Response.json({ error: error.message, field: "size", usedBytes: error.usedBytes, quotaBytes: error.quotaBytes }, { status: error.status });
-  }
-  if (error instanceof ConflictError || error instanceof NotFoundError) return Response.json({ error: error.message }, { status: error.status });
-  return null;
 }
 
 // ---------------------------------------------------------------- schemas
@@ -714,15 +700,4 @@ export async function saveIndicator(member: MemberContext, code: string, patch: 
     await auditMember(member, { action: "indicator.updated", target: `indicator "${trimmed}"`, detail: { code: trimmed, created, changed } }, transaction);
     return { code: row.code, label: row.label, unit: row.unit, description: row.description, source: row.source, higherIsBetter: row.higherIsBetter };
   });
-}
-
-/** Runs a route handler's work, turning intake input errors into 400s; anything else goes to memberRoute's handler. */
-export async function withIntakeErrors(work: () => Promise<Response>): Promise<Response> {
-  try {
-    return await work();
-  } catch (error) {
-    const response = intakeErrorResponse(error);
-    if (response) return response;
-    throw error;
-  }
 }

@@ -9,18 +9,18 @@
  */
 import { QueryTypes, type Transaction } from "sequelize";
 import { db } from "@/lib/db";
+import { HttpError } from "@/lib/http/errors";
 
 const MB = 1024 * 1024;
 
 /** An upload that would take the workspace over its quota (HTTP 413). */
-export class StorageQuotaError extends Error {
-  readonly status = 413;
+export class StorageQuotaError extends HttpError {
   constructor(
     message: string,
     readonly usedBytes: number,
     readonly quotaBytes: number,
   ) {
-    super(message);
+    super(413, message, { field: "size", usedBytes, quotaBytes });
     this.name = "StorageQuotaError";
   }
 }

@@ -5,7 +5,7 @@
  */
 import { loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
 import { loadPanelMatrix } from "@/lib/intake/published-panel";
-import { NotFoundError } from "@/lib/auth/errors";
+import { NotFoundError } from "@/lib/http/errors";
 import { clusterTransitionTable, comparePeriods, robustnessStrip, type ClusterTransitionTable, type PeriodComparison, type RobustnessEntry } from "./compare";
 import { storedResult, type RunSummary } from "./queries";
 import { geometryFor } from "./worker";

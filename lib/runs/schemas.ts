@@ -160,8 +160,3 @@ export const timelineQuerySchema = z.object({ indicator: text({ min: 1, max: 120
 export const periodQuerySchema = timelineQuerySchema.extend({ period });
 export const compareQuerySchema = timelineQuerySchema.extend({ a: period, b: period });
 export const geometryQuerySchema = z.object({ run: runNumber });
-
-/** Reads URLSearchParams into a plain object (absent keys stay absent, so defaults apply). */
-export function searchObject(url: string): Record<string, string> {
-  return Object.fromEntries(new URL(url).searchParams.entries());
-}

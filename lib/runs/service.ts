@@ -4,7 +4,7 @@
  * trusted script (the demo seed, benchmarks).
  */
 import { audit } from "@/lib/auth/audit";
-import { ConflictError, NotFoundError } from "@/lib/auth/errors";
+import { ConflictError, InputError, NotFoundError } from "@/lib/http/errors";
 import { getBoss } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
@@ -18,13 +18,9 @@ import { weightsProblem } from "./weights-check";
 import { runLabel, runName } from "./label";
 
 /** A request that is well-formed but names something the panel version does not have (HTTP 422). */
-export class RunInputError extends Error {
-  readonly status = 422;
-  constructor(
-    message: string,
-    readonly field: string,
-  ) {
-    super(message);
+export class RunInputError extends InputError {
+  constructor(message: string, field: string) {
+    super(message, field, 422);
     this.name = "RunInputError";
   }
 }

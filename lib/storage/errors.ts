@@ -1,4 +1,4 @@
-// Kept apart from s3.ts so that lib/auth/route.ts can map the error to a 503
+// Kept apart from s3.ts so that errorResponse (lib/http/route.ts) can map the error to a 503
 // without pulling the AWS SDK into every route.
 import { unavailableDigest } from "@/lib/service-unavailable";
 

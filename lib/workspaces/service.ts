@@ -1,6 +1,6 @@
 import { UniqueConstraintError } from "sequelize";
 import { audit } from "@/lib/auth/audit";
-import { ConflictError } from "@/lib/auth/errors";
+import { ConflictError } from "@/lib/http/errors";
 import type { SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { models } from "@/lib/models";

@@ -1,5 +1,6 @@
 import { requireUser } from "@/lib/auth/guard";
-import { errorResponse, invalidBody, jsonError } from "@/lib/auth/route";
+import { badRequest, jsonError } from "@/lib/http/errors";
+import { errorResponse } from "@/lib/http/route";
 import { createWorkspaceSchema } from "@/lib/workspaces/schemas";
 import { createWorkspace } from "@/lib/workspaces/service";
 
@@ -15,7 +16,7 @@ export async function POST(request: Request): Promise<Response> {
       return jsonError(400, "The request body is not valid JSON.", { field: null });
     }
     const parsed = createWorkspaceSchema.safeParse(raw);
-    if (!parsed.success) return invalidBody(parsed.error);
+    if (!parsed.success) return badRequest(parsed.error);
     const created = await createWorkspace(user, parsed.data);
     return Response.json({ slug: created.slug, name: created.name }, { status: 201 });
   } catch (error) {

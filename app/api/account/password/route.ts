@@ -1,7 +1,8 @@
-import { AccountError, changePassword } from "@/lib/auth/account";
+import { changePassword } from "@/lib/auth/account";
 import { requireUser } from "@/lib/auth/guard";
 import { clientIp } from "@/lib/auth/options";
-import { errorResponse, invalidBody, jsonError } from "@/lib/auth/route";
+import { badRequest, jsonError } from "@/lib/http/errors";
+import { errorResponse } from "@/lib/http/route";
 import { changePasswordSchema } from "@/lib/auth/schemas";
 
 // The signed-in user's own password: belongs to no workspace, so there is no
@@ -17,12 +18,11 @@ export async function POST(request: Request): Promise<Response> {
       return jsonError(400, "The request body is not valid JSON.", { field: null });
     }
     const parsed = changePasswordSchema.safeParse(raw);
-    if (!parsed.success) return invalidBody(parsed.error);
+    if (!parsed.success) return badRequest(parsed.error);
     await changePassword(user, parsed.data, clientIp(request.headers));
     // Every session issued before has ended, this one included.
     return Response.json({ changed: true, email: user.email });
   } catch (error) {
-    if (error instanceof AccountError) return jsonError(error.status, error.message, { field: error.field });
     return errorResponse(error);
   }
 }

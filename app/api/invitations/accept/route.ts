@@ -1,7 +1,8 @@
-import { errorResponse, invalidBody, jsonError } from "@/lib/auth/route";
+import { badRequest, jsonError } from "@/lib/http/errors";
+import { errorResponse } from "@/lib/http/route";
 import { acceptInvitationSchema } from "@/lib/auth/schemas";
 import { getSessionUser } from "@/lib/auth/session";
-import { acceptInvitation, InvitationError } from "@/lib/auth/team";
+import { acceptInvitation } from "@/lib/auth/team";
 
 // Belongs to no workspace yet: the invitation token is the credential, checked
 // inside acceptInvitation together with the session (for existing accounts).
@@ -13,13 +14,12 @@ export async function POST(request: Request): Promise<Response> {
     return jsonError(400, "The request body is not valid JSON.", { field: null });
   }
   const parsed = acceptInvitationSchema.safeParse(raw);
-  if (!parsed.success) return invalidBody(parsed.error);
+  if (!parsed.success) return badRequest(parsed.error);
   try {
     const session = await getSessionUser();
     const result = await acceptInvitation({ ...parsed.data, sessionUserId: session?.id ?? null });
     return Response.json(result);
   } catch (error) {
-    if (error instanceof InvitationError) return jsonError(error.status, error.message, { field: error.field });
     return errorResponse(error);
   }
 }

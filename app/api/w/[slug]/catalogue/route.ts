@@ -1,5 +1,5 @@
-import { memberRoute } from "@/lib/auth/route";
-import { parseSearch, runsError } from "@/lib/runs/http";
+import { errorResponse, memberRoute } from "@/lib/http/route";
+import { parseSearch } from "@/lib/http/params";
 import { catalogueText } from "@/lib/runs/queries";
 import { catalogueQuerySchema } from "@/lib/runs/schemas";
 
@@ -14,6 +14,6 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
     const text = await catalogueText(member.workspace.id, { runId: f.run, classes: f.class, periodFrom: f.from, periodTo: f.to, text: f.q });
     return new Response(text, { headers: { "content-type": "application/json" } });
   } catch (error) {
-    return runsError(error);
+    return errorResponse(error);
   }
 });

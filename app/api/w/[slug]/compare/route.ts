@@ -1,5 +1,7 @@
-import { jsonError, memberRoute } from "@/lib/auth/route";
-import { parseSearch, withIndicatorRun } from "@/lib/runs/http";
+import { jsonError } from "@/lib/http/errors";
+import { memberRoute } from "@/lib/http/route";
+import { parseSearch } from "@/lib/http/params";
+import { withIndicatorRun } from "@/lib/runs/http";
 import { comparison } from "@/lib/runs/on-demand";
 import { periodsInOrder } from "@/lib/runs/period-order";
 import { compareQuerySchema } from "@/lib/runs/schemas";

@@ -1,4 +1,4 @@
-import { memberRoute } from "@/lib/auth/route";
+import { memberRoute } from "@/lib/http/route";
 import { deliveryHistory, getOwnSubscription, pickableIndicators } from "@/lib/digests/queries";
 import { subscriptionInputSchema } from "@/lib/digests/schemas";
 import { indicatorVisibilityFor } from "@/lib/intake/published-panel";

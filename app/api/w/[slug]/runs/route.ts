@@ -1,5 +1,4 @@
-import { memberRoute } from "@/lib/auth/route";
-import { runsError } from "@/lib/runs/http";
+import { errorResponse, memberRoute } from "@/lib/http/route";
 import { listRuns } from "@/lib/runs/queries";
 import { startRunSchema } from "@/lib/runs/schemas";
 import { startRun } from "@/lib/runs/service";
@@ -20,6 +19,6 @@ export const POST = memberRoute({ capability: "runs.manage", body: startRunSchem
     const started = await startRun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, panelVersionId, choice });
     return Response.json({ runId: started.runId, number: started.number, params: started.params }, { status: 201 });
   } catch (error) {
-    return runsError(error);
+    return errorResponse(error);
   }
 });

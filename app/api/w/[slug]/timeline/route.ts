@@ -1,5 +1,6 @@
-import { jsonError, memberRoute } from "@/lib/auth/route";
-import { parseSearch, runsError } from "@/lib/runs/http";
+import { jsonError } from "@/lib/http/errors";
+import { errorResponse, memberRoute } from "@/lib/http/route";
+import { parseSearch } from "@/lib/http/params";
 import { timeline } from "@/lib/runs/queries";
 import { timelineQuerySchema } from "@/lib/runs/schemas";
 
@@ -13,6 +14,6 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
     if (!result) return jsonError(404, `No completed run has analysed "${search.value.indicator}" yet.`);
     return Response.json(result);
   } catch (error) {
-    return runsError(error);
+    return errorResponse(error);
   }
 });

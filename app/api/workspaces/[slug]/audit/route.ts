@@ -1,4 +1,4 @@
-import { memberRoute } from "@/lib/auth/route";
+import { memberRoute } from "@/lib/http/route";
 import { listAudit } from "@/lib/auth/team";
 
 export const GET = memberRoute({ capability: "team.manage" }, async ({ member }) =>

@@ -1,5 +1,5 @@
 import { can } from "@/lib/auth/roles";
-import { memberRoute } from "@/lib/auth/route";
+import { memberRoute } from "@/lib/http/route";
 import { intakeOverview } from "@/lib/intake/queries";
 
 // Boundary sets, panels and their versions. Economists and subscribers get only published versions.

@@ -1,4 +1,4 @@
-import { memberRoute } from "@/lib/auth/route";
+import { memberRoute } from "@/lib/http/route";
 import { inviteSchema } from "@/lib/auth/schemas";
 import { createInvitation, listPendingInvitations } from "@/lib/auth/team";
 import { limitAction } from "@/lib/security/rate-limits";

@@ -1,6 +1,6 @@
-import { memberRoute } from "@/lib/auth/route";
+import { errorResponse, memberRoute } from "@/lib/http/route";
+import { parseSearch } from "@/lib/http/params";
 import { toCsv } from "@/lib/runs/csv";
-import { parseSearch, runsError } from "@/lib/runs/http";
 import { catalogueRows } from "@/lib/runs/queries";
 import { catalogueQuerySchema } from "@/lib/runs/schemas";
 import { SIGNIFICANCE_LABELS } from "@/lib/runs/types";
@@ -38,6 +38,6 @@ export const GET = memberRoute({ capability: "runs.manage" }, async ({ member, r
     const name = `tessera-${member.workspace.slug}-catalogue${f.run !== null ? `-run-${f.run}` : ""}.csv`;
     return new Response(csv, { headers: { "content-type": "text/csv; charset=utf-8", "content-disposition": `attachment; filename="${name}"` } });
   } catch (error) {
-    return runsError(error);
+    return errorResponse(error);
   }
 });

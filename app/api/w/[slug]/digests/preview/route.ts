@@ -1,4 +1,5 @@
-import { jsonError, memberRoute } from "@/lib/auth/route";
+import { jsonError } from "@/lib/http/errors";
+import { memberRoute } from "@/lib/http/route";
 import type { DigestDecisionAnswer, DigestPreviewAnswer } from "@/lib/digests/answers";
 import { getOwnSubscription } from "@/lib/digests/queries";
 import { ON_REQUEST_COVERAGE, prepareDigest, type DigestDecision } from "@/lib/digests/service";

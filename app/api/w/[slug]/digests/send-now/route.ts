@@ -1,6 +1,7 @@
 import type { Transaction } from "sequelize";
 import { auditMember } from "@/lib/auth/audit";
-import { jsonError, memberRoute } from "@/lib/auth/route";
+import { jsonError } from "@/lib/http/errors";
+import { memberRoute } from "@/lib/http/route";
 import { db } from "@/lib/db";
 import { enqueue } from "@/lib/jobs/enqueue";
 import type { SendNowAnswer } from "@/lib/digests/answers";

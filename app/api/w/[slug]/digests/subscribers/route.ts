@@ -1,4 +1,4 @@
-import { memberRoute } from "@/lib/auth/route";
+import { memberRoute } from "@/lib/http/route";
 import { workspaceSubscribers } from "@/lib/digests/queries";
 
 /** Managers: who subscribes to what in this workspace. */

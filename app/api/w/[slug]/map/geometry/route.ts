@@ -1,5 +1,6 @@
-import { jsonError, memberRoute } from "@/lib/auth/route";
-import { parseSearch, runsError } from "@/lib/runs/http";
+import { jsonError } from "@/lib/http/errors";
+import { errorResponse, memberRoute } from "@/lib/http/route";
+import { parseSearch } from "@/lib/http/params";
 import { mapGeometry } from "@/lib/runs/on-demand";
 import { getRun } from "@/lib/runs/queries";
 import { geometryQuerySchema } from "@/lib/runs/schemas";
@@ -15,6 +16,6 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
     // Not cached by the browser, though boundary versions never change: like every signed-in answer it is no-store (memberRoute).
     return Response.json(await mapGeometry(run));
   } catch (error) {
-    return runsError(error);
+    return errorResponse(error);
   }
 });

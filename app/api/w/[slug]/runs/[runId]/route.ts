@@ -1,4 +1,5 @@
-import { jsonError, memberRoute } from "@/lib/auth/route";
+import { jsonError } from "@/lib/http/errors";
+import { memberRoute } from "@/lib/http/route";
 import { parseIdParam } from "@/lib/http/params";
 import { getRun, runPieces } from "@/lib/runs/queries";
 

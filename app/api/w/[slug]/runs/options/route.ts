@@ -1,4 +1,4 @@
-import { memberRoute } from "@/lib/auth/route";
+import { memberRoute } from "@/lib/http/route";
 import { runOptions } from "@/lib/runs/queries";
 
 export const dynamic = "force-dynamic";

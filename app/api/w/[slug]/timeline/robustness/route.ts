@@ -1,5 +1,6 @@
-import { memberRoute } from "@/lib/auth/route";
-import { parseSearch, withIndicatorRun } from "@/lib/runs/http";
+import { memberRoute } from "@/lib/http/route";
+import { parseSearch } from "@/lib/http/params";
+import { withIndicatorRun } from "@/lib/runs/http";
 import { robustness } from "@/lib/runs/on-demand";
 import { periodQuerySchema } from "@/lib/runs/schemas";
 

@@ -1,4 +1,4 @@
-import { memberRoute } from "@/lib/auth/route";
+import { memberRoute } from "@/lib/http/route";
 import { parseIdParam } from "@/lib/http/params";
 import { revokeInvitation } from "@/lib/auth/team";
 

@@ -1,4 +1,4 @@
-import { memberRoute } from "@/lib/auth/route";
+import { memberRoute } from "@/lib/http/route";
 import { changeRoleSchema } from "@/lib/auth/schemas";
 import { parseIdParam } from "@/lib/http/params";
 import { changeRole, removeMember } from "@/lib/auth/team";

@@ -1,6 +1,5 @@
-import { memberRoute } from "@/lib/auth/route";
+import { errorResponse, memberRoute } from "@/lib/http/route";
 import { parseIdParam } from "@/lib/http/params";
-import { runsError } from "@/lib/runs/http";
 import { cancelRun } from "@/lib/runs/service";
 
 export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, params }) => {
@@ -11,6 +10,6 @@ export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, 
     await cancelRun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, runId });
     return Response.json({ runId, state: "cancelled" });
   } catch (error) {
-    return runsError(error);
+    return errorResponse(error);
   }
 });

@@ -1,6 +1,5 @@
-import { memberRoute } from "@/lib/auth/route";
+import { errorResponse, memberRoute } from "@/lib/http/route";
 import { parseIdParam } from "@/lib/http/params";
-import { runsError } from "@/lib/runs/http";
 import { rerun } from "@/lib/runs/service";
 import { limitAction } from "@/lib/security/rate-limits";
 
@@ -15,6 +14,6 @@ export const POST = memberRoute({ capability: "runs.manage" }, async ({ member, 
     const started = await rerun({ workspaceId: member.workspace.id, userId: member.user.id, actorEmail: member.user.email, runId });
     return Response.json({ runId: started.runId, number: started.number, rerunOf: runId }, { status: 201 });
   } catch (error) {
-    return runsError(error);
+    return errorResponse(error);
   }
 });

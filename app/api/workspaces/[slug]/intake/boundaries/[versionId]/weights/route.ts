@@ -1,6 +1,7 @@
 import { can } from "@/lib/auth/roles";
-import { invalidBody, jsonError, memberRoute } from "@/lib/auth/route";
-import { parseIdParam } from "@/lib/http/params";
+import { jsonError } from "@/lib/http/errors";
+import { memberRoute } from "@/lib/http/route";
+import { parseIdParam, parseSearch } from "@/lib/http/params";
 import { boundaryVersionInWorkspace } from "@/lib/geometry/boundary-topology";
 import { boundaryWeightsPreview, weightsPreviewQuerySchema } from "@/lib/geometry/weights-preview";
 
@@ -10,12 +11,8 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
   if (!parsed.ok) return parsed.response;
   const versionId = parsed.value;
   if (!(await boundaryVersionInWorkspace(member.workspace.id, versionId, !can(member.role, "data.view-unpublished")))) return jsonError(404, "There are no such boundaries in this workspace.");
-  const query = weightsPreviewQuerySchema.safeParse(Object.fromEntries(new URL(request.url).searchParams));
-  if (!query.success) return invalidBody(query.error);
-  try {
-    return Response.json(await boundaryWeightsPreview(versionId, query.data.rule));
-  } catch (err) {
-    // The engine names the problem (k too large for the number of regions, …).
-    return jsonError(422, err instanceof Error ? err.message : String(err), { field: "rule" });
-  }
+  const query = parseSearch(request, weightsPreviewQuerySchema);
+  if (!query.ok) return query.response;
+  // A rule the engine refuses for these boundaries is a 422 naming `rule` (InputError).
+  return Response.json(await boundaryWeightsPreview(versionId, query.value.rule));
 });

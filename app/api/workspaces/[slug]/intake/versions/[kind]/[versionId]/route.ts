@@ -1,5 +1,6 @@
 import { can } from "@/lib/auth/roles";
-import { jsonError, memberRoute } from "@/lib/auth/route";
+import { jsonError } from "@/lib/http/errors";
+import { memberRoute } from "@/lib/http/route";
 import { parseParams } from "@/lib/http/params";
 import { versionParamsSchema } from "@/lib/intake/service";
 import { versionDetail } from "@/lib/intake/queries";

@@ -1,14 +1,15 @@
 import type { z } from "zod";
+import { requireMember, type MemberContext } from "@/lib/auth/guard";
+import type { Capability } from "@/lib/auth/roles";
 import { isDatabaseUnavailable } from "@/lib/db";
-import { SLUG_PATTERN } from "@/lib/http/params";
 import { UNAVAILABLE_MESSAGES } from "@/lib/service-unavailable";
 import { StorageUnavailableError, StoredFileChecksumError } from "@/lib/storage/errors";
-import { AccessError, ConflictError, NotFoundError } from "./errors";
-import { requireMember, type MemberContext } from "./guard";
-import type { Capability } from "./roles";
+import { badRequest, HttpError, jsonError } from "./errors";
+import { SLUG_PATTERN } from "./params";
 
 // Route-handler wrapper: the guard runs first, then the body is parsed with
-// its zod schema, so neither can be forgotten in a handler.
+// its zod schema, so neither can be forgotten in a handler. Whatever the
+// handler throws becomes its answer through errorResponse.
 
 type Params = Record<string, string | string[] | undefined>;
 type RouteContext = { params: Promise<Params> };
@@ -20,25 +21,14 @@ export type MemberHandler<Body> = (args: {
   params: Params;
 }) => Promise<Response>;
 
-export function jsonError(status: number, message: string, extra: Record<string, unknown> = {}): Response {
-  return Response.json({ error: message, ...extra }, { status });
-}
-
-/** Turns a zod failure into a 400 naming the first bad field. */
-export function invalidBody(error: z.ZodError): Response {
-  const first = error.issues[0];
-  const field = first?.path.map(String).join(".") || null;
-  const message = first ? (field ? `${field}: ${first.message}` : first.message) : "The request body is not valid.";
-  return jsonError(400, message, {
-    field,
-    issues: error.issues.map((i) => ({ field: i.path.map(String).join("."), message: i.message })),
-  });
-}
-
-/** Maps the errors our domain code throws to responses; anything else is logged and becomes a 500. */
+/**
+ * The one map from errors to responses. An HttpError (lib/http/errors.ts, and
+ * the domain errors extending it) answers its status with its message and
+ * details; an outage of the database or the file store is a 503; anything
+ * else is logged and becomes a 500.
+ */
 export function errorResponse(error: unknown): Response {
-  if (error instanceof AccessError) return jsonError(error.status, error.message);
-  if (error instanceof ConflictError || error instanceof NotFoundError) return jsonError(error.status, error.message);
+  if (error instanceof HttpError) return jsonError(error.status, error.message, error.details);
   // Outages pass: 503 with a plain sentence; the log keeps one line, not a stack per request.
   const outage = error instanceof StorageUnavailableError ? error.message : isDatabaseUnavailable(error) ? UNAVAILABLE_MESSAGES.database : null;
   if (outage) {
@@ -99,7 +89,7 @@ export function memberRoute<Schema extends z.ZodType | undefined = undefined>(
         const raw = await readJson(request);
         if (!raw.ok) return jsonError(400, "The request body is not valid JSON.", { field: null });
         const parsed = options.body.safeParse(raw.value);
-        if (!parsed.success) return invalidBody(parsed.error);
+        if (!parsed.success) return badRequest(parsed.error);
         body = parsed.data;
       }
       return await handler({
