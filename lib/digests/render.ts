@@ -11,6 +11,7 @@
  * mail and no attachment noise.
  */
 import { SIGNIFICANCE_LABELS, type SignificanceClass } from "@/lib/runs/types";
+import { escapeHtml } from "@/lib/security/html";
 import { CHART_CAPTION, DIGEST_INK, DIGEST_OCHRE } from "./chart";
 import { LOCAL_CLUSTER_LABELS, type DigestContent } from "./compose";
 
@@ -42,10 +43,6 @@ export interface RenderedDigest {
   readonly subject: string;
   readonly html: string;
   readonly text: string;
-}
-
-export function escapeHtml(value: string): string {
-  return value.replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;").replace(/"/g, "&quot;").replace(/'/g, "&#39;");
 }
 
 const classLabel = (c: SignificanceClass | null) => (c === null ? "not analysed" : SIGNIFICANCE_LABELS[c]);

@@ -1,4 +1,4 @@
-import { escapeHtml } from "@/lib/digests/render";
+import { escapeHtml } from "@/lib/security/html";
 import { unsubscribe } from "@/lib/digests/service";
 import { verifyUnsubscribeToken } from "@/lib/digests/token";
 
