@@ -2,7 +2,7 @@
 
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useState } from "react";
-import { ApiError } from "@/components/team/query-options";
+import { ApiError } from "@/lib/client/api-fetch";
 import { inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
 import { subscriptionInputSchema } from "@/lib/digests/schemas";
 import type { SendNowAnswer } from "@/lib/digests/answers";

@@ -1,5 +1,5 @@
 import { queryOptions } from "@tanstack/react-query";
-import { apiFetch } from "@/components/team/query-options";
+import { apiFetch } from "@/lib/client/api-fetch";
 import type { DigestPreviewAnswer, SendNowAnswer } from "@/lib/digests/answers";
 import type { DeliveryView, SubscriberListing, SubscriptionView } from "@/lib/digests/queries";
 

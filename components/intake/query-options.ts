@@ -1,5 +1,5 @@
 import { queryOptions } from "@tanstack/react-query";
-import { apiFetch } from "@/components/team/query-options";
+import { apiFetch } from "@/lib/client/api-fetch";
 import type { BoundaryUploadPreview, CreatedVersion, PanelUploadPreview, UploadTicket, UploadView } from "@/lib/intake/service";
 import type { IndicatorMeta } from "@/lib/intake/published-panel";
 import type { IntakeOverview, VersionDetail } from "@/lib/intake/queries";

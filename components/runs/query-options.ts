@@ -1,5 +1,5 @@
 import { queryOptions } from "@tanstack/react-query";
-import { apiFetch } from "@/components/team/query-options";
+import { apiFetch } from "@/lib/client/api-fetch";
 import type { DeskSummary, RunOption, RunPieceRow, RunSummary, Timeline } from "@/lib/runs/queries";
 import type { Comparison, MapGeometry, MapPeriod } from "@/lib/runs/on-demand";
 import type { RobustnessEntry } from "@/lib/runs/compare";

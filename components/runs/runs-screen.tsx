@@ -3,7 +3,7 @@
 import Link from "next/link";
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useMemo, useState } from "react";
-import { ApiError } from "@/components/team/query-options";
+import { ApiError } from "@/lib/client/api-fetch";
 import { dangerButton, inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
 import { startFormReachability } from "@/lib/runs/reachability";
 import { CORRECTION_LABELS, CORRECTIONS, ISLAND_POLICIES, ISLAND_POLICY_LABELS, runParamsInputSchema, SEQUENTIAL_EXTREMES, WEIGHTS_CHOICES } from "@/lib/runs/schemas";

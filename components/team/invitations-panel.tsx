@@ -6,7 +6,8 @@ import { inputClass, labelClass, primaryButton, secondaryButton } from "@/compon
 import { ROLES, ROLE_LABELS, type Role } from "@/lib/auth/roles";
 import { inviteSchema } from "@/lib/auth/schemas";
 import type { InvitationRow } from "@/lib/auth/team";
-import { ApiError, apiFetch, invitationsQuery, teamKeys } from "./query-options";
+import { ApiError, apiFetch } from "@/lib/client/api-fetch";
+import { invitationsQuery, teamKeys } from "./query-options";
 
 const dateFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium" });
 

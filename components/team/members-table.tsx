@@ -5,7 +5,8 @@ import { useState } from "react";
 import { dangerButton, secondaryButton } from "@/components/ui/button-styles";
 import { ROLES, ROLE_LABELS, type Role } from "@/lib/auth/roles";
 import type { MemberRow } from "@/lib/auth/team";
-import { apiFetch, membersQuery, teamKeys } from "./query-options";
+import { apiFetch } from "@/lib/client/api-fetch";
+import { membersQuery, teamKeys } from "./query-options";
 
 export function MembersTable({ slug, meId, initial }: { slug: string; meId: number; initial: MemberRow[] }) {
   const client = useQueryClient();

@@ -1,32 +1,8 @@
 import { queryOptions } from "@tanstack/react-query";
+import { apiFetch } from "@/lib/client/api-fetch";
 import type { AuditRow, InvitationRow, MemberRow } from "@/lib/auth/team";
 
 // One options factory per resource; mutations invalidate these keys.
-
-export class ApiError extends Error {
-  constructor(
-    readonly status: number,
-    message: string,
-    readonly field: string | null = null,
-  ) {
-    super(message);
-  }
-}
-
-export async function apiFetch<T>(url: string, init?: RequestInit): Promise<T> {
-  const response = await fetch(url, {
-    ...init,
-    headers: { "content-type": "application/json", ...(init?.headers ?? {}) },
-    credentials: "same-origin",
-  });
-  if (response.status === 204) return undefined as T;
-  const body: unknown = await response.json().catch(() => ({}));
-  if (!response.ok) {
-    const b = body as { error?: string; field?: string | null };
-    throw new ApiError(response.status, b.error ?? "The request did not work. Try again.", b.field ?? null);
-  }
-  return body as T;
-}
 
 export const teamKeys = {
   all: (slug: string) => ["team", slug] as const,

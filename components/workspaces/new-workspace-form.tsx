@@ -4,7 +4,7 @@ import { useMutation } from "@tanstack/react-query";
 import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { inputClass, labelClass, primaryButton } from "@/components/ui/button-styles";
-import { ApiError, apiFetch } from "@/components/team/query-options";
+import { ApiError, apiFetch } from "@/lib/client/api-fetch";
 import { createWorkspaceSchema, suggestSlug, type CreateWorkspaceInput } from "@/lib/workspaces/schemas";
 
 type FieldError = { field: string | null; message: string };
