@@ -2,11 +2,12 @@
 # continuity correction) for fixed contingency tables, as the reference for
 # lib/spatial/contingency.ts. Tables with an all-zero row or column are given
 # here already without it: the TypeScript drops such rows and columns first,
-# and chisq.test would return NaN for them.
+# and chisq.test would return NaN for them. Numbers are written at full
+# precision (sprintf("%.17g"), exact-json.R).
 #   Rscript scripts/reference/chisq-reference.R <project root>
-suppressPackageStartupMessages(library(jsonlite))
 args <- commandArgs(trailingOnly = TRUE)
 root <- if (length(args) > 0) args[[1]] else "."
+source(file.path(root, "scripts", "reference", "exact-json.R"))
 tables <- list(
   two_by_two = matrix(c(12, 5, 3, 9), nrow = 2, byrow = TRUE),
   three_by_three = matrix(c(20, 4, 1, 3, 15, 6, 2, 5, 18), nrow = 3, byrow = TRUE),
@@ -18,18 +19,18 @@ out <- lapply(names(tables), function(name) {
   test <- suppressWarnings(chisq.test(m, correct = FALSE))
   list(
     name = name,
-    counts = lapply(seq_len(nrow(m)), function(i) as.numeric(m[i, ])),
+    counts = lapply(seq_len(nrow(m)), function(i) as.integer(m[i, ])),
     statistic = unname(test$statistic),
-    df = unname(test$parameter),
+    df = as.integer(unname(test$parameter)),
     p = test$p.value,
     expected_below_5 = sum(test$expected < 5)
   )
 })
 doc <- list(
   source = "R stats::chisq.test(x, correct = FALSE)",
+  generator = "scripts/reference/chisq-reference.R",
   r_version = paste(R.version$major, R.version$minor, sep = "."),
+  versions = versions(),
   tables = out
 )
-path <- file.path(root, "tests", "fixtures", "spatial", "chisq-independence.json")
-writeLines(toJSON(doc, auto_unbox = TRUE, digits = NA, pretty = TRUE), path)
-cat("wrote", path, "\n")
+write_exact_json(doc, file.path(root, "tests", "fixtures", "spatial", "chisq-independence.json"))
