@@ -3,6 +3,7 @@ import { withAuth, type NextRequestWithAuth } from "next-auth/middleware";
 import { env } from "@/lib/config/env";
 import { sessionCookie, isHttpsUrl } from "@/lib/security/cookies";
 import { contentSecurityPolicy, newNonce, uploadOrigin } from "@/lib/security/csp";
+import { movedApiPath } from "@/lib/http/moved-paths";
 import { securityHeaders, withoutTrailingSlash } from "@/lib/security/headers";
 import { crossSiteRefusal } from "@/lib/security/origin";
 
@@ -20,7 +21,8 @@ import { crossSiteRefusal } from "@/lib/security/origin";
 // static security headers (also set by next.config.mjs, which alone reaches
 // static files) and Cache-Control: no-store (lib/security/headers.ts). It also
 // answers the trailing-slash 308 itself (skipTrailingSlashRedirect), so that
-// redirect carries them too.
+// redirect carries them too. The 308 from an API path that moved to where it
+// answers now (lib/http/moved-paths.ts) is answered here for the same reason.
 
 const requireSession = withAuth({
   pages: { signIn: "/sign-in" },
@@ -52,9 +54,12 @@ export default async function proxy(request: NextRequest, event: NextFetchEvent)
   const { pathname } = request.nextUrl;
   const slashless = withoutTrailingSlash(pathname);
   if (slashless) {
-    // A path-only Location (RFC 9110 §10.2.2): this origin as the browser sees it. NextURL would
-    // put the trailing slash back, and names 127.0.0.1 "localhost", whose cookies are not these.
-    const location = `${slashless}${request.nextUrl.search}`;
+    // Next's proxy adapter parses every Location as an absolute URL (a bare path throws "Invalid
+    // URL", a 500) and then turns a same-origin one back into a path-only Location, so the browser
+    // keeps this origin as it sees it (127.0.0.1 stays 127.0.0.1, whose cookies these are). The
+    // request's own URL is the base the adapter compares with; NextURL (request.nextUrl) is not
+    // used because it would put the trailing slash back.
+    const location = new URL(`${slashless}${request.nextUrl.search}`, request.url).toString();
     return withSecurityHeaders(new NextResponse(null, { status: 308, headers: { location } }), csp, pathname);
   }
   const refusal = crossSiteRefusal({
@@ -66,6 +71,15 @@ export default async function proxy(request: NextRequest, event: NextFetchEvent)
     appUrl: env().NEXTAUTH_URL,
   });
   if (refusal) return withSecurityHeaders(NextResponse.json({ error: refusal, field: null }, { status: 403 }), csp, pathname);
+  const moved = movedApiPath(request.nextUrl.pathname);
+  if (moved) {
+    // An API path that moved (lib/http/moved-paths.ts), answered after the cross-site check so a
+    // refused request is never redirected: 308 keeps the method and body. The Location is absolute
+    // on the request's own origin (Next's proxy adapter parses it as a URL and hands the browser a
+    // path-only one when the origin is the request's).
+    const location = new URL(`${moved}${request.nextUrl.search}`, request.url).toString();
+    return withSecurityHeaders(new NextResponse(null, { status: 308, headers: { location } }), csp, pathname);
+  }
   if (isWorkspacePath(request.nextUrl.pathname)) {
     // withAuth answers a redirect when there is no valid session, nothing otherwise.
     const denied = await requireSession(request as NextRequestWithAuth, event);

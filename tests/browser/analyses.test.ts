@@ -8,6 +8,11 @@ import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { loadVeldmarkPanel } from "@/tests/integration/runs/fixtures";
 
+/** The demo panel's name, as DEMO_PANEL in scripts/demo/seed-demo-data.ts (a script, so not imported). */
+const DEMO_PANEL = "Veldmark district indicators 2008–2024";
+/** How the run form's option of the panel analysed here begins. */
+let panelPrefix = `${DEMO_PANEL} — `;
+
 // The economist's day (issue 5 "done when"): start a run on the demo panel,
 // watch it finish, filter the catalogue to significant clustering, open the
 // unemployment timeline, and compare 2012 with 2016 on the map.
@@ -35,7 +40,10 @@ beforeAll(async () => {
     "SELECT pv.id FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id WHERE p.workspace_id = $1 AND pv.state = 'published'",
     { bind: [ws.id], type: QueryTypes.SELECT },
   );
-  if (published.length === 0) await loadVeldmarkPanel(ws.id);
+  if (published.length === 0) {
+    await loadVeldmarkPanel(ws.id);
+    panelPrefix = "Veldmark indicators ";
+  }
   session = await openBrowser({ viewport: { width: 1440, height: 1000 } });
   // Generous: under `next dev` each screen compiles on its first visit.
   session.page.setDefaultTimeout(120_000);
@@ -57,10 +65,11 @@ it("an economist runs the demo panel, filters the catalogue, opens the unemploym
   await page.goto(`/w/${slug}/runs`);
   const form = page.getByRole("form", { name: "Start a run" });
   await form.waitFor();
-  // Other browser tests publish panels of their own; the newest is preselected, so pick the Veldmark one.
+  // Other browser tests publish panels of their own (some also named after Veldmark) and the
+  // newest is preselected, so pick the demo panel by its full name.
   const panelSelect = page.getByLabel("Panel version");
   const panelLabels = await panelSelect.locator("option").allInnerTexts();
-  const veldmark = panelLabels.find((label) => /Veldmark/.test(label));
+  const veldmark = panelLabels.find((label) => label.startsWith(panelPrefix));
   if (!veldmark) throw new Error(`No Veldmark panel among the published versions: ${panelLabels.join("; ")}`);
   await panelSelect.selectOption({ label: veldmark });
   await form.getByRole("checkbox", { name: "Unemployment rate", exact: true }).waitFor();

@@ -99,7 +99,11 @@ it("the demo subscriber subscribes to one indicator and asks for the digest now;
   await screenshot(page, "digests-03-saved-with-preview");
 
   await form.getByRole("button", { name: "Send me this digest now" }).click();
-  await form.getByRole("status").filter({ hasText: "Digest queued." }).waitFor();
+  // The answer says on the screen what happens: queued to this address under this subject (or why not).
+  const outcome = form.getByTestId("digest-send-outcome");
+  await outcome.waitFor();
+  expect(await outcome.getAttribute("data-status")).toBe("queued");
+  expect(await outcome.innerText()).toMatch(new RegExp(`^On its way to ${subscriber.email.replace(/[.+]/g, "\\$&")}: “Tessera digest`));
   // The worker sends it; the delivery history shows it as sent.
   const sentRow = page.locator("section[aria-labelledby='history'] tbody tr").filter({ hasText: "sent" });
   for (let i = 0; i < 60 && !(await sentRow.first().isVisible()); i++) {
