@@ -107,7 +107,9 @@ describe("oversized uploads", () => {
     const put = await fetch(ticket.url, { method: "PUT", headers: { "Content-Type": ticket.contentType }, body: new Uint8Array(oversized) });
     expect(put.ok).toBe(true);
     const key = (await models().Upload.findByPk(ticket.uploadId))?.s3Key;
-    expect(key).toBeDefined();
+    if (key === undefined) throw new Error(`Upload ${ticket.uploadId} has no S3 key.`);
+    // The oversized object is in the bucket before completion, so its absence afterwards is a deletion.
+    expect((await headObject(key))?.size).toBe(oversized.length);
 
     const { result: completeResponse, commands } = await s3CommandsDuring(() => postComplete(jsonRequest("POST"), ctx({ slug, uploadId: ticket.uploadId })));
     const complete = (await completeResponse.json()) as { state: string; error: string };
@@ -116,7 +118,7 @@ describe("oversized uploads", () => {
     expect(complete.error).toMatch(new RegExp(`${oversized.length.toLocaleString("en")} bytes, more than the ${declared.length.toLocaleString("en")} declared`));
     // HEAD to learn the size, DELETE to drop it; never a GET of the body.
     expect(commands.filter((c) => c.key === key).map((c) => c.command)).toEqual(["HeadObjectCommand", "DeleteObjectCommand"]);
-    expect(await headObject(key as string)).toBeNull();
+    expect(await headObject(key)).toBeNull();
 
     const mapping = { layout: "long", region: "region", period: "period", indicator: "indicator", value: "value" };
     const created = await postPanels(jsonRequest("POST", { uploadId: ticket.uploadId, panelName: "Never", boundarySetId: 1, decimal: ".", mapping }), ctx({ slug }));
