@@ -6,6 +6,7 @@ import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/br
 import { testServices } from "@/tests/helpers/env";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { closeConnections } from "@/tests/helpers/teardown";
+import { chiSquareIndependence } from "@/lib/spatial";
 import { loadVeldmarkPanel } from "@/tests/integration/runs/fixtures";
 
 /** The demo panel's name, as DEMO_PANEL in scripts/demo/seed-demo-data.ts (a script, so not imported). */
@@ -15,7 +16,7 @@ let panelPrefix = `${DEMO_PANEL} — `;
 
 // The economist's day (issue 5 "done when"): start a run on the demo panel,
 // watch it finish, filter the catalogue to significant clustering, open the
-// unemployment timeline, and compare 2012 with 2016 on the map.
+// unemployment timeline, and compare 2013 with 2016 on the map.
 
 const slug = demo.workspace.slug;
 const economist = demo.accounts.find((a) => a.role === "economist");
@@ -57,7 +58,18 @@ afterAll(async () => {
 
 jest.setTimeout(600_000);
 
-it("an economist runs the demo panel, filters the catalogue, opens the unemployment timeline and compares 2012 with 2016", async () => {
+/** Pearson's chi-square test of the transition table on the screen, recomputed from its cells. */
+async function shownTransitionTest(page: Page) {
+  const counts = await page.evaluate(() =>
+    [...document.querySelectorAll('[data-testid="transition-table"] tbody tr')].map((tr) => [...tr.querySelectorAll("td")].map((td) => Number(td.textContent))),
+  );
+  expect(counts.flat().reduce((a, b) => a + b, 0)).toBe(236); // every Veldmark region, in both periods
+  const test = chiSquareIndependence(counts);
+  if (test === null) throw new Error(`The transition table has fewer than two occupied classes on a side: ${JSON.stringify(counts)}`);
+  return test;
+}
+
+it("an economist runs the demo panel, filters the catalogue, opens the unemployment timeline and compares 2013 with 2016", async () => {
   const { page } = session;
   await signIn(page, economist.email, economist.password);
 
@@ -110,30 +122,41 @@ it("an economist runs the demo panel, filters the catalogue, opens the unemploym
   await page.locator('[data-testid="timeline-robustness"] svg').waitFor({ timeout: 60_000 });
   await screenshot(page, "analyses-04-timeline-unemployment");
 
-  // The map comparing 2012 with 2016.
-  await page.goto(`/w/${slug}/map?indicator=unemployment_rate&run=${runId}&a=2012&b=2016`);
+  // The map comparing 2013 with 2016: unemployment has High-High and Low-Low clusters in both
+  // (2012 has none, so a table from 2012 has one occupied row and no test to show).
+  await page.goto(`/w/${slug}/map?indicator=unemployment_rate&run=${runId}&a=2013&b=2016`);
   await page.locator('[data-testid="cluster-map-a"] path[data-region]').first().waitFor();
   await page.locator('[data-testid="transition-table"]').waitFor();
-  // Under the table: the chi-square test with its caution when both periods
-  // have regions in two or more classes, otherwise a sentence saying why not.
-  const occupied = await page.evaluate(() => {
-    const rows = [...document.querySelectorAll('[data-testid="transition-table"] tbody tr')].map((tr) => [...tr.querySelectorAll("td")].map((td) => Number(td.textContent)));
-    const rowsUsed = rows.filter((r) => r.some((v) => v > 0)).length;
-    const columnsUsed = (rows[0] ?? []).filter((_, j) => rows.some((r) => r[j] > 0)).length;
-    return { rowsUsed, columnsUsed };
-  });
-  const independence = await page.getByTestId("transition-independence").innerText();
-  if (occupied.rowsUsed >= 2 && occupied.columnsUsed >= 2) {
-    expect(independence).toMatch(/Pearson χ² = [\d.]+, df \d+, p = /);
-    expect(independence).toContain("Neighbouring regions are not independent observations");
-  } else {
-    expect(independence).toContain("No χ² test of independence: it needs regions in at least two classes in both 2012 and 2016.");
-  }
+  // Under the table: Pearson's chi-square test of the table shown, with its cautions.
+  const test = await shownTransitionTest(page);
+  expect(test.rows).toBeGreaterThanOrEqual(3); // High-High, Low-Low and not significant, in both periods
+  expect(test.columns).toBeGreaterThanOrEqual(3);
+  expect(test.p).toBeLessThan(0.001);
+  // Several cells of this table expect fewer than 5 regions, so the rough-approximation caution shows too.
+  expect(test.expectedBelow5).toBeGreaterThan(test.cells / 5);
+  expect(await page.getByTestId("transition-independence").innerText()).toBe(
+    `Is the 2016 class independent of the 2013 class? Pearson χ² = ${test.chiSquare.toFixed(2)}, df ${test.degreesOfFreedom}, p = < 0.001. ` +
+      "Neighbouring regions are not independent observations, so this p is optimistic. " +
+      `${test.expectedBelow5} of ${test.cells} cells expect fewer than 5 regions: the χ² approximation is rough here.`,
+  );
   const hh2016 = await page.locator('[data-testid="cluster-map-b"] path[fill="#9a3412"]').count();
   expect(hh2016).toBeGreaterThan(0);
   await page.locator('[data-testid="cluster-map-b"] path[fill="#9a3412"]').first().hover();
   await page.locator('[data-testid="region-detail"]').waitFor();
-  await screenshot(page, "analyses-05-map-2012-2016");
+  await screenshot(page, "analyses-05-map-2013-2016");
+
+  // Broadband 2008 → 2009: clusters in both years and every cell expects at least 5 regions,
+  // so the test shows with the neighbour caution and without the rough-approximation one.
+  await page.goto(`/w/${slug}/map?indicator=broadband_coverage&run=${runId}&a=2008&b=2009`);
+  await page.locator('[data-testid="cluster-map-a"] path[data-region]').first().waitFor();
+  await page.locator('[data-testid="transition-table"]').waitFor();
+  const broadband = await shownTransitionTest(page);
+  expect(broadband.rows).toBeGreaterThanOrEqual(3);
+  expect(broadband.expectedBelow5).toBe(0);
+  expect(await page.getByTestId("transition-independence").innerText()).toBe(
+    `Is the 2009 class independent of the 2008 class? Pearson χ² = ${broadband.chiSquare.toFixed(2)}, df ${broadband.degreesOfFreedom}, p = < 0.001. ` +
+      "Neighbouring regions are not independent observations, so this p is optimistic.",
+  );
 
   await page.goto(`/w/${slug}/compare?indicator=unemployment_rate&run=${runId}&a=2012&b=2016`);
   await page.locator('[data-testid="compare-change-i"]').waitFor();
