@@ -17,7 +17,7 @@ export const intakeKeys = {
   preview: (slug: string, uploadId: string) => ["intake", slug, "preview", uploadId] as const,
 };
 
-export const intakeBase = (slug: string) => `/api/workspaces/${encodeURIComponent(slug)}/intake`;
+export const intakeBase = (slug: string) => `/api/w/${encodeURIComponent(slug)}/intake`;
 
 export type OverviewResponse = IntakeOverview & { role: string; canCurate: boolean };
 

@@ -19,7 +19,7 @@ export function InvitationsPanel({ slug, initial }: { slug: string; initial: Inv
 
   const invite = useMutation({
     mutationFn: (input: { email: string; role: Role }) =>
-      apiFetch<{ invitation: InvitationRow }>(`/api/workspaces/${slug}/invitations`, {
+      apiFetch<{ invitation: InvitationRow }>(`/api/w/${slug}/invitations`, {
         method: "POST",
         body: JSON.stringify(input),
       }),
@@ -32,7 +32,7 @@ export function InvitationsPanel({ slug, initial }: { slug: string; initial: Inv
     onError: (e: Error) => setFieldError({ field: e instanceof ApiError ? e.field : null, message: e.message }),
   });
   const revoke = useMutation({
-    mutationFn: (id: number) => apiFetch<void>(`/api/workspaces/${slug}/invitations/${id}`, { method: "DELETE" }),
+    mutationFn: (id: number) => apiFetch<void>(`/api/w/${slug}/invitations/${id}`, { method: "DELETE" }),
     onSettled: () => void client.invalidateQueries({ queryKey: teamKeys.invitations(slug) }),
   });
 

@@ -24,7 +24,7 @@ export function MembersTable({ slug, meId, initial }: { slug: string; meId: numb
   };
   const changeRole = useMutation({
     mutationFn: ({ userId, role }: { userId: number; role: Role }) =>
-      apiFetch<{ members: MemberRow[] }>(`/api/workspaces/${slug}/members/${userId}`, {
+      apiFetch<{ members: MemberRow[] }>(`/api/w/${slug}/members/${userId}`, {
         method: "PATCH",
         body: JSON.stringify({ role }),
       }).then((r) => r.members),
@@ -32,7 +32,7 @@ export function MembersTable({ slug, meId, initial }: { slug: string; meId: numb
   });
   const remove = useMutation({
     mutationFn: (userId: number) =>
-      apiFetch<{ members: MemberRow[] }>(`/api/workspaces/${slug}/members/${userId}`, { method: "DELETE" }).then((r) => r.members),
+      apiFetch<{ members: MemberRow[] }>(`/api/w/${slug}/members/${userId}`, { method: "DELETE" }).then((r) => r.members),
     ...settle,
     onSettled: () => setConfirming(null),
   });

@@ -14,20 +14,20 @@ export const teamKeys = {
 export function membersQuery(slug: string) {
   return queryOptions({
     queryKey: teamKeys.members(slug),
-    queryFn: () => apiFetch<{ members: MemberRow[] }>(`/api/workspaces/${slug}/members`).then((r) => r.members),
+    queryFn: () => apiFetch<{ members: MemberRow[] }>(`/api/w/${slug}/members`).then((r) => r.members),
   });
 }
 
 export function invitationsQuery(slug: string) {
   return queryOptions({
     queryKey: teamKeys.invitations(slug),
-    queryFn: () => apiFetch<{ invitations: InvitationRow[] }>(`/api/workspaces/${slug}/invitations`).then((r) => r.invitations),
+    queryFn: () => apiFetch<{ invitations: InvitationRow[] }>(`/api/w/${slug}/invitations`).then((r) => r.invitations),
   });
 }
 
 export function auditQuery(slug: string) {
   return queryOptions({
     queryKey: teamKeys.audit(slug),
-    queryFn: () => apiFetch<{ events: AuditRow[] }>(`/api/workspaces/${slug}/audit`).then((r) => r.events),
+    queryFn: () => apiFetch<{ events: AuditRow[] }>(`/api/w/${slug}/audit`).then((r) => r.events),
   });
 }

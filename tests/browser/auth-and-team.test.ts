@@ -100,7 +100,7 @@ describe("signing in", () => {
       if (role === "subscriber") await page.goto(`/w/${slug}/team`).then(() => screenshot(page, "team-forbidden-subscriber"));
 
       // The team API answers 403 to non-managers and 200 to managers.
-      const api = await page.request.get(`/api/workspaces/${slug}/members`);
+      const api = await page.request.get(`/api/w/${slug}/members`);
       expect(api.status()).toBe(role === "manager" ? 200 : 403);
 
       // A workspace one does not belong to does not exist.

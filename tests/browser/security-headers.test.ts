@@ -199,7 +199,7 @@ describe("security headers on the running app", () => {
     const attacker = createServer((_req, res) => {
       res.writeHead(200, { "content-type": "text/html" });
       res.end(`<!doctype html><title>elsewhere</title><script>
-        fetch(${JSON.stringify(`${appUrl}/api/workspaces/${slug}/invitations`)}, {
+        fetch(${JSON.stringify(`${appUrl}/api/w/${slug}/invitations`)}, {
           method: "POST", mode: "no-cors", credentials: "include",
           headers: { "content-type": "text/plain" },
           body: JSON.stringify({ email: ${JSON.stringify(victim)}, role: "manager" }),
@@ -221,12 +221,12 @@ describe("security headers on the running app", () => {
       attacker.closeAllConnections();
       await new Promise((resolve) => attacker.close(resolve));
     }
-    const pending = await context.request.get(`/api/workspaces/${slug}/invitations`);
+    const pending = await context.request.get(`/api/w/${slug}/invitations`);
     const emails = ((await pending.json()) as { invitations: { email: string }[] }).invitations.map((i) => i.email);
     expect(emails).not.toContain(victim);
 
     // A request that claims another origin is refused whatever sends it.
-    const direct = await context.request.post(`/api/workspaces/${slug}/invitations`, {
+    const direct = await context.request.post(`/api/w/${slug}/invitations`, {
       headers: { origin: "https://attacker.example", "content-type": "application/json" },
       data: { email: victim, role: "manager" },
     });
@@ -236,7 +236,7 @@ describe("security headers on the running app", () => {
     await page.goto("/sign-in");
     const own = await page.evaluate(
       async ([url, email]) => (await fetch(url, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify({ email, role: "subscriber" }) })).status,
-      [`/api/workspaces/${slug}/invitations`, victim] as const,
+      [`/api/w/${slug}/invitations`, victim] as const,
     );
     expect(own).toBe(201);
   });

@@ -1,6 +1,6 @@
 import { QueryTypes } from "sequelize";
 import { POST as acceptRoute } from "@/app/api/invitations/accept/route";
-import { POST as postInvitation } from "@/app/api/workspaces/[slug]/invitations/route";
+import { POST as postInvitation } from "@/app/api/w/[slug]/invitations/route";
 import InvitePage from "@/app/(auth)/invite/[token]/page";
 import { AcceptInvitation } from "@/components/auth/accept-invitation";
 import { SignInForm } from "@/components/auth/sign-in-form";

@@ -1,8 +1,8 @@
 import { QueryTypes } from "sequelize";
-import { GET as getMembers } from "@/app/api/workspaces/[slug]/members/route";
-import { DELETE as removeMember, PATCH as patchMember } from "@/app/api/workspaces/[slug]/members/[userId]/route";
-import { POST as postInvitation } from "@/app/api/workspaces/[slug]/invitations/route";
-import { GET as getAudit } from "@/app/api/workspaces/[slug]/audit/route";
+import { GET as getMembers } from "@/app/api/w/[slug]/members/route";
+import { DELETE as removeMember, PATCH as patchMember } from "@/app/api/w/[slug]/members/[userId]/route";
+import { POST as postInvitation } from "@/app/api/w/[slug]/invitations/route";
+import { GET as getAudit } from "@/app/api/w/[slug]/audit/route";
 import { getSessionUser, type SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { models } from "@/lib/models";

@@ -1,8 +1,8 @@
 import { QueryTypes } from "sequelize";
-import { POST as postUpload } from "@/app/api/workspaces/[slug]/intake/uploads/route";
-import { POST as postComplete } from "@/app/api/workspaces/[slug]/intake/uploads/[uploadId]/complete/route";
-import { GET as getPreview } from "@/app/api/workspaces/[slug]/intake/uploads/[uploadId]/preview/route";
-import { POST as postBoundaries } from "@/app/api/workspaces/[slug]/intake/boundaries/route";
+import { POST as postUpload } from "@/app/api/w/[slug]/intake/uploads/route";
+import { POST as postComplete } from "@/app/api/w/[slug]/intake/uploads/[uploadId]/complete/route";
+import { GET as getPreview } from "@/app/api/w/[slug]/intake/uploads/[uploadId]/preview/route";
+import { POST as postBoundaries } from "@/app/api/w/[slug]/intake/boundaries/route";
 import { putFailureMessage } from "@/components/intake/upload-file";
 import { requireMember, type MemberContext } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";

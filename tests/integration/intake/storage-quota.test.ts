@@ -2,8 +2,8 @@
 const savedQuota = process.env.WORKSPACE_STORAGE_QUOTA_MB;
 process.env.WORKSPACE_STORAGE_QUOTA_MB = "1";
 
-import { POST as postUpload } from "@/app/api/workspaces/[slug]/intake/uploads/route";
-import { POST as postComplete } from "@/app/api/workspaces/[slug]/intake/uploads/[uploadId]/complete/route";
+import { POST as postUpload } from "@/app/api/w/[slug]/intake/uploads/route";
+import { POST as postComplete } from "@/app/api/w/[slug]/intake/uploads/[uploadId]/complete/route";
 import { requireMember } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
 import { createBoundaryVersion, createUpload, createUploadSchema } from "@/lib/intake/service";

@@ -1,9 +1,9 @@
 import { QueryTypes } from "sequelize";
-import { POST as postUpload } from "@/app/api/workspaces/[slug]/intake/uploads/route";
-import { POST as postComplete } from "@/app/api/workspaces/[slug]/intake/uploads/[uploadId]/complete/route";
-import { POST as postBoundaries } from "@/app/api/workspaces/[slug]/intake/boundaries/route";
-import { POST as postPanels } from "@/app/api/workspaces/[slug]/intake/panels/route";
-import { POST as postPublish } from "@/app/api/workspaces/[slug]/intake/versions/[kind]/[versionId]/publish/route";
+import { POST as postUpload } from "@/app/api/w/[slug]/intake/uploads/route";
+import { POST as postComplete } from "@/app/api/w/[slug]/intake/uploads/[uploadId]/complete/route";
+import { POST as postBoundaries } from "@/app/api/w/[slug]/intake/boundaries/route";
+import { POST as postPanels } from "@/app/api/w/[slug]/intake/panels/route";
+import { POST as postPublish } from "@/app/api/w/[slug]/intake/versions/[kind]/[versionId]/publish/route";
 import { POST as postRun } from "@/app/api/w/[slug]/runs/route";
 import { db } from "@/lib/db";
 import { waitFor } from "@/tests/helpers/wait";

@@ -1,9 +1,9 @@
 import { randomBytes } from "node:crypto";
 import { QueryTypes } from "sequelize";
 import { POST as postWorkspace } from "@/app/api/workspaces/route";
-import { PUT as putIndicator } from "@/app/api/workspaces/[slug]/intake/indicators/[code]/route";
-import { POST as postInvitation } from "@/app/api/workspaces/[slug]/invitations/route";
-import { POST as postPanels } from "@/app/api/workspaces/[slug]/intake/panels/route";
+import { PUT as putIndicator } from "@/app/api/w/[slug]/intake/indicators/[code]/route";
+import { POST as postInvitation } from "@/app/api/w/[slug]/invitations/route";
+import { POST as postPanels } from "@/app/api/w/[slug]/intake/panels/route";
 import { PUT as putDigest } from "@/app/api/w/[slug]/digests/route";
 import { POST as postSendNow } from "@/app/api/w/[slug]/digests/send-now/route";
 import { db } from "@/lib/db";
@@ -183,7 +183,7 @@ export async function buildTenancyWorld(signInAs: SignInAs): Promise<TenancyWorl
   );
   const panelVersionId = Number(panel.id);
   await validated("panel", panelVersionId);
-  const { POST: postPublish } = await import("@/app/api/workspaces/[slug]/intake/versions/[kind]/[versionId]/publish/route");
+  const { POST: postPublish } = await import("@/app/api/w/[slug]/intake/versions/[kind]/[versionId]/publish/route");
   await expectStatus(await postPublish(jsonRequest("POST"), ctx({ slug, kind: "panel", versionId: String(panelVersionId) })), 200, "publishing B's panel");
 
   // A draft (validated, never published) panel with an indicator of its own.

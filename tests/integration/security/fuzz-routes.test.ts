@@ -176,7 +176,7 @@ function paramArbitrary(name: string): fc.Arbitrary<string> {
 
 /** The search-parameter schema of each route that reads search parameters. */
 const QUERY_SCHEMAS: Record<string, z.ZodObject> = {
-  "app/api/workspaces/[slug]/intake/boundaries/[versionId]/weights/route.ts": weightsPreviewQuerySchema,
+  "app/api/w/[slug]/intake/boundaries/[versionId]/weights/route.ts": weightsPreviewQuerySchema,
   "app/api/w/[slug]/catalogue/route.ts": catalogueQuerySchema,
   "app/api/w/[slug]/catalogue/export/route.ts": catalogueQuerySchema,
   "app/api/w/[slug]/timeline/route.ts": timelineQuerySchema,

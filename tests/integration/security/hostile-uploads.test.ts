@@ -1,7 +1,7 @@
 import type { MiddlewareStack } from "@smithy/types";
-import { POST as postUpload } from "@/app/api/workspaces/[slug]/intake/uploads/route";
-import { POST as postComplete } from "@/app/api/workspaces/[slug]/intake/uploads/[uploadId]/complete/route";
-import { POST as postPanels } from "@/app/api/workspaces/[slug]/intake/panels/route";
+import { POST as postUpload } from "@/app/api/w/[slug]/intake/uploads/route";
+import { POST as postComplete } from "@/app/api/w/[slug]/intake/uploads/[uploadId]/complete/route";
+import { POST as postPanels } from "@/app/api/w/[slug]/intake/panels/route";
 import { getSessionUser } from "@/lib/auth/session";
 import { MAX_UPLOAD_BYTES } from "@/lib/intake/service";
 import { headObject, s3Client } from "@/lib/storage/s3";

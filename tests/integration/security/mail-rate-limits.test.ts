@@ -2,7 +2,7 @@ import { QueryTypes } from "sequelize";
 import { POST as postSendNow } from "@/app/api/w/[slug]/digests/send-now/route";
 import { POST as postRun } from "@/app/api/w/[slug]/runs/route";
 import { POST as postRerun } from "@/app/api/w/[slug]/runs/[runId]/rerun/route";
-import { POST as postInvitation } from "@/app/api/workspaces/[slug]/invitations/route";
+import { POST as postInvitation } from "@/app/api/w/[slug]/invitations/route";
 import { getSessionUser, type SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { saveSubscription } from "@/lib/digests/service";

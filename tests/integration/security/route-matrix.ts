@@ -90,8 +90,10 @@ const LONG_MAPPING = { layout: "long", region: "region", period: "period", indic
 
 const countIn = (table: string, column = "workspace_id") => (w: World) => scalar(`SELECT count(*)::int AS v FROM ${table} WHERE ${column} = $1`, [w.workspace.id]);
 
-const INTAKE = "app/api/workspaces/[slug]/intake";
+// Every workspace route lives under app/api/w/[slug]/ (audit, intake, invitations and members
+// moved there from app/api/workspaces/[slug]/; proxy.ts redirects their old paths for one release).
 const W = "app/api/w/[slug]";
+const INTAKE = `${W}/intake`;
 
 export const WORKSPACE_ROWS: WorkspaceRow[] = [
   // ——— intake: data.curate to change, results.view (published only) to read
@@ -273,7 +275,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   // ——— team: managers only
   {
     kind: "workspace",
-    route: "app/api/workspaces/[slug]/members/route.ts",
+    route: `${W}/members/route.ts`,
     method: "GET",
     capability: "team.manage",
     ok: 200,
@@ -282,7 +284,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
-    route: "app/api/workspaces/[slug]/members/[userId]/route.ts",
+    route: `${W}/members/[userId]/route.ts`,
     method: "PATCH",
     capability: "team.manage",
     ok: 200,
@@ -293,7 +295,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
-    route: "app/api/workspaces/[slug]/members/[userId]/route.ts",
+    route: `${W}/members/[userId]/route.ts`,
     method: "DELETE",
     capability: "team.manage",
     ok: 200,
@@ -303,7 +305,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
-    route: "app/api/workspaces/[slug]/invitations/route.ts",
+    route: `${W}/invitations/route.ts`,
     method: "GET",
     capability: "team.manage",
     ok: 200,
@@ -312,7 +314,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
-    route: "app/api/workspaces/[slug]/invitations/route.ts",
+    route: `${W}/invitations/route.ts`,
     method: "POST",
     capability: "team.manage",
     ok: 201,
@@ -323,7 +325,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
-    route: "app/api/workspaces/[slug]/invitations/[invitationId]/route.ts",
+    route: `${W}/invitations/[invitationId]/route.ts`,
     method: "DELETE",
     capability: "team.manage",
     ok: 204,
@@ -333,7 +335,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
-    route: "app/api/workspaces/[slug]/audit/route.ts",
+    route: `${W}/audit/route.ts`,
     method: "GET",
     capability: "team.manage",
     ok: 200,

@@ -1,5 +1,5 @@
 import { QueryTypes } from "sequelize";
-import { GET as getTopology } from "@/app/api/workspaces/[slug]/intake/boundaries/[versionId]/topology/route";
+import { GET as getTopology } from "@/app/api/w/[slug]/intake/boundaries/[versionId]/topology/route";
 import { POST as postRun } from "@/app/api/w/[slug]/runs/route";
 import { requireMember } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
@@ -161,7 +161,7 @@ describe("a PUT to an upload's old URL after publishing changes nothing any vers
 
 async function publishedPanelFromUpload(uploadId: string, boundarySetId: number): Promise<{ id: number; panelId: number; uploadId: string }> {
   // publishedPanel uploads its own file; this one reuses an upload whose ticket the test keeps.
-  const { POST: postPanels } = await import("@/app/api/workspaces/[slug]/intake/panels/route");
+  const { POST: postPanels } = await import("@/app/api/w/[slug]/intake/panels/route");
   const { validated, publish } = await import("./fixtures-intake");
   const response = await postPanels(jsonRequest("POST", { uploadId, panelName: `Copied panel ${uploadId.slice(0, 8)}`, boundarySetId, decimal: ".", mapping: LONG_MAPPING }), ctx({ slug }));
   const body = (await response.json()) as { id: number; parentId: number };
