@@ -1,7 +1,7 @@
 import Link from "next/link";
 import { redirect } from "next/navigation";
 import { getSessionUser } from "@/lib/auth/session";
-import { firstWorkspaceSlug } from "@/lib/auth/queries";
+import { firstWorkspaceSlug } from "@/lib/team/queries";
 import { Wordmark } from "@/components/ui/logo";
 import { SignOutButton } from "@/components/shell/sign-out-button";
 

@@ -1,5 +1,5 @@
 import { sendMail } from "@/lib/mail/send";
-import { sendInvitationEmail } from "@/lib/auth/invitation-mail";
+import { sendInvitationEmail } from "@/lib/team/invitation-mail";
 import { abandonPiece, runPiece } from "@/lib/runs/worker";
 import { runIntakeValidation } from "@/lib/intake/jobs";
 import { describeSweep } from "@/lib/intake/abandoned-uploads";

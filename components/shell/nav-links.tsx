@@ -2,7 +2,7 @@
 
 import Link from "next/link";
 import { usePathname } from "next/navigation";
-import type { NavItem } from "@/lib/auth/queries";
+import type { NavItem } from "@/lib/team/queries";
 
 export function NavLinks({ items }: { items: NavItem[] }) {
   const pathname = usePathname();

@@ -1,7 +1,7 @@
 import Link from "next/link";
 import { Wordmark } from "@/components/ui/logo";
 import { ROLE_LABELS, type Role } from "@/lib/auth/roles";
-import type { NavItem } from "@/lib/auth/queries";
+import type { NavItem } from "@/lib/team/queries";
 import { NavLinks } from "./nav-links";
 import { SignOutButton } from "./sign-out-button";
 import { WorkspaceSwitcher } from "./workspace-switcher";

@@ -1,7 +1,7 @@
 "use client";
 
 import { useQuery } from "@tanstack/react-query";
-import type { AuditRow } from "@/lib/auth/team";
+import type { AuditRow } from "@/lib/team/audit";
 import { auditQuery } from "./query-options";
 import { runName } from "@/lib/runs/label";
 

@@ -4,8 +4,8 @@ import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useState } from "react";
 import { inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
 import { ROLES, ROLE_LABELS, type Role } from "@/lib/auth/roles";
-import { inviteSchema } from "@/lib/auth/schemas";
-import type { InvitationRow } from "@/lib/auth/team";
+import { inviteSchema } from "@/lib/team/schemas";
+import type { InvitationRow } from "@/lib/team/invitations";
 import { ApiError, apiFetch } from "@/lib/client/api-fetch";
 import { invitationsQuery, teamKeys } from "./query-options";
 

@@ -4,7 +4,7 @@ import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { useState } from "react";
 import { dangerButton, secondaryButton } from "@/components/ui/button-styles";
 import { ROLES, ROLE_LABELS, type Role } from "@/lib/auth/roles";
-import type { MemberRow } from "@/lib/auth/team";
+import type { MemberRow } from "@/lib/team/members";
 import { apiFetch } from "@/lib/client/api-fetch";
 import { membersQuery, teamKeys } from "./query-options";
 

@@ -1,6 +1,8 @@
 import { queryOptions } from "@tanstack/react-query";
 import { apiFetch } from "@/lib/client/api-fetch";
-import type { AuditRow, InvitationRow, MemberRow } from "@/lib/auth/team";
+import type { AuditRow } from "@/lib/team/audit";
+import type { InvitationRow } from "@/lib/team/invitations";
+import type { MemberRow } from "@/lib/team/members";
 
 // One options factory per resource; mutations invalidate these keys.
 

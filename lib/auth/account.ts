@@ -1,7 +1,7 @@
 import { db } from "@/lib/db";
 import { HttpError } from "@/lib/http/errors";
 import { models } from "@/lib/models";
-import { audit } from "./audit";
+import { audit } from "@/lib/security/audit";
 import type { SessionUser } from "./session";
 import { hashPassword, verifyPassword } from "./passwords";
 import type { ChangePasswordInput } from "./schemas";

@@ -1,7 +1,7 @@
 import { env } from "@/lib/config/env";
 import { models } from "@/lib/models";
 import { normaliseEmail } from "@/models/user";
-import { audit } from "./audit";
+import { audit } from "@/lib/security/audit";
 import { verifyDeviceCookie } from "./device-cookie";
 import { verifyPassword } from "./passwords";
 import { checkThrottle, recordAttempt } from "./throttle";

@@ -18,7 +18,7 @@ import type { Readable } from "node:stream";
 import { Op, QueryTypes } from "sequelize";
 import { z } from "zod";
 import { db } from "@/lib/db";
-import { auditMember, versionTarget } from "@/lib/auth/audit";
+import { auditMember, versionTarget } from "@/lib/security/audit";
 import { ConflictError, InputError, NotFoundError } from "@/lib/http/errors";
 import type { MemberContext } from "@/lib/auth/guard";
 import { enqueue } from "@/lib/jobs/enqueue";

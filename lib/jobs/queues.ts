@@ -15,7 +15,7 @@ export const queueSchemas = {
     subject: z.string().min(1).max(300),
     text: z.string().max(10_000).default("Tessera mail self-check."),
   }),
-  /** Invitation to a workspace (lib/auth/invitation-mail.ts renders and sends it). */
+  /** Invitation to a workspace (lib/team/invitation-mail.ts renders and sends it). */
   "invitation-email": invitationEmailPayloadSchema,
   /** One indicator of an analysis run (lib/runs/worker.ts); several workers share a run's pieces. */
   "run-piece": z.object({ runId: z.number().int().positive(), indicator: z.string().min(1).max(120) }),

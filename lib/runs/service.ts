@@ -3,7 +3,7 @@
  * already authorised the member for "runs.manage" (route handlers) or is a
  * trusted script (the demo seed, benchmarks).
  */
-import { audit } from "@/lib/auth/audit";
+import { audit } from "@/lib/security/audit";
 import { ConflictError, InputError, NotFoundError } from "@/lib/http/errors";
 import { getBoss } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";

@@ -1,51 +1,48 @@
-import type { Transaction } from "sequelize";
-import { models } from "@/lib/models";
-import type { AuditAction } from "@/models/audit-event";
-import type { MemberContext } from "./guard";
+import { QueryTypes } from "sequelize";
+import { db } from "@/lib/db";
 
-export type AuditInput = {
-  workspaceId: number | null;
-  actorId: number | null;
-  actorEmail: string | null;
-  action: AuditAction;
-  target?: string | null;
-  detail?: Record<string, unknown>;
+// The audit trail as a workspace's managers read it on the Team screen. The
+// events are written through lib/security/audit.ts.
+
+export type AuditRow = {
+  id: string;
+  at: string;
+  action: string;
+  actor: string | null;
+  target: string | null;
+  detail: Record<string, unknown>;
 };
 
-/** Width of audit_events.target; a longer target is clipped so the audit write never fails the action it records. */
-export const AUDIT_TARGET_MAX = 320;
-
-function clip(text: string | null | undefined): string | null {
-  if (text === null || text === undefined) return null;
-  return text.length <= AUDIT_TARGET_MAX ? text : `${text.slice(0, AUDIT_TARGET_MAX - 1)}…`;
-}
-
-/** Appends one event to the audit trail (inside the caller's transaction when given). */
-export async function audit(input: AuditInput, transaction?: Transaction): Promise<void> {
-  const { AuditEvent } = models();
-  await AuditEvent.create(
-    {
-      workspaceId: input.workspaceId,
-      actorId: input.actorId,
-      actorEmail: input.actorEmail,
-      action: input.action,
-      target: clip(input.target),
-      detail: input.detail ?? {},
-    },
-    { transaction },
+/**
+ * The workspace's own events plus the sign-ins (which belong to no workspace)
+ * of people who are members now. Sign-in failures for addresses that are not
+ * members stay out: they are none of this workspace's business.
+ */
+export async function listAudit(workspaceId: number, limit = 100): Promise<AuditRow[]> {
+  const rows = await db().query<{
+    id: string;
+    at: Date;
+    action: string;
+    actor_name: string | null;
+    actor_email: string | null;
+    target: string | null;
+    detail: Record<string, unknown>;
+  }>(
+    `SELECT e.id, e.at, e.action, u.name AS actor_name, COALESCE(e.actor_email, u.email) AS actor_email, e.target, e.detail
+       FROM audit_events e LEFT JOIN users u ON u.id = e.actor_id
+      WHERE e.workspace_id = $1
+         OR (e.workspace_id IS NULL AND e.action LIKE 'sign-in.%' AND e.actor_email IN (
+               SELECT mu.email FROM memberships mm JOIN users mu ON mu.id = mm.user_id WHERE mm.workspace_id = $1))
+      ORDER BY e.at DESC, e.id DESC
+      LIMIT $2`,
+    { bind: [workspaceId, limit], type: QueryTypes.SELECT },
   );
-}
-
-/** One event done by a member in their own workspace, inside the transaction of the change it records. */
-export async function auditMember(
-  member: MemberContext,
-  event: { action: AuditAction; target: string; detail: Record<string, unknown> },
-  transaction: Transaction,
-): Promise<void> {
-  await audit({ workspaceId: member.workspace.id, actorId: member.user.id, actorEmail: member.user.email, ...event }, transaction);
-}
-
-/** How a boundary or panel version reads in the trail: `panel "Veldmark indicators" v3`. */
-export function versionTarget(kind: "boundaries" | "panel", parentName: string, version: number): string {
-  return `${kind === "panel" ? "panel" : "boundaries"} "${parentName}" v${version}`;
+  return rows.map((r) => ({
+    id: String(r.id),
+    at: new Date(r.at).toISOString(),
+    action: r.action,
+    actor: r.actor_name && r.actor_email ? `${r.actor_name} (${r.actor_email})` : (r.actor_name ?? r.actor_email),
+    target: r.target,
+    detail: r.detail ?? {},
+  }));
 }

@@ -1,14 +1,11 @@
 import { QueryTypes } from "sequelize";
 import { db } from "@/lib/db";
 import { sendMail } from "@/lib/mail/send";
+import { escapeHtml } from "@/lib/security/html";
 import type { InvitationEmailPayload } from "@/lib/jobs/payloads";
 
 // Renders and sends the invitation e-mail. Runs in the worker (worker/handlers.ts),
 // never in the request that created the invitation.
-
-function escapeHtml(value: string): string {
-  return value.replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c] ?? c);
-}
 
 function formatDate(iso: string): string {
   return new Intl.DateTimeFormat("en-GB", { dateStyle: "long", timeStyle: "short", timeZone: "UTC" }).format(new Date(iso)) + " UTC";

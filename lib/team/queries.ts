@@ -1,8 +1,10 @@
-import { countMembers, listAudit, listMembers, listPendingInvitations, workspacesOf } from "./team";
-import { requireMember, requireUser } from "./guard";
-import { can, type Capability, type Role } from "./roles";
+import { requireMember, requireUser } from "@/lib/auth/guard";
+import { can, type Capability, type Role } from "@/lib/auth/roles";
 import { env } from "@/lib/config/env";
 import { outboxEnabled } from "@/lib/mail/outbox-gate";
+import { listAudit } from "./audit";
+import { listPendingInvitations } from "./invitations";
+import { countMembers, listMembers, workspacesOf } from "./members";
 
 // Reads for server components. Each calls the guard first and returns plain objects.
 

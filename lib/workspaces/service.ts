@@ -1,5 +1,5 @@
 import { UniqueConstraintError } from "sequelize";
-import { audit } from "@/lib/auth/audit";
+import { audit } from "@/lib/security/audit";
 import { ConflictError } from "@/lib/http/errors";
 import type { SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";

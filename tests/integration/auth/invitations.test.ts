@@ -8,7 +8,7 @@ import { SignOutButton } from "@/components/shell/sign-out-button";
 import { authorizeMember } from "@/lib/auth/guard";
 import { verifySignIn } from "@/lib/auth/credentials";
 import { getSessionUser } from "@/lib/auth/session";
-import { createInvitation, viewInvitation } from "@/lib/auth/team";
+import { createInvitation, viewInvitation } from "@/lib/team/invitations";
 import { hashToken } from "@/lib/auth/tokens";
 import { db } from "@/lib/db";
 import { models } from "@/lib/models";

@@ -9,7 +9,7 @@ import { deviceCookieName, verifyDeviceCookie } from "@/lib/auth/device-cookie";
 import { authorizeMember, requireUser } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
 import { getSessionUser } from "@/lib/auth/session";
-import { removeMember } from "@/lib/auth/team";
+import { removeMember } from "@/lib/team/members";
 import { db } from "@/lib/db";
 import { callInRequestScope, cookieHeader, setCookies } from "@/tests/integration/security/fixtures-next";
 import { requireTestServices } from "@/tests/helpers/env";

@@ -2,7 +2,7 @@ import { randomBytes } from "node:crypto";
 import { QueryTypes } from "sequelize";
 import { authorizeMember, type MemberContext } from "@/lib/auth/guard";
 import type { Role } from "@/lib/auth/roles";
-import { createInvitation } from "@/lib/auth/team";
+import { createInvitation } from "@/lib/team/invitations";
 import { db } from "@/lib/db";
 import { saveSubscription } from "@/lib/digests/service";
 import { completeUpload, createUpload } from "@/lib/intake/service";

@@ -253,7 +253,7 @@ export const PUBLIC_ROWS: PublicRow[] = [
     route: "app/api/invitations/accept/route.ts",
     method: "POST",
     rule: "the invitation token is the credential; a new address may accept signed out (creating the account), an existing account must be signed in as the invited address",
-    readsBodyItself: "there is no workspace membership yet for memberRoute to check; the body is parsed with acceptInvitationSchema (lib/auth/schemas.ts)",
+    readsBodyItself: "there is no workspace membership yet for memberRoute to check; the body is parsed with acceptInvitationSchema (lib/team/schemas.ts)",
     cases: [
       {
         name: "a token that was never issued gets 410, never a 5xx",

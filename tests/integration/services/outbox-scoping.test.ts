@@ -1,7 +1,7 @@
 import nodemailer from "nodemailer";
 import { QueryTypes } from "sequelize";
 import { authorizeMember } from "@/lib/auth/guard";
-import { createInvitation } from "@/lib/auth/team";
+import { createInvitation } from "@/lib/team/invitations";
 import { db } from "@/lib/db";
 import { deliverDigest, saveSubscription } from "@/lib/digests/service";
 import { getCapturedMail, listCapturedMail, type CapturedMail } from "@/lib/mail/outbox";

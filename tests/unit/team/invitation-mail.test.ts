@@ -1,4 +1,4 @@
-import { renderInvitationEmail } from "@/lib/auth/invitation-mail";
+import { renderInvitationEmail } from "@/lib/team/invitation-mail";
 import { invitationEmailPayloadSchema } from "@/lib/jobs/payloads";
 
 const payload = invitationEmailPayloadSchema.parse({

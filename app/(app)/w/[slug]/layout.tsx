@@ -1,6 +1,6 @@
 import { TopBar } from "@/components/shell/top-bar";
 import { guardPage } from "@/lib/auth/page";
-import { getShell } from "@/lib/auth/queries";
+import { getShell } from "@/lib/team/queries";
 
 export const dynamic = "force-dynamic";
 

@@ -4,7 +4,7 @@ import { Wordmark } from "@/components/ui/logo";
 import { NewWorkspaceForm } from "@/components/workspaces/new-workspace-form";
 import { requireUser } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
-import { firstWorkspaceSlug } from "@/lib/auth/queries";
+import { firstWorkspaceSlug } from "@/lib/team/queries";
 
 export const metadata: Metadata = { title: "New workspace" };
 export const dynamic = "force-dynamic";

@@ -4,7 +4,7 @@ import { SignInForm } from "@/components/auth/sign-in-form";
 import { SignOutButton } from "@/components/shell/sign-out-button";
 import { getSessionUser } from "@/lib/auth/session";
 import { ROLE_LABELS, ROLE_SUMMARIES } from "@/lib/auth/roles";
-import { INVITATION_MESSAGES, viewInvitation } from "@/lib/auth/team";
+import { INVITATION_MESSAGES, viewInvitation } from "@/lib/team/invitations";
 
 export const metadata: Metadata = { title: "Invitation" };
 export const dynamic = "force-dynamic";

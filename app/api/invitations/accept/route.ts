@@ -1,8 +1,8 @@
 import { badRequest, jsonError } from "@/lib/http/errors";
 import { errorResponse } from "@/lib/http/route";
-import { acceptInvitationSchema } from "@/lib/auth/schemas";
+import { acceptInvitationSchema } from "@/lib/team/schemas";
 import { getSessionUser } from "@/lib/auth/session";
-import { acceptInvitation } from "@/lib/auth/team";
+import { acceptInvitation } from "@/lib/team/invitations";
 
 // Belongs to no workspace yet: the invitation token is the credential, checked
 // inside acceptInvitation together with the session (for existing accounts).

@@ -4,7 +4,7 @@ import { DeskPanel } from "@/components/runs/desk-panel";
 import { Cautions } from "@/components/ui/cautions";
 import { PageHeader } from "@/components/ui/page-header";
 import { guardPage } from "@/lib/auth/page";
-import { getDesk } from "@/lib/auth/queries";
+import { getDesk } from "@/lib/team/queries";
 import { ROLE_LABELS, ROLE_SUMMARIES, can } from "@/lib/auth/roles";
 
 export const metadata: Metadata = { title: "Desk" };

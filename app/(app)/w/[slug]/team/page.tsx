@@ -4,7 +4,7 @@ import { InvitationsPanel } from "@/components/team/invitations-panel";
 import { MembersTable } from "@/components/team/members-table";
 import { PageHeader } from "@/components/ui/page-header";
 import { guardPage } from "@/lib/auth/page";
-import { getTeam } from "@/lib/auth/queries";
+import { getTeam } from "@/lib/team/queries";
 
 export const metadata: Metadata = { title: "Team" };
 

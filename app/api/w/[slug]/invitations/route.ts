@@ -1,6 +1,6 @@
 import { memberRoute } from "@/lib/http/route";
-import { inviteSchema } from "@/lib/auth/schemas";
-import { createInvitation, listPendingInvitations } from "@/lib/auth/team";
+import { inviteSchema } from "@/lib/team/schemas";
+import { createInvitation, listPendingInvitations } from "@/lib/team/invitations";
 import { limitAction } from "@/lib/security/rate-limits";
 
 export const GET = memberRoute({ capability: "team.manage" }, async ({ member }) =>

@@ -1,5 +1,5 @@
 import type { Transaction } from "sequelize";
-import { auditMember } from "@/lib/auth/audit";
+import { auditMember } from "@/lib/security/audit";
 import { jsonError } from "@/lib/http/errors";
 import { memberRoute } from "@/lib/http/route";
 import { db } from "@/lib/db";

@@ -1,6 +1,6 @@
 import { memberRoute } from "@/lib/http/route";
 import { parseIdParam } from "@/lib/http/params";
-import { revokeInvitation } from "@/lib/auth/team";
+import { revokeInvitation } from "@/lib/team/invitations";
 
 export const DELETE = memberRoute({ capability: "team.manage" }, async ({ member, params }) => {
   const id = parseIdParam(params, "invitationId");

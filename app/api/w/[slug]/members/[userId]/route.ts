@@ -1,7 +1,7 @@
 import { memberRoute } from "@/lib/http/route";
-import { changeRoleSchema } from "@/lib/auth/schemas";
+import { changeRoleSchema } from "@/lib/team/schemas";
 import { parseIdParam } from "@/lib/http/params";
-import { changeRole, removeMember } from "@/lib/auth/team";
+import { changeRole, removeMember } from "@/lib/team/members";
 
 export const PATCH = memberRoute({ capability: "team.manage", body: changeRoleSchema }, async ({ member, body, params }) => {
   const userId = parseIdParam(params, "userId");
