@@ -22,7 +22,7 @@ const CAUTIONS: Record<CautionKey, { title: string; body: string }> = {
   },
   "small-rates": {
     title: "Rates on small populations",
-    body: "Rates on small bases are noisy; consider the empirical-Bayes standardisation option.",
+    body: "Rates on small bases are noisy, and the noise of small regions can dominate Moran's I. Runs do not yet smooth rates (empirical Bayes): read results on such rates with care.",
   },
 };
 

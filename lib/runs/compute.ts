@@ -9,7 +9,8 @@
  * per draw, the same relabellings for all three, so each equals the CLI's
  * moran / geary / getis-ord with --seed S); local Moran draws from a seed
  * derived from it. The permutation draws are therefore the same for every
- * period (common random numbers, docs/statistics.md), and an
+ * period in which the same regions have a value (common random numbers,
+ * docs/statistics.md; they depend on the seed and the count of regions), and an
  * indicator's numbers do not depend on which other indicators the run
  * includes.
  */
