@@ -288,7 +288,11 @@ describe("run and digest actions on the audit trail", () => {
     });
     const detail = onlyEvent(events, "digest.sent-now", subscriber, `digest to ${subscriber.email}`);
     expect(detail).toMatchObject({ cadence: "weekly", idempotencyKey: answer.idempotencyKey });
-    expect(typeof detail.subscriptionId).toBe("number");
+    const [own] = await db().query<{ id: number }>("SELECT id FROM digest_subscriptions WHERE workspace_id = $1 AND user_id = $2", {
+      bind: [workspaceId, subscriber.id],
+      type: QueryTypes.SELECT,
+    });
+    expect(detail.subscriptionId).toBe(own.id);
   });
 });
 
