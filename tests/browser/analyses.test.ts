@@ -94,8 +94,11 @@ it("an economist runs the demo panel, filters the catalogue, opens the unemploym
   await screenshot(page, "analyses-01-start-run");
   await page.getByRole("button", { name: "Start run" }).click();
   await page.getByText(/Run \d+ is queued/).waitFor();
-  const runId = Number((await page.getByText(/Run \d+ is queued/).innerText()).match(/Run (\d+)/)?.[1]);
+  // The notice names the run by its number in this workspace; the queue and the URLs use its id.
+  const started = page.getByTestId("started-run");
+  const runId = Number(await started.getAttribute("data-run-id"));
   expect(runId).toBeGreaterThan(0);
+  expect(await started.innerText()).toMatch(/^Run \d+$/);
   await page.locator(`[data-testid="run-${runId}"][data-state="completed"]`).waitFor({ timeout: 110_000 });
   await screenshot(page, "analyses-02-run-completed");
 
