@@ -8,12 +8,22 @@
  *   npm run -s stats -- local ... [--alpha A] [--correction none|bonferroni|fdr]
  *   npm run -s stats -- geary ...
  *   npm run -s stats -- getis-ord ...
+ *   npm run -s stats -- hotspots ... [--self include|exclude] [--alpha A] [--correction none|bonferroni|fdr]
+ *   npm run -s stats -- rate-moran --topology ... --id-column COL --events COL --population COL
+ *     [--weights ...] [--transform W|B] [--permutations R] [--seed S]
+ *   npm run -s stats -- rates --topology ... --id-column COL --events COL --population COL [--weights ...]
  *
  * Extra options (defaults in brackets): --islands keep|exclude|attach [keep],
  * --coordinates geographic|planar [detected from the bounding box],
  * --moments conditional|total (local) [conditional].
- * Defaults: weights queen; transform W (B for getis-ord); 999 permutations
- * (0 = none, else 99..99,999); seed 1; alpha 0.05; correction fdr.
+ * Defaults: weights queen; transform W (B for getis-ord and hotspots); 999
+ * permutations (0 = none, else 99..99,999); seed 1; alpha 0.05; correction
+ * fdr; self include (hotspots: Gi*).
+ *
+ * rate-moran and rates read --events and --population instead of --value:
+ * a region whose events or population is empty or not a number is excluded
+ * and named (id and column) in a "note:" line; negative events, a
+ * population ≤ 0 or events above the population are bad input (exit 2).
  *
  * Prints one JSON object on stdout. Bad input: exit code 2 and one line on
  * stderr naming the problem. Rows whose value is empty or not a number are
@@ -29,6 +39,11 @@ import {
   gearyC,
   generalG,
   globalMoran,
+  empiricalBayesMoran,
+  globalEmpiricalBayesRates,
+  hotSpotClasses,
+  localEmpiricalBayesRates,
+  localGetisOrd,
   localMoran,
   prepareAnalysis,
   regionCentroids,
@@ -42,7 +57,9 @@ import {
 
 class InputError extends Error {}
 
-const commands = ["moran", "local", "geary", "getis-ord"] as const;
+const commands = ["moran", "local", "geary", "getis-ord", "hotspots", "rate-moran", "rates"] as const;
+/** Commands that analyse events over a population (--events, --population) instead of --value. */
+const rateCommands: readonly Command[] = ["rate-moran", "rates"];
 type Command = (typeof commands)[number];
 
 const weightsPattern = /^(queen|rook|knn:\d+(:symmetric)?|band(:(auto|\d+(\.\d+)?))?|idw(:(auto|\d+(\.\d+)?))?(:\d+(\.\d+)?)?)$/i;
@@ -54,7 +71,9 @@ const optionsSchema = z
     id: z.string().min(1),
     data: z.string().min(1),
     "id-column": z.string().min(1),
-    value: z.string().min(1),
+    value: z.string().min(1).optional(),
+    events: z.string().min(1).optional(),
+    population: z.string().min(1).optional(),
     weights: z.string().regex(weightsPattern, "use queen, rook, knn:K, band:KM or idw:KM:POWER").default("queen"),
     transform: z.enum(["W", "B"]).optional(),
     permutations: z.coerce
@@ -68,20 +87,23 @@ const optionsSchema = z
     islands: z.enum(["keep", "exclude", "attach"]).default("keep"),
     coordinates: z.enum(["geographic", "planar"]).optional(),
     moments: z.enum(["conditional", "total"]).default("conditional"),
+    self: z.enum(["include", "exclude"]).default("include"),
   })
   .strict();
 
 type Options = z.infer<typeof optionsSchema>;
 
 const usage =
-  "usage: stats <moran|local|geary|getis-ord> --topology FILE --object NAME --id PROP --data FILE.csv --id-column COL --value COL " +
-  "[--weights queen|rook|knn:K|band:KM|idw:KM:POWER] [--transform W|B] [--permutations R] [--seed S] [--alpha A] [--correction none|bonferroni|fdr]";
+  "usage: stats <moran|local|geary|getis-ord|hotspots|rate-moran|rates> --topology FILE --object NAME --id PROP --data FILE.csv --id-column COL " +
+  "(--value COL | --events COL --population COL) " +
+  "[--weights queen|rook|knn:K|band:KM|idw:KM:POWER] [--transform W|B] [--permutations R] [--seed S] [--alpha A] [--correction none|bonferroni|fdr] " +
+  "[--self include|exclude]. rate-moran and rates take --events and --population; the others take --value; hotspots takes --self.";
 
 function parseArguments(argv: readonly string[]): { command: Command; options: Options } {
   const [command, ...rest] = argv;
   if (command === undefined) throw new InputError(usage);
   if (!(commands as readonly string[]).includes(command)) {
-    throw new InputError(`Unknown command "${command}"; use moran, local, geary or getis-ord.`);
+    throw new InputError(`Unknown command "${command}"; use moran, local, geary, getis-ord, hotspots, rate-moran or rates.`);
   }
   const raw: Record<string, string> = {};
   for (let k = 0; k < rest.length; k++) {
@@ -107,7 +129,20 @@ function parseArguments(argv: readonly string[]): { command: Command; options: O
     const missing = issue.code === "invalid_type" && raw[name] === undefined;
     throw new InputError(missing ? `Missing required option --${name}.` : `Option --${name}: ${issue.message}.`);
   }
-  return { command: command as Command, options: parsed.data };
+  const options = parsed.data;
+  if (rateCommands.includes(command as Command)) {
+    if (options.value !== undefined) throw new InputError(`Option --value does not apply to ${command}; give --events and --population.`);
+    if (options.events === undefined) throw new InputError("Missing required option --events.");
+    if (options.population === undefined) throw new InputError("Missing required option --population.");
+    if (options.events === options.population) throw new InputError(`Options --events and --population name the same column "${options.events}".`);
+  } else {
+    for (const name of ["events", "population"] as const) {
+      if (options[name] !== undefined) throw new InputError(`Option --${name} applies only to rate-moran and rates; ${command} takes --value.`);
+    }
+    if (options.value === undefined) throw new InputError("Missing required option --value.");
+  }
+  if (raw.self !== undefined && command !== "hotspots") throw new InputError(`Option --self applies only to hotspots.`);
+  return { command: command as Command, options };
 }
 
 function readText(path: string, what: string): string {
@@ -140,38 +175,47 @@ interface DataValues {
 }
 
 function readData(path: string, idColumn: string, valueColumn: string): DataValues {
+  const [values] = readColumns(path, idColumn, [valueColumn]);
+  return values;
+}
+
+/** The id column and one or more value columns of the --data CSV, one {@link DataValues} per value column. */
+function readColumns(path: string, idColumn: string, valueColumns: readonly string[]): DataValues[] {
   const text = readText(path, "--data");
   const parsed = Papa.parse<Record<string, string>>(text, { header: true, skipEmptyLines: "greedy", transformHeader: (h) => h.trim() });
   const fatal = parsed.errors.find((e) => e.type === "Delimiter" || e.type === "Quotes");
   if (fatal) throw new InputError(`The --data file "${path}" is not readable CSV (row ${fatal.row ?? "?"}: ${fatal.message}).`);
   const columns = parsed.meta.fields ?? [];
-  for (const column of [idColumn, valueColumn]) {
+  for (const column of [idColumn, ...valueColumns]) {
     if (!columns.includes(column)) {
       throw new InputError(`The data has no column "${column}"; its columns are ${quoteFew(columns) || "none"}.`);
     }
   }
-  const values = new Map<string, number | null>();
-  const empty: string[] = [];
-  const nonNumeric: string[] = [];
+  const perColumn = valueColumns.map(() => ({ values: new Map<string, number | null>(), empty: [] as string[], nonNumeric: [] as string[] }));
+  const seen = new Set<string>();
   parsed.data.forEach((row, index) => {
     const id = (row[idColumn] ?? "").trim();
     if (id === "") throw new InputError(`Row ${index + 2} of the data has an empty "${idColumn}".`);
-    if (values.has(id)) throw new InputError(`Region id "${id}" appears more than once in the data.`);
-    const cell = (row[valueColumn] ?? "").trim();
-    if (cell === "" || /^(na|nan|null)$/i.test(cell)) {
-      empty.push(id);
-      values.set(id, null);
-      return;
-    }
-    const v = Number(cell);
-    if (!Number.isFinite(v)) {
-      nonNumeric.push(id);
-      values.set(id, null);
-      return;
-    }
-    values.set(id, v);
+    if (seen.has(id)) throw new InputError(`Region id "${id}" appears more than once in the data.`);
+    seen.add(id);
+    valueColumns.forEach((valueColumn, c) => {
+      const { values, empty, nonNumeric } = perColumn[c];
+      const cell = (row[valueColumn] ?? "").trim();
+      if (cell === "" || /^(na|nan|null)$/i.test(cell)) {
+        empty.push(id);
+        values.set(id, null);
+        return;
+      }
+      const v = Number(cell);
+      if (!Number.isFinite(v)) {
+        nonNumeric.push(id);
+        values.set(id, null);
+        return;
+      }
+      values.set(id, v);
+    });
   });
-  return { values, empty, nonNumeric };
+  return perColumn;
 }
 
 function analytical(inference: AnalyticalInference): { variance: number; z: number; pTwoSided: number; pGreater: number } {
@@ -205,10 +249,64 @@ function weightsFields(prepared: PreparedAnalysis, transformLetter: "W" | "B") {
   };
 }
 
+interface AnalysisValues {
+  /** One value per region of the data (null: left out). */
+  readonly values: Map<string, number | null>;
+  /** What was left out and why, for a "note:" line; null when nothing was. */
+  readonly excluded: string | null;
+  /** Events and populations of the regions with both (rate commands only). */
+  readonly rates: { readonly events: Map<string, number>; readonly population: Map<string, number> } | null;
+}
+
+/** --value for most commands; events over population for the rate commands (checked here, at the edge). */
+function analysisValues(command: Command, options: Options): AnalysisValues {
+  if (!rateCommands.includes(command)) {
+    const valueColumn = options.value as string;
+    const data = readData(options.data, options["id-column"], valueColumn);
+    const parts: string[] = [];
+    if (data.nonNumeric.length > 0) parts.push(`${data.nonNumeric.length} non-numeric value(s) (${quoteFew(data.nonNumeric)})`);
+    if (data.empty.length > 0) parts.push(`${data.empty.length} empty value(s) (${quoteFew(data.empty)})`);
+    return { values: data.values, excluded: parts.length > 0 ? `${parts.join(" and ")} in column "${valueColumn}"` : null, rates: null };
+  }
+  const eventsColumn = options.events as string;
+  const populationColumn = options.population as string;
+  const [eventsData, populationData] = readColumns(options.data, options["id-column"], [eventsColumn, populationColumn]);
+  const values = new Map<string, number | null>();
+  const events = new Map<string, number>();
+  const population = new Map<string, number>();
+  const missing: string[] = [];
+  for (const [id, o] of eventsData.values) {
+    const p = populationData.values.get(id) ?? null;
+    const absent = [o === null ? eventsColumn : null, p === null ? populationColumn : null].filter((c): c is string => c !== null);
+    if (o === null || p === null) {
+      missing.push(`"${id}" (column ${absent.map((c) => `"${c}"`).join(" and ")})`);
+      values.set(id, null);
+      continue;
+    }
+    if (o < 0) throw new InputError(`Region "${id}": events in column "${eventsColumn}" are ${o}; events must be ≥ 0.`);
+    if (p <= 0) throw new InputError(`Region "${id}": population in column "${populationColumn}" is ${p}; the population must be > 0.`);
+    if (o > p) throw new InputError(`Region "${id}": events (${o}, column "${eventsColumn}") exceed the population (${p}, column "${populationColumn}").`);
+    events.set(id, o);
+    population.set(id, p);
+    values.set(id, o / p);
+  }
+  if (events.size === 0) {
+    throw new InputError(`No region has a number in both column "${eventsColumn}" and column "${populationColumn}".`);
+  }
+  const named = missing.slice(0, 5).join(", ") + (missing.length > 5 ? ` and ${missing.length - 5} more` : "");
+  const excluded = missing.length > 0 ? `${missing.length} region(s) with an empty or non-numeric value: ${named}` : null;
+  return { values, excluded, rates: { events, population } };
+}
+
+/** Events and populations aligned with the prepared regions. */
+function alignedCounts(rates: NonNullable<AnalysisValues["rates"]>, ids: readonly string[]): { events: number[]; population: number[] } {
+  return { events: ids.map((id) => rates.events.get(id) as number), population: ids.map((id) => rates.population.get(id) as number) };
+}
+
 function run(argv: readonly string[]): { output: unknown; notes: string[] } {
   const { command, options } = parseArguments(argv);
   const topology = readTopology(options.topology);
-  const data = readData(options.data, options["id-column"], options.value);
+  const data = analysisValues(command, options);
   const regionOptions = { object: options.object, idProperty: options.id };
   const boundaryIds = topologyRegionIds(topology, regionOptions);
   const boundarySet = new Set(boundaryIds);
@@ -221,7 +319,7 @@ function run(argv: readonly string[]): { output: unknown; notes: string[] } {
     throw new InputError(`${notInData.length} region(s) of the boundaries have no row in the data: ${quoteFew(notInData)}.`);
   }
   const base = weightsFromTopology(topology, options.weights, { ...regionOptions, coordinates: options.coordinates });
-  const transformLetter = options.transform ?? (command === "getis-ord" ? "B" : "W");
+  const transformLetter = options.transform ?? (command === "getis-ord" || command === "hotspots" ? "B" : "W");
   const points = options.islands === "attach" ? regionCentroids(topology, { ...regionOptions, coordinates: options.coordinates }) : undefined;
   const prepared = prepareAnalysis(base, data.values, {
     islandPolicy: options.islands,
@@ -229,13 +327,7 @@ function run(argv: readonly string[]): { output: unknown; notes: string[] } {
     points,
   });
   const notes: string[] = [];
-  const excluded = data.empty.length + data.nonNumeric.length;
-  if (excluded > 0) {
-    const parts: string[] = [];
-    if (data.nonNumeric.length > 0) parts.push(`${data.nonNumeric.length} non-numeric value(s) (${quoteFew(data.nonNumeric)})`);
-    if (data.empty.length > 0) parts.push(`${data.empty.length} empty value(s) (${quoteFew(data.empty)})`);
-    notes.push(`note: excluded ${parts.join(" and ")} in column "${options.value}"; n = ${prepared.ids.length}.`);
-  }
+  if (data.excluded !== null) notes.push(`note: excluded ${data.excluded}; n = ${prepared.ids.length}.`);
   if (prepared.report.droppedCounts["island-excluded"] > 0) {
     notes.push(`note: excluded ${prepared.report.droppedCounts["island-excluded"]} region(s) without neighbours (--islands exclude).`);
   }
@@ -286,6 +378,50 @@ function run(argv: readonly string[]): { output: unknown; notes: string[] } {
           normality: null,
           randomization: analytical(r.randomisation),
           permutation: permutationFields(r.permutation, options.seed),
+        },
+      };
+    }
+    case "hotspots": {
+      const r = localGetisOrd(prepared.values, prepared.weights, { ...permutationOptions, star: options.self === "include" });
+      const { classes } = hotSpotClasses(r, { alpha: options.alpha, correction: options.correction });
+      return {
+        notes,
+        output: {
+          n,
+          regions: r.regions.map((region, i) => ({
+            id: region.id,
+            G: region.G,
+            expectedG: region.expectedG,
+            varianceG: region.varianceG,
+            z: region.z,
+            p: region.p,
+            pseudoP: region.pseudoP,
+            class: classes[i],
+          })),
+        },
+      };
+    }
+    case "rate-moran": {
+      const counts = alignedCounts(data.rates as NonNullable<AnalysisValues["rates"]>, prepared.ids);
+      const r = empiricalBayesMoran(counts.events, counts.population, prepared.weights, permutationOptions);
+      return { notes, output: { n, I: r.I, permutation: permutationFields(r.permutation, options.seed) } };
+    }
+    case "rates": {
+      const counts = alignedCounts(data.rates as NonNullable<AnalysisValues["rates"]>, prepared.ids);
+      const global = globalEmpiricalBayesRates(counts.events, counts.population);
+      const local = localEmpiricalBayesRates(counts.events, counts.population, prepared.weights);
+      return {
+        notes,
+        output: {
+          n,
+          regions: prepared.ids.map((id, i) => ({
+            id,
+            events: counts.events[i],
+            population: counts.population[i],
+            raw: global.raw[i],
+            smoothedGlobal: global.smoothed[i],
+            smoothedLocal: local.smoothed[i],
+          })),
         },
       };
     }

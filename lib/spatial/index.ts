@@ -109,16 +109,22 @@ export type {
   ClusterClass,
   PValueSource,
 } from "./local-moran";
-export { localGetisOrd } from "./local-getis-ord";
-export type { LocalGetisOrdResult, LocalGetisOrdRegion, LocalGetisOrdOptions } from "./local-getis-ord";
+export { localGetisOrd, hotSpotClasses } from "./local-getis-ord";
+export type { LocalGetisOrdResult, LocalGetisOrdRegion, LocalGetisOrdOptions, HotSpotClass, HotSpotOptions, HotSpotClasses } from "./local-getis-ord";
 export { adjustPValues, significantAfterCorrection } from "./multiple-testing";
 export { reachableSignificance } from "./reachable-significance";
 export type { ReachableSignificance, PermutationAlternative } from "./reachable-significance";
 export type { Correction } from "./multiple-testing";
 
 // Rates and transitions.
-export { empiricalBayesStandardise } from "./empirical-bayes";
-export type { EmpiricalBayesResult } from "./empirical-bayes";
+export { empiricalBayesStandardise, empiricalBayesMoran, globalEmpiricalBayesRates, localEmpiricalBayesRates } from "./empirical-bayes";
+export type {
+  EmpiricalBayesResult,
+  EmpiricalBayesMoranResult,
+  GlobalEmpiricalBayesRates,
+  LocalEmpiricalBayesRates,
+  LocalEmpiricalBayesOptions,
+} from "./empirical-bayes";
 export { transitionTable, spatialMarkov, clusterTransitions, CLUSTER_CLASSES } from "./spatial-markov";
 export { chiSquareIndependence } from "./contingency";
 export type { IndependenceTest } from "./contingency";

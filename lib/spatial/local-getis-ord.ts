@@ -7,6 +7,8 @@ import { checkedValues, requireRegions } from "./internal";
 import { normalTailProbabilities } from "./distributions";
 import { checkPermutationCount } from "./random";
 import { conditionalLagPermutations } from "./local-permutation";
+import { adjustPValues, type Correction } from "./multiple-testing";
+import type { PValueSource } from "./local-moran";
 
 /** One region of a {@link localGetisOrd} result. */
 export interface LocalGetisOrdRegion {
@@ -189,4 +191,63 @@ export function localGetisOrd(values: ArrayLike<number>, weights: SpatialWeights
     });
   }
   return { n, star, permutations, regions };
+}
+
+/** Hot-spot class of a region: significant with z > 0, significant with z < 0, or neither. */
+export type HotSpotClass = "hot" | "cold" | "not-significant";
+
+/** Options of {@link hotSpotClasses}. */
+export interface HotSpotOptions {
+  /** Significance level, 0 < alpha < 1; default 0.05. */
+  readonly alpha?: number;
+  /** Multiple-testing correction; default `"fdr"`. */
+  readonly correction?: Correction;
+  /**
+   * Which p decides: `"permutation"` (the two-sided pseudo p) or `"analytical"`
+   * (the two-sided normal p of z). Default: permutation when the result has
+   * permutations, else analytical — the rule of local Moran's clusters.
+   */
+  readonly pValueSource?: PValueSource;
+}
+
+/** Result of {@link hotSpotClasses}. */
+export interface HotSpotClasses {
+  readonly alpha: number;
+  readonly correction: Correction;
+  readonly pValueSource: PValueSource;
+  /** Number of tests m counted by the correction (regions with a p). */
+  readonly tests: number;
+  /** The deciding p after the correction, per region (null: no test). */
+  readonly adjustedP: readonly (number | null)[];
+  readonly classes: readonly HotSpotClass[];
+}
+
+/**
+ * Hot and cold spots from a {@link localGetisOrd} result: a region is
+ * significant when its deciding p (two-sided; see `pValueSource`), adjusted
+ * for the m regions that have a test ({@link adjustPValues}), is at most
+ * alpha; it is then `"hot"` when z > 0 and `"cold"` when z < 0 (Ord & Getis
+ * 1995: high values around i give a positive z). Regions without a test
+ * (no neighbours, zero spread) are `"not-significant"` and not counted in m.
+ *
+ * @throws Error for a bad alpha or correction, or `"permutation"` on a result
+ *   without permutations.
+ * Cost: O(n log n).
+ * @example
+ *   hotSpotClasses(localGetisOrd(x, w, { permutations: 999, random }), { alpha: 0.05, correction: "fdr" }).classes;
+ */
+export function hotSpotClasses(result: LocalGetisOrdResult, options: HotSpotOptions = {}): HotSpotClasses {
+  const alpha = options.alpha ?? 0.05;
+  if (!(alpha > 0 && alpha < 1)) throw new Error(`alpha must be between 0 and 1; got ${String(alpha)}.`);
+  const correction = options.correction ?? "fdr";
+  const pValueSource = options.pValueSource ?? (result.permutations > 0 ? "permutation" : "analytical");
+  if (pValueSource === "permutation" && result.permutations === 0) throw new Error('pValueSource "permutation" needs permutations > 0.');
+  const deciding = result.regions.map((r) => (r.z === null ? null : pValueSource === "permutation" ? r.pseudoP : r.p));
+  const adjustedP = adjustPValues(deciding, correction);
+  const classes = result.regions.map((r, i): HotSpotClass => {
+    const p = adjustedP[i];
+    if (p === null || p > alpha || r.z === null || r.z === 0) return "not-significant";
+    return r.z > 0 ? "hot" : "cold";
+  });
+  return { alpha, correction, pValueSource, tests: deciding.filter((p) => p !== null).length, adjustedP, classes };
 }
