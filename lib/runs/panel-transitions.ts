@@ -16,7 +16,6 @@ import type { ResolvedRunParams } from "./schemas";
 
 /** Default number of quantile classes (quintiles). */
 export const PANEL_TRANSITION_CLASSES = 5;
-export const PANEL_TRANSITION_CLASS_CHOICES = [3, 4, 5] as const;
 
 export interface PanelTransitionPair {
   earlier: string;
