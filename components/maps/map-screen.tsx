@@ -20,6 +20,7 @@ import { escapeHtml } from "@/lib/security/html";
 import { periodPair } from "@/lib/runs/period-order";
 import { formatTick, formatValue } from "@/lib/runs/number-format";
 import { RunPicker } from "@/components/runs/run-picker";
+import { PanelTransitions } from "./panel-transitions";
 import { RegionMap, useRegionFeatures } from "./region-map";
 
 const CLASSES = CLUSTER_CLASS_ORDER;
@@ -160,6 +161,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
               )}
             </Panel>
           </div>
+          <PanelTransitions slug={slug} indicator={indicator} runId={runId} />
           <div className="grid gap-6 lg:grid-cols-2">
             {[mapA.data.map, mapB.data.map].map((m, k) => (
               <ScatterPanel key={`scatter-${k}`} map={m} unit={unit} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} />

@@ -3,6 +3,7 @@ import { apiFetch } from "@/lib/client/api-fetch";
 import type { DeskSummary, RunOption, RunPieceRow, RunSummary, Timeline } from "@/lib/runs/queries";
 import type { Comparison, MapGeometry, MapPeriod } from "@/lib/runs/on-demand";
 import type { RobustnessEntry } from "@/lib/runs/compare";
+import type { PanelTransitions } from "@/lib/runs/panel-transitions";
 import type { IndicatorMeta } from "@/lib/intake/published-panel";
 import { catalogueRowsOf, type CatalogueAnswer } from "@/lib/runs/catalogue-wire";
 import type { ReachabilityWarning } from "@/lib/runs/reachability";
@@ -21,6 +22,7 @@ export const runsKeys = {
   map: (slug: string, indicator: string, run: number | null, period: string) => ["analyses", slug, "map", indicator, run, period] as const,
   geometry: (slug: string, run: number) => ["analyses", slug, "geometry", run] as const,
   compare: (slug: string, indicator: string, run: number | null, a: string, b: string) => ["analyses", slug, "compare", indicator, run, a, b] as const,
+  panelTransitions: (slug: string, indicator: string, run: number | null, classes: number) => ["analyses", slug, "panel-transitions", indicator, run, classes] as const,
   desk: (slug: string) => ["analyses", slug, "desk"] as const,
 };
 
@@ -113,6 +115,15 @@ export function compareQuery(slug: string, indicator: string, run: number | null
     queryKey: runsKeys.compare(slug, indicator, run, a, b),
     queryFn: () => apiFetch<{ runId: number; comparison: Comparison }>(`${base(slug)}/compare?${qs({ indicator, run, a, b })}`),
     enabled: indicator !== "" && a !== "" && b !== "" && a !== b,
+    staleTime: Infinity,
+  });
+}
+
+export function panelTransitionsQuery(slug: string, indicator: string, run: number | null, classes: number) {
+  return queryOptions({
+    queryKey: runsKeys.panelTransitions(slug, indicator, run, classes),
+    queryFn: () => apiFetch<{ runId: number; transitions: PanelTransitions }>(`${base(slug)}/map/transitions?${qs({ indicator, run, classes })}`),
+    enabled: indicator !== "",
     staleTime: Infinity,
   });
 }

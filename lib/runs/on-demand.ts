@@ -7,6 +7,7 @@ import { loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
 import { loadPanelMatrix } from "@/lib/intake/published-panel";
 import { NotFoundError } from "@/lib/http/errors";
 import { clusterTransitionTable, comparePeriods, robustnessStrip, type ClusterTransitionTable, type PeriodComparison, type RobustnessEntry } from "./compare";
+import { panelTransitions, type PanelTransitions } from "./panel-transitions";
 import { storedResult, type RunSummary } from "./queries";
 import { geometryFor } from "./worker";
 import type { LocalFields, SignificanceClass } from "./types";
@@ -114,6 +115,24 @@ export async function comparison(run: RunSummary, indicator: string, earlier: st
   };
   comparisonCache.set(key, result);
   if (comparisonCache.size > 200) comparisonCache.delete(comparisonCache.keys().next().value as string);
+  return result;
+}
+
+const panelTransitionsCache = new Map<string, PanelTransitions>();
+
+/** The spatial Markov tables of one indicator over all of the run's periods (lib/runs/panel-transitions.ts). */
+export async function loadPanelTransitions(run: RunSummary, indicator: string, classes: number): Promise<PanelTransitions> {
+  requireIndicator(run, indicator);
+  const key = `${run.id}|${indicator}|${classes}`;
+  const cached = panelTransitionsCache.get(key);
+  if (cached) return cached;
+  const [geometry, matrix] = await Promise.all([
+    geometryFor(run.params),
+    loadPanelMatrix(run.params.panelVersionId, { indicators: [indicator], periods: run.params.periods }),
+  ]);
+  const result = panelTransitions(geometry, run.params, indicator, matrix.values.get(indicator) ?? new Map(), classes);
+  panelTransitionsCache.set(key, result);
+  if (panelTransitionsCache.size > 200) panelTransitionsCache.delete(panelTransitionsCache.keys().next().value as string);
   return result;
 }
 

@@ -160,3 +160,11 @@ export const timelineQuerySchema = z.object({ indicator: text({ min: 1, max: 120
 export const periodQuerySchema = timelineQuerySchema.extend({ period });
 export const compareQuerySchema = timelineQuerySchema.extend({ a: period, b: period });
 export const geometryQuerySchema = z.object({ run: runNumber });
+/** Quantile classes the panel transitions offer (lib/runs/panel-transitions.ts); 5 by default. */
+export const PANEL_TRANSITION_CLASS_CHOICES = [3, 4, 5] as const;
+export const panelTransitionsQuerySchema = timelineQuerySchema.extend({
+  classes: z
+    .enum(["3", "4", "5"], { message: "classes must be 3, 4 or 5." })
+    .default("5")
+    .transform((k) => Number(k)),
+});

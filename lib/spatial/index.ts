@@ -125,7 +125,7 @@ export type {
   LocalEmpiricalBayesRates,
   LocalEmpiricalBayesOptions,
 } from "./empirical-bayes";
-export { transitionTable, spatialMarkov, clusterTransitions, CLUSTER_CLASSES } from "./spatial-markov";
+export { transitionTable, spatialMarkov, spatialMarkovPanel, markovHomogeneity, clusterTransitions, CLUSTER_CLASSES } from "./spatial-markov";
 export { chiSquareIndependence } from "./contingency";
 export type { IndependenceTest } from "./contingency";
-export type { TransitionTable, SpatialMarkovResult } from "./spatial-markov";
+export type { TransitionTable, SpatialMarkovResult, MarkovHomogeneity, SpatialMarkovPair, SpatialMarkovPanelResult } from "./spatial-markov";

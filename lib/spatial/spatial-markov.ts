@@ -145,27 +145,78 @@ export function spatialMarkov(
   later: ArrayLike<number>,
   weights: SpatialWeights,
   options: { classes?: number } = {},
-): SpatialMarkovResult {
-  const k = options.classes ?? 5;
+): MarkovHomogeneity {
+  const k = checkedClassCount(options.classes);
+  const conditionalCounts = emptyConditionalCounts(k);
+  addPairTransitions(conditionalCounts, earlier, later, weights, k, "Spatial Markov with " + k + " classes");
+  return markovHomogeneity(conditionalCounts);
+}
+
+function checkedClassCount(classes: number | undefined): number {
+  const k = classes ?? 5;
   if (!Number.isInteger(k) || k < 2 || k > 20) throw new Error(`Spatial Markov: classes must be an integer from 2 to 20; got ${String(k)}.`);
+  return k;
+}
+
+/** counts[l][i][j], all zero, for k classes. */
+function emptyConditionalCounts(k: number): number[][][] {
+  return Array.from({ length: k }, () => Array.from({ length: k }, () => new Array<number>(k).fill(0)));
+}
+
+/** Classes one pair of periods and adds its transitions to counts[lag class][earlier class][later class]; returns n. */
+function addPairTransitions(counts: number[][][], earlier: ArrayLike<number>, later: ArrayLike<number>, weights: SpatialWeights, k: number, formula: string): number {
   const a = checkedValues(earlier, weights, "earlier values");
   const b = checkedValues(later, weights, "later values");
   const n = a.length;
-  requireRegions(n, 2 * k, "Spatial Markov with " + k + " classes");
+  requireRegions(n, 2 * k, formula);
   const lag = spatialLagInto(weights, a, new Float64Array(n));
   const fromClass = quantileClasses(a, k);
   const toClass = quantileClasses(b, k);
   const lagClass = quantileClasses(lag, k);
-  const labels = Array.from({ length: k }, (_, i) => String(i));
-  const pooledCounts = labels.map(() => labels.map(() => 0));
-  const conditionalCounts = labels.map(() => labels.map(() => labels.map(() => 0)));
-  for (let i = 0; i < n; i++) {
-    pooledCounts[fromClass[i]][toClass[i]]++;
-    conditionalCounts[lagClass[i]][fromClass[i]][toClass[i]]++;
+  for (let i = 0; i < n; i++) counts[lagClass[i]][fromClass[i]][toClass[i]]++;
+  return n;
+}
+
+/** Result of {@link markovHomogeneity}. */
+export interface MarkovHomogeneity extends SpatialMarkovResult {
+  /** Cells n_l,i · p_ij that enter Q (n_l,i > 0 and p_ij > 0). */
+  readonly cells: number;
+  /** How many of those cells expect fewer than 5 transitions (the χ² approximation is rough when they are many). */
+  readonly expectedBelow5: number;
+}
+
+/**
+ * The pooled table and the test of homogeneity of conditional transition
+ * tables (Anderson & Goodman 1957; degrees of freedom as in Bickenbach & Bode
+ * 2003), as in {@link spatialMarkov}: the pooled table is the sum of the
+ * conditional ones, and
+ *
+ *   Q = Σ_l Σ_i Σ_j n_l,i (p_l,ij − p_ij)² / p_ij   over cells with p_ij > 0, n_l,i > 0,
+ *   df = Σ_i (a_i − 1)(b_i − 1).
+ *
+ * The expected count of a cell is n_l,i · p_ij; the cells expecting fewer than
+ * 5 are counted for the usual caution about the χ² approximation.
+ *
+ * @param conditional counts[l][i][j]: transitions from class i to class j of
+ *   regions whose lag was in class l; k × k × k non-negative integers.
+ * @throws Error when the array is not k × k × k with k ≥ 2.
+ * Cost: O(k³).
+ * @example
+ *   markovHomogeneity([[[2, 0], [0, 2]], [[1, 1], [1, 1]]]).degreesOfFreedom; // 2
+ */
+export function markovHomogeneity(conditional: readonly (readonly (readonly number[])[])[]): MarkovHomogeneity {
+  const k = conditional.length;
+  if (k < 2 || conditional.some((table) => table.length !== k || table.some((row) => row.length !== k))) {
+    throw new Error(`Spatial Markov: the conditional counts must be k × k × k with k ≥ 2; got ${k} lag classes of other shapes.`);
   }
+  const labels = Array.from({ length: k }, (_, i) => String(i));
+  const conditionalCounts = conditional.map((table) => table.map((row) => row.slice()));
+  const pooledCounts = labels.map((_, i) => labels.map((__, j) => conditionalCounts.reduce((s, table) => s + table[i][j], 0)));
   const pooledP = rowProportions(pooledCounts);
   let chiSquare = 0;
   let degreesOfFreedom = 0;
+  let cells = 0;
+  let expectedBelow5 = 0;
   for (let i = 0; i < k; i++) {
     let activeLagClasses = 0;
     let positiveCells = 0;
@@ -179,6 +230,8 @@ export function spatialMarkov(
         if (pooledP[i][j] <= 0) continue;
         const difference = row[j] / rowTotal - pooledP[i][j];
         chiSquare += (rowTotal * difference * difference) / pooledP[i][j];
+        cells++;
+        if (rowTotal * pooledP[i][j] < 5) expectedBelow5++;
       }
     }
     degreesOfFreedom += Math.max(0, activeLagClasses - 1) * Math.max(0, positiveCells - 1);
@@ -190,5 +243,50 @@ export function spatialMarkov(
     chiSquare,
     degreesOfFreedom,
     p: degreesOfFreedom > 0 ? chiSquareUpperTail(chiSquare, degreesOfFreedom) : NaN,
+    cells,
+    expectedBelow5,
   };
+}
+
+/** One pair of consecutive periods for {@link spatialMarkovPanel}: values aligned with its own weights. */
+export interface SpatialMarkovPair {
+  readonly earlier: ArrayLike<number>;
+  readonly later: ArrayLike<number>;
+  /** Weights over the regions of this pair (row-standardised for the usual lag, the average of the neighbours). */
+  readonly weights: SpatialWeights;
+}
+
+/** Result of {@link spatialMarkovPanel}. */
+export interface SpatialMarkovPanelResult extends MarkovHomogeneity {
+  /** Transitions counted: the sum over pairs of their regions. */
+  readonly transitions: number;
+  /** Regions per pair, in the order given. */
+  readonly regionsPerPair: readonly number[];
+}
+
+/**
+ * Spatial Markov over a panel (Rey 2001): every pair of periods is classed as
+ * in {@link spatialMarkov} — k quantile classes of each period's own values
+ * (type-7 quantiles at j/k, a value equal to a cut point in the lower class),
+ * the lag's class from the quantiles of the earlier period's lags — and the
+ * transitions of all pairs are added into one set of conditional tables (the
+ * chain is taken as time-homogeneous), which is then tested with
+ * {@link markovHomogeneity}. Each pair has its own weights, so a pair can
+ * leave out regions missing in either of its periods.
+ *
+ * @param pairs at least one pair, each with at least 2k regions.
+ * @param options classes k (integer 2..20, default 5).
+ * @throws Error for no pairs, a bad k, or a pair that {@link spatialMarkov} would refuse (naming the pair's position).
+ * Cost: O(Σ (n log n + L) + k³).
+ * @example
+ *   spatialMarkovPanel([{ earlier: y2010, later: y2011, weights: w }, { earlier: y2011, later: y2012, weights: w }], { classes: 5 }).transitions; // 2n
+ */
+export function spatialMarkovPanel(pairs: readonly SpatialMarkovPair[], options: { classes?: number } = {}): SpatialMarkovPanelResult {
+  const k = checkedClassCount(options.classes);
+  if (pairs.length === 0) throw new Error("Spatial Markov over a panel needs at least one pair of periods.");
+  const conditionalCounts = emptyConditionalCounts(k);
+  const regionsPerPair = pairs.map((pair, index) =>
+    addPairTransitions(conditionalCounts, pair.earlier, pair.later, pair.weights, k, `Spatial Markov with ${k} classes (pair ${index + 1} of ${pairs.length})`),
+  );
+  return { ...markovHomogeneity(conditionalCounts), transitions: regionsPerPair.reduce((s, n) => s + n, 0), regionsPerPair };
 }

@@ -21,6 +21,7 @@ fi
 Rscript scripts/reference/spdep-reference.R .
 Rscript scripts/reference/chisq-reference.R .
 Rscript scripts/reference/spatial-markov-reference.R .
+Rscript scripts/reference/spatial-markov-panel-reference.R .
 Rscript scripts/reference/distributions-reference.R .
 Rscript scripts/reference/rates-hotspots-reference.R .
 node scripts/reference/nc-to-topojson.mjs tests/fixtures/nc/nc.geojson tests/fixtures/nc/nc.topojson

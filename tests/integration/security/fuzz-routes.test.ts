@@ -5,7 +5,7 @@ import { z } from "zod";
 import { getSessionUser } from "@/lib/auth/session";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { weightsPreviewQuerySchema } from "@/lib/geometry/weights-preview";
-import { catalogueQuerySchema, compareQuerySchema, geometryQuerySchema, periodQuerySchema, timelineQuerySchema } from "@/lib/runs/schemas";
+import { catalogueQuerySchema, compareQuerySchema, geometryQuerySchema, panelTransitionsQuerySchema, periodQuerySchema, timelineQuerySchema } from "@/lib/runs/schemas";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
 import { makeUser, PASSWORD } from "@/tests/integration/auth/fixtures";
@@ -184,6 +184,7 @@ const QUERY_SCHEMAS: Record<string, z.ZodObject> = {
   "app/api/w/[slug]/map/route.ts": periodQuerySchema,
   "app/api/w/[slug]/map/geometry/route.ts": geometryQuerySchema,
   "app/api/w/[slug]/compare/route.ts": compareQuerySchema,
+  "app/api/w/[slug]/map/transitions/route.ts": panelTransitionsQuerySchema,
 };
 
 // ——— body fields

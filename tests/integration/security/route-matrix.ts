@@ -481,6 +481,16 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
     prepare: async (w) => ({ params: ws(w), search: `indicator=${w.indicator}&a=2012&b=2014&run=${w.runId}` }),
     invalidQuery: { search: (w) => `indicator=${w.indicator}&a=2012&run=${w.runId}`, field: "b" },
   },
+  {
+    kind: "workspace",
+    route: `${W}/map/transitions/route.ts`,
+    method: "GET",
+    capability: "results.view",
+    ok: 200,
+    does: "spatial Markov transitions of an indicator over all the run's periods",
+    prepare: async (w) => ({ params: ws(w), search: `indicator=${w.indicator}&run=${w.runId}` }),
+    invalidQuery: { search: (w) => `indicator=${w.indicator}&run=${w.runId}&classes=9`, field: "classes" },
+  },
 
   // ——— digests: every member manages their own subscription; managers see the subscribers
   {
