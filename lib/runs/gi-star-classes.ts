@@ -49,6 +49,11 @@ export function giStarMapTitle(period: string): string {
   return `Hot and cold spots, ${period}`;
 }
 
+/** The accessible label of the Gi* map of an indicator in a period. */
+export function giStarMapLabel(indicator: string, period: string): string {
+  return `Map of hot and cold spots (local Gi*) of ${indicator} in ${period}`;
+}
+
 /** The name of a class; anything else (an unknown stored value) is shown as it is. */
 export function giStarClassName(value: string): string {
   return Object.hasOwn(GI_STAR_CLASS_NAMES, value) ? GI_STAR_CLASS_NAMES[value as GiStarClass] : value;
