@@ -98,8 +98,9 @@ it("the demo run's map shows unemployment's hot and cold spots (Gi*) beside the 
     expect(shown.filter(([, cls]) => cls === "cold")).toHaveLength(s.gi.counts.cold);
     // The legend names and counts the classes.
     const legend = page.getByTestId(`gi-star-legend-${side}`);
-    expect(await legend.locator('li[data-class="hot"]').innerText()).toBe(`${GI_STAR_CLASS_NAMES.hot} ${s.gi.counts.hot}`);
-    expect(await legend.locator('li[data-class="cold"]').innerText()).toBe(`${GI_STAR_CLASS_NAMES.cold} ${s.gi.counts.cold}`);
+    const entry = async (cls: string) => ((await legend.locator(`li[data-class="${cls}"]`).textContent()) ?? "").replace(/\s+/g, " ").trim();
+    expect(await entry("hot")).toBe(`${GI_STAR_CLASS_NAMES.hot} ${s.gi.counts.hot}`);
+    expect(await entry("cold")).toBe(`${GI_STAR_CLASS_NAMES.cold} ${s.gi.counts.cold}`);
     // The caption says what Gi* is and which correction decided the classes.
     const caption = await page.getByTestId(`gi-star-caption-${side}`).innerText();
     expect(caption).toContain("Local Getis–Ord Gi*");
