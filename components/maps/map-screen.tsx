@@ -22,6 +22,8 @@ import { formatTick, formatValue } from "@/lib/runs/number-format";
 import { RunPicker } from "@/components/runs/run-picker";
 import { PanelTransitions } from "./panel-transitions";
 import { RegionMap, useRegionFeatures } from "./region-map";
+import { GiStarDetailRows, GiStarPanel, LocalMapViewSwitch } from "./gi-star-map";
+import type { LocalMapView } from "@/lib/runs/gi-star-classes";
 
 const CLASSES = CLUSTER_CLASS_ORDER;
 
@@ -36,6 +38,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
   const features = useRegionFeatures(geometry.data);
   const [hovered, setHovered] = useState<string | null>(null);
   const [selected, setSelected] = useState<string | null>(null);
+  const [localView, setLocalView] = useState<LocalMapView>("clusters");
   const active = hovered ?? selected;
   const unit = mapA.data?.indicator.unit ?? "";
 
@@ -88,8 +91,24 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
       {loading && !error ? <p className="text-sm text-ink-500">Loading maps…</p> : null}
       {mapA.data && mapB.data && geometry.data ? (
         <>
+          <LocalMapViewSwitch value={localView} onChange={setLocalView} />
           <div className="grid gap-6 lg:grid-cols-2">
-            {[mapA.data.map, mapB.data.map].map((m, k) => (
+            {[mapA.data.map, mapB.data.map].map((m, k) =>
+              localView === "gi-star" ? (
+                <GiStarPanel
+                  key={`gi-star-${k}`}
+                  map={m}
+                  indicator={indicator}
+                  features={features}
+                  coordinates={geometry.data.coordinates}
+                  names={names}
+                  activeId={active}
+                  onHover={setHovered}
+                  onSelect={setSelected}
+                  warning={(k === 0 ? mapA.data : mapB.data).reachability}
+                  testId={k === 0 ? "a" : "b"}
+                />
+              ) : (
               <Panel
                 key={`cluster-${k}`}
                 title={`Local clusters, ${m.period}`}
@@ -113,7 +132,8 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                 <ClusterLegend map={m} />
                 <LocalInferenceNote warning={(k === 0 ? mapA.data : mapB.data).reachability} local={m.local} testId={k === 0 ? "a" : "b"} />
               </Panel>
-            ))}
+              ),
+            )}
           </div>
           <div className="grid gap-6 lg:grid-cols-2">
             {[mapA.data.map, mapB.data.map].map((m, k) => (
@@ -273,6 +293,7 @@ function RegionDetail({ id, names, a, b, unit }: { id: string | null; names: Rec
             <td className="py-1.5 text-right tabular-nums">{fmtP(ra.p)}</td>
             <td className="py-1.5 text-right tabular-nums">{fmtP(rb.p)}</td>
           </tr>
+          <GiStarDetailRows id={id} a={a} b={b} />
         </tbody>
       </table>
     </Panel>

@@ -27,7 +27,9 @@ const HEIGHT = 420;
 /**
  * An SVG map of the regions: `fill(id)` colours each region, `hatched(id)`
  * draws the no-neighbours hatch. Hover and click report the region id;
- * `activeId` is outlined (shared across maps and the scatter plot).
+ * `activeId` is outlined (shared across maps and the scatter plot). Optional
+ * `regionClass(id)` puts the region's class on the path (`data-class`) and
+ * `regionTitle(id)` gives it a title, so a class is never told by colour alone.
  */
 export function RegionMap({
   features,
@@ -39,6 +41,8 @@ export function RegionMap({
   onSelect,
   label,
   testId,
+  regionClass,
+  regionTitle,
 }: {
   features: RegionFeature[];
   coordinates: "planar" | "lonlat";
@@ -49,6 +53,8 @@ export function RegionMap({
   onSelect: (id: string) => void;
   label: string;
   testId?: string;
+  regionClass?: (id: string) => string;
+  regionTitle?: (id: string) => string;
 }) {
   const paths = useMemo(() => {
     const fc: FeatureCollection = { type: "FeatureCollection", features };
@@ -73,10 +79,13 @@ export function RegionMap({
           stroke="#ffffff"
           strokeWidth={0.6}
           data-region={p.id}
+          data-class={regionClass?.(p.id)}
           onMouseEnter={() => onHover(p.id)}
           onClick={() => onSelect(p.id)}
           className="cursor-pointer"
-        />
+        >
+          {regionTitle ? <title>{regionTitle(p.id)}</title> : null}
+        </path>
       ))}
       {active ? <path d={active.d} fill="none" stroke="#1e2a44" strokeWidth={2.2} pointerEvents="none" /> : null}
     </svg>

@@ -10,7 +10,7 @@ import { clusterTransitionTable, comparePeriods, robustnessStrip, type ClusterTr
 import { panelTransitions, type PanelTransitions } from "./panel-transitions";
 import { storedResult, type RunSummary } from "./queries";
 import { geometryFor } from "./worker";
-import type { LocalFields, SignificanceClass } from "./types";
+import type { GiStarFields, LocalFields, SignificanceClass } from "./types";
 
 function requirePeriod(run: RunSummary, period: string): void {
   if (!run.params.periods.includes(period)) throw new NotFoundError(`Run ${run.id} has no period "${period}".`);
@@ -32,6 +32,11 @@ export interface MapPeriod {
   /** Raw value per region code (null = missing). */
   values: Record<string, number | null>;
   local: LocalFields | null;
+  /**
+   * Local Gi* per region (z, p, classes after the run's correction); null when
+   * the run stored none: no local results, or a run from before Gi* was stored.
+   */
+  giStar: GiStarFields | null;
 }
 
 export async function mapPeriod(run: RunSummary, indicator: string, period: string): Promise<MapPeriod> {
@@ -56,6 +61,7 @@ export async function mapPeriod(run: RunSummary, indicator: string, period: stri
     significance: stored.significance,
     values,
     local: stored.local,
+    giStar: stored.gi_star,
   };
 }
 

@@ -10,7 +10,7 @@ import { CATALOGUE_FIELDS, catalogueAnswerText, catalogueRowsOf, type CatalogueA
 import { selectBaseline } from "./comparability";
 import type { ResolvedRunParams } from "./schemas";
 import type { RunState } from "./store";
-import type { LocalFields, SignificanceClass, WeightsUsed } from "./types";
+import type { GiStarFields, LocalFields, SignificanceClass, WeightsUsed } from "./types";
 
 export interface RunSummary {
   /** Global id: URLs and API parameters. */
@@ -452,8 +452,9 @@ export async function storedResult(runId: number, indicator: string, period: str
     adjusted_p: number | null;
     significance: SignificanceClass | null;
     local: LocalFields | null;
+    gi_star: GiStarFields | null;
   }>(
-    "SELECT status, note, n, i, expected_i, perm_p, adjusted_p, significance, local FROM run_results WHERE run_id = $1 AND indicator_code = $2 AND period_key = $3",
+    "SELECT status, note, n, i, expected_i, perm_p, adjusted_p, significance, local, gi_star FROM run_results WHERE run_id = $1 AND indicator_code = $2 AND period_key = $3",
     { bind: [runId, indicator, period], type: QueryTypes.SELECT },
   );
   return rows[0] ?? null;

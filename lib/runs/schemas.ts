@@ -70,7 +70,7 @@ export const runParamsInputSchema = z.object({
   indicators: z.array(code).max(500).optional(),
   /** Empty or absent = every period of the panel version. */
   periods: z.array(code).max(500).optional(),
-  /** Local Moran per region (cluster maps). Off makes very large runs faster. */
+  /** Local Moran and local Gi* per region (the map's two local views). Off makes very large runs faster. */
   local: z.boolean().default(true),
   /**
    * Sequential Monte Carlo p-values for the local statistics (Besag & Clifford

@@ -6,7 +6,7 @@
  */
 import { adjustPValues } from "@/lib/spatial";
 import { CORRECTION_LABELS, type ResolvedRunParams } from "./schemas";
-import type { DecidingPSource, PeriodResult, RowSignificance, SignificanceClass } from "./types";
+import type { DecidingPSource, GiStarClass, PeriodResult, RowSignificance, SignificanceClass } from "./types";
 
 /** The p-value that decides a row's class: the two-sided permutation pseudo p, else the randomisation p. */
 export function decidingP(row: Pick<PeriodResult, "permutation" | "moran">): { p: number | null; source: DecidingPSource | null } {
@@ -51,4 +51,43 @@ export function significanceBasis(params: Pick<ResolvedRunParams, "permutations"
       ? "with no correction for the"
       : `adjusted by ${CORRECTION_LABELS[params.correction]} across the`;
   return `Classes use ${p}, ${correction} ${tests} computed indicator-period${tests === 1 ? "" : "s"} of this run, at α = ${params.alpha}.`;
+}
+
+/** One region's Gi* as the classes need it. */
+export interface GiStarTest {
+  readonly neighbours: number;
+  readonly z: number | null;
+  /** The p that decides: the run's conditional permutation pseudo p. */
+  readonly pseudoP: number | null;
+}
+
+/**
+ * Classes the regions of one indicator-period under local Gi*, with the same
+ * rule as local Moran's clusters: the pseudo p-values of the regions with
+ * neighbours are adjusted together by the run's correction (they are the m
+ * tests), and a region whose adjusted p is ≤ alpha is "hot" when its z is
+ * positive, "cold" when negative. Regions without neighbours are
+ * "no-neighbours" and do not count among the tests; a region whose z is
+ * undefined is never significant.
+ *
+ * @example
+ *   classifyGiStar([{ neighbours: 4, z: 3.1, pseudoP: 0.001 }, { neighbours: 0, z: null, pseudoP: null }], 0.05, "bonferroni").classes;
+ *   // ["hot", "no-neighbours"]
+ */
+export function classifyGiStar(
+  regions: readonly GiStarTest[],
+  alpha: number,
+  correction: ResolvedRunParams["correction"],
+): { adjustedP: (number | null)[]; classes: GiStarClass[] } {
+  const adjustedP = adjustPValues(
+    regions.map((r) => (r.neighbours > 0 ? r.pseudoP : null)),
+    correction,
+  );
+  const classes = regions.map((r, i): GiStarClass => {
+    if (r.neighbours === 0) return "no-neighbours";
+    const p = adjustedP[i];
+    if (p === null || p > alpha || r.z === null || r.z === 0) return "not-significant";
+    return r.z > 0 ? "hot" : "cold";
+  });
+  return { adjustedP, classes };
 }

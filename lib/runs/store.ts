@@ -24,7 +24,7 @@ import type { PeriodResult } from "./types";
 
 export type RunState = "queued" | "running" | "completed" | "failed" | "cancelled";
 
-const RESULT_COLUMNS = [
+export const RESULT_COLUMNS = [
   "run_id",
   "indicator_code",
   "period_key",
@@ -70,9 +70,10 @@ const RESULT_COLUMNS = [
   "deciding_p",
   "local_counts",
   "local",
+  "gi_star",
 ] as const;
 
-const JSON_COLUMNS = new Set(["exclusions", "weights", "local_counts", "local"]);
+const JSON_COLUMNS = new Set(["exclusions", "weights", "local_counts", "local", "gi_star"]);
 
 /** A finite number or null (NaN and ±Infinity are not stored as numbers). */
 function num(value: number | null | undefined): number | null {
@@ -131,6 +132,7 @@ export function resultRowValues(runId: number, periodIndex: number, row: PeriodR
     deciding_p: num(decidingP(row).p),
     local_counts: row.local?.counts ?? null,
     local: row.local,
+    gi_star: row.giStar,
   };
   return RESULT_COLUMNS.map((c) => (JSON_COLUMNS.has(c) && values[c] !== null ? JSON.stringify(values[c]) : values[c]));
 }

@@ -127,6 +127,37 @@ export interface LocalFields {
   readonly stopped?: number;
 }
 
+/**
+ * The class of a region under local Getis–Ord Gi*: its neighbourhood (itself
+ * included) significantly high ("hot") or low ("cold") after the run's
+ * correction, not significant, or without neighbours (no test).
+ */
+export type GiStarClass = "hot" | "cold" | "not-significant" | "no-neighbours";
+
+/**
+ * Local Getis–Ord Gi* of one indicator-period, stored column-wise like
+ * {@link LocalFields} (arrays aligned with `ids`, the same regions in the same
+ * order). Absent (null) for runs from before Gi* was stored and for runs
+ * without local results.
+ */
+export interface GiStarFields {
+  readonly ids: string[];
+  /** Standardised Gi* (Ord & Getis 1995); null without neighbours. */
+  readonly z: (number | null)[];
+  /** Two-sided normal p of z (analytical). */
+  readonly p: (number | null)[];
+  /** Two-sided conditional permutation pseudo p, drawn with the same relabellings as local Moran's. */
+  readonly pseudoP: (number | null)[];
+  /** pseudo p after the run's correction across the regions of this period. */
+  readonly adjustedP: (number | null)[];
+  readonly classes: GiStarClass[];
+  readonly alpha: number;
+  readonly correction: Correction;
+  /** Which p decided the classes (always the permutation p in runs). */
+  readonly pValueSource: "permutation";
+  readonly counts: Record<GiStarClass, number>;
+}
+
 /** One indicator × period of a run, as computed by a piece (before run-wide correction). */
 export interface PeriodResult {
   readonly indicator: string;
@@ -143,6 +174,8 @@ export interface PeriodResult {
   readonly geary: GearyFields | null;
   readonly generalG: GeneralGFields | null;
   readonly local: LocalFields | null;
+  /** Local Gi* (computed whenever local results are; null otherwise). */
+  readonly giStar: GiStarFields | null;
   /** I of this period minus I of the previous period of the run (null when either is missing). */
   readonly deltaI: number | null;
 }

@@ -25,6 +25,8 @@ export interface LocalGetisOrdRegion {
   readonly pseudoP: number | null;
   readonly pseudoPGreater: number | null;
   readonly pseudoPLess: number | null;
+  /** Permutations this region used: R, or fewer when sequential stopping ended its sampling early; null without permutations or neighbours. */
+  readonly permutationsUsed: number | null;
   readonly neighbours: number;
 }
 
@@ -48,6 +50,12 @@ export interface LocalGetisOrdOptions extends PermutationOptions {
    * this gives w_ii = w_ij = 1/(k_i + 1), i.e. row-standardised (B + I).
    */
   readonly selfWeight?: number;
+  /**
+   * Sequential p-values (Besag & Clifford 1991), as in `localMoran`: with h a
+   * region stops drawing once both tails hold h permuted values as extreme as
+   * the observed one, and its p is then h/L. Default null: every region uses all R.
+   */
+  readonly sequentialExtremes?: number | null;
 }
 
 /**
@@ -137,7 +145,14 @@ export function localGetisOrd(values: ArrayLike<number>, weights: SpatialWeights
     for (let p = weights.offsets[i]; p < weights.offsets[i + 1]; p++) sum += scaledWeights[p] * x[weights.neighbours[p]];
     lag[i] = sum;
   }
-  const counts = permutations > 0 ? conditionalLagPermutations(x, engineWeights, lag, permutations, options.random as NonNullable<typeof options.random>) : null;
+  const sequentialExtremes = options.sequentialExtremes ?? null;
+  if (sequentialExtremes !== null && (!Number.isInteger(sequentialExtremes) || sequentialExtremes < 1 || sequentialExtremes > permutations)) {
+    throw new Error(`Sequential stopping needs a whole number of extremes from 1 to the permutations (${permutations}); got ${String(sequentialExtremes)}.`);
+  }
+  const counts =
+    permutations > 0
+      ? conditionalLagPermutations(x, engineWeights, lag, permutations, options.random as NonNullable<typeof options.random>, sequentialExtremes)
+      : null;
   const regions: LocalGetisOrdRegion[] = [];
   for (let i = 0; i < n; i++) {
     const k = weights.offsets[i + 1] - weights.offsets[i];
@@ -170,11 +185,20 @@ export function localGetisOrd(values: ArrayLike<number>, weights: SpatialWeights
     let pseudoPGreater: number | null = null;
     let pseudoPLess: number | null = null;
     let pseudoP: number | null = null;
+    let permutationsUsed: number | null = null;
     if (counts && k > 0) {
       // z is increasing in the neighbours' weighted sum (the self term and the
       // reference mean are fixed under conditional permutation).
-      pseudoPGreater = (counts.atLeast[i] + 1) / (permutations + 1);
-      pseudoPLess = (counts.atMost[i] + 1) / (permutations + 1);
+      const used = counts.draws[i];
+      if (used < permutations) {
+        // Stopped early: Besag & Clifford's h/L (both tails have at least h extremes).
+        pseudoPGreater = counts.atLeast[i] / used;
+        pseudoPLess = counts.atMost[i] / used;
+      } else {
+        pseudoPGreater = (counts.atLeast[i] + 1) / (permutations + 1);
+        pseudoPLess = (counts.atMost[i] + 1) / (permutations + 1);
+      }
+      permutationsUsed = used;
       pseudoP = Math.min(1, 2 * Math.min(pseudoPGreater, pseudoPLess));
     }
     regions.push({
@@ -187,6 +211,7 @@ export function localGetisOrd(values: ArrayLike<number>, weights: SpatialWeights
       pseudoP,
       pseudoPGreater,
       pseudoPLess,
+      permutationsUsed,
       neighbours: k,
     });
   }

@@ -159,7 +159,7 @@ describe("a completed run cannot be changed by any route", () => {
     expect(await finished(body.runId)).toBe("completed");
     expect(await snapshot()).toEqual(before);
     const numbers = (id: number) =>
-      md5Of("SELECT md5(string_agg(concat_ws('|', indicator_code, period_key, i, perm_p, adjusted_p, significance, local::text), E'\\n' ORDER BY indicator_code, period_index)) AS h FROM run_results WHERE run_id = $1", [id]);
+      md5Of("SELECT md5(string_agg(concat_ws('|', indicator_code, period_key, i, perm_p, adjusted_p, significance, local::text, gi_star::text), E'\\n' ORDER BY indicator_code, period_index)) AS h FROM run_results WHERE run_id = $1", [id]);
     expect(await numbers(body.runId)).toBe(await numbers(runId));
   });
 
@@ -371,6 +371,9 @@ describe("PostgreSQL itself refuses changes to published data and completed resu
 
   it.each([
     ["update", "UPDATE run_results SET i = 0 WHERE run_id = $1"],
+    // Local Gi* (hot and cold spots) lives in the same rows and is frozen with them.
+    ["update", "UPDATE run_results SET gi_star = NULL WHERE run_id = $1 AND gi_star IS NOT NULL"],
+    ["update", `UPDATE run_results SET gi_star = jsonb_set(gi_star, '{classes,0}', '"cold"') WHERE run_id = $1 AND gi_star IS NOT NULL`],
     ["delete", "DELETE FROM run_results WHERE run_id = $1"],
   ])("refuses an %s of a completed run's results, naming the run", async (op, sql) => {
     expect(await refusedBy(sql, [other.runId])).toBe(`Results of run ${other.runId} cannot be changed (${op}): the run is completed. Rerun it for new results.`);

@@ -224,12 +224,14 @@ describe("computeIndicator", () => {
         { period: "2021", values: later },
       ]),
     );
-    // Per period one source for the global test (the run's seed) and one for local Moran.
+    // Per period one source for the global test (the run's seed), one for local Moran and one
+    // for local Gi*, seeded like local Moran's so that both local maps use the same relabellings.
     const [moran, local] = [statisticSeed(7, "moran"), statisticSeed(7, "local")];
-    expect(run.map((s) => s.seed)).toEqual([moran, local, moran, local]);
-    const [first, second] = [run.slice(0, 2), run.slice(2, 4)];
+    expect(run.map((s) => s.seed)).toEqual([moran, local, local, moran, local, local]);
+    const [first, second] = [run.slice(0, 3), run.slice(3, 6)];
     expect(first[0].draws).toHaveLength(199 * 35); // 36 regions: the partners of positions 35 … 1 of each of the 199 shuffles
     expect(first[1].draws.length).toBeGreaterThanOrEqual(199 * 4); // k_max = 4 neighbours sampled per permutation
+    expect(first[2].draws).toEqual(first[1].draws);
     expect(second[0].draws).toEqual(first[0].draws);
     expect(second[1].draws).toEqual(first[1].draws);
     // Another seed draws otherwise, so the equality above is not a property of any two sources.
@@ -246,7 +248,7 @@ describe("computeIndicator", () => {
       ]),
     );
     expect(ragged[0].draws).toEqual(first[0].draws);
-    expect(ragged[2].draws).toHaveLength(199 * 34);
-    expect(ragged[2].draws.slice(0, 34)).not.toEqual(first[0].draws.slice(0, 34));
+    expect(ragged[3].draws).toHaveLength(199 * 34);
+    expect(ragged[3].draws.slice(0, 34)).not.toEqual(first[0].draws.slice(0, 34));
   });
 });

@@ -11,7 +11,7 @@
  * significance, and estimate their p within the sampling error Besag and
  * Clifford give for h/L.
  */
-import { binaryWeights, createRandomSource, localMoran, rowStandardisedWeights, weightsFromNeighbourLists } from "@/lib/spatial";
+import { binaryWeights, createRandomSource, localGetisOrd, localMoran, rowStandardisedWeights, weightsFromNeighbourLists } from "@/lib/spatial";
 import { indexLists, loadData, loadNeighbours } from "../../fixtures/spdep/fixtures";
 
 const data = loadData();
@@ -122,5 +122,52 @@ describe("sequential Monte Carlo p-values (Besag & Clifford 1991) against the fi
     // 40 maps × 100 regions; regions of one map are dependent, so allow a wide band.
     expect(rejections / tests).toBeGreaterThan(0.06);
     expect(rejections / tests).toBeLessThan(0.14);
+  });
+});
+
+describe("sequential p-values of local Gi* (runs store Gi* with the local Moran draws)", () => {
+  const gi = (sequentialExtremes: number | null) =>
+    localGetisOrd(data.variables.sid79.x, weights, { star: true, permutations: R, random: createRandomSource(11), sequentialExtremes });
+  const giFixed = gi(null);
+  const giSequential = gi(H);
+
+  test("a fixed-count Gi* uses all R permutations; unstopped regions of the sequential one get the fixed-count p bit for bit", () => {
+    for (const region of giFixed.regions) if (region.neighbours > 0) expect(region.permutationsUsed).toBe(R);
+    const unstopped = giSequential.regions.filter((r) => r.permutationsUsed === R);
+    expect(unstopped.length).toBeGreaterThan(0);
+    for (const region of unstopped) expect(region.pseudoP).toBe(giFixed.regions.find((r) => r.id === region.id)?.pseudoP);
+  });
+
+  test("a stopped region's folded p is 2h/L and the fixed-count run has at least h extremes in each tail", () => {
+    const stopped = giSequential.regions.filter((r) => r.permutationsUsed !== null && r.permutationsUsed < R);
+    expect(stopped.length).toBeGreaterThan(giSequential.regions.length / 2);
+    for (const region of stopped) {
+      expect(region.pseudoP as number).toBeCloseTo(Math.min(1, (2 * H) / (region.permutationsUsed as number)), 12);
+      expect(giFixed.regions.find((r) => r.id === region.id)?.pseudoP as number).toBeGreaterThanOrEqual((2 * (H + 1)) / (R + 1) - 1e-12);
+    }
+  });
+
+  test("with the same draws, Gi*'s conditional permutation p equals local Moran's: both rank the neighbours' weighted sum, with region i fixed", () => {
+    // Local Moran's I_i = (z_i/m2)·Σ w_ij z_j and Gi*'s z_i both move monotonically with
+    // Σ_j w_ij x_j when x_i stays put, so the folded two-sided counts agree (Anselin 1995, §4;
+    // Ord & Getis 1995). Regions exactly at the mean (z_i = 0) are the exception: their I_i is 0 whatever the draw.
+    for (const [moran, getis] of [
+      [fixed, giFixed],
+      [sequential, giSequential],
+    ] as const) {
+      let compared = 0;
+      moran.regions.forEach((region, i) => {
+        if (region.neighbours === 0 || region.Ii === 0) return;
+        compared++;
+        expect(getis.regions[i].pseudoP).toBe(region.pseudoP);
+        expect(getis.regions[i].permutationsUsed).toBe(region.permutationsUsed);
+      });
+      expect(compared).toBeGreaterThan(90);
+    }
+  });
+
+  test("refuses h outside 1 … R", () => {
+    expect(() => gi(0)).toThrow(/whole number of extremes/);
+    expect(() => gi(R + 1)).toThrow(/whole number of extremes/);
   });
 });
