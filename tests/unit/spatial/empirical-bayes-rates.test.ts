@@ -111,7 +111,7 @@ describe("Moran's I of EB-standardised rates (Assunção & Reis 1999)", () => {
 
 describe("hot-spot classes", () => {
   const region = (id: string, z: number | null, p: number | null, pseudoP: number | null) => ({
-    id, G: 0, expectedG: 0, varianceG: 0, z, p, pseudoP, pseudoPGreater: null, pseudoPLess: null, neighbours: z === null ? 0 : 2,
+    id, G: 0, expectedG: 0, varianceG: 0, z, p, pseudoP, pseudoPGreater: null, pseudoPLess: null, neighbours: z === null ? 0 : 2, permutationsUsed: pseudoP === null ? null : 99,
   });
   const result: LocalGetisOrdResult = {
     n: 4,
