@@ -691,14 +691,11 @@ export async function archiveVersion(member: MemberContext, kind: VersionKind, v
 const INDICATOR_FIELDS = ["label", "unit", "description", "source", "higherIsBetter"] as const satisfies readonly (keyof IndicatorPatch)[];
 
 /**
- * Checks a steward's rate declaration for indicator `code`: not its own events
- * or population, no chain with the workspace's other rates, and both codes
+ * Checks a steward's rate declaration for indicator `code` (not its own events
+ * or population, checked before): no chain with the workspace's other rates, and both codes
  * indicators of one panel (a validated or published version holds both).
  */
 async function checkRateDeclaration(workspaceId: number, code: string, rate: RateSpec, transaction: Transaction): Promise<void> {
-  if (rate.events === code || rate.population === code) {
-    throw new IntakeInputError(`rate: '${code}' cannot be its own ${rate.events === code ? "events" : "population"}`, rate.events === code ? "rate.events" : "rate.population");
-  }
   const others = (await rateDeclarationsOf(workspaceId, transaction)).filter((d) => d.indicator !== code);
   const problem = declarationProblem({ indicator: code, ...rate }, others);
   if (problem !== null) throw new IntakeInputError(`rate: ${problem}`, "rate");
@@ -722,6 +719,10 @@ export async function saveIndicator(member: MemberContext, code: string, patch: 
   const trimmed = parsed.data;
   const { Indicator } = models();
   const { rate, ...fields } = patch;
+  if (rate && (rate.events === trimmed || rate.population === trimmed)) {
+    const role = rate.events === trimmed ? "events" : "population";
+    throw new IntakeInputError(`rate: '${trimmed}' cannot be its own ${role}`, `rate.${role}`);
+  }
   return db().transaction(async (transaction) => {
     // One declaration at a time per workspace, so two stewards cannot chain rates past each other's check.
     await db().query("SELECT pg_advisory_xact_lock(hashtext('indicator-rates'), :workspaceId)", { replacements: { workspaceId: member.workspace.id }, transaction });
