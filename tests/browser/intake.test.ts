@@ -132,4 +132,15 @@ test("a steward uploads a panel, reads the report, fixes, publishes and sees the
   await page.waitForFunction(() => document.querySelector('[data-testid="island-count"]')?.textContent === "0");
   expect(await page.getByTestId("neighbour-histogram").locator("rect").count()).toBeGreaterThan(0);
   await screenshot(page, "intake-boundaries-knn");
+
+  // 5. The demo panel declares a rate in its first line: the indicator says so, and the report shows it derived, without problems.
+  await page.goto(`/w/${slug}/intake`);
+  await expect(page.getByTestId("rate-business_closures_per_1000").innerText()).resolves.toBe(
+    "Rate: business_closures / working_age_population × 1,000 (per 1,000)",
+  );
+  await page.getByTestId("panel-Veldmark district indicators 2008–2024").locator('[data-testid^="panel-version-"] a').first().click();
+  await page.waitForURL(/\/intake\/panels\/\d+$/);
+  const rate = page.getByTestId("report-rate-business_closures_per_1000");
+  await expect(rate.innerText()).resolves.toMatch(/declared in the file\. Not in the file: derived at ingest from events and population — 4,046 value\(s\), 0 left missing\. No problems\./);
+  await screenshot(page, "intake-rate-derived");
 });
