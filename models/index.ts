@@ -162,6 +162,10 @@ function initModels(sequelize: Sequelize): void {
       description: { type: DataTypes.TEXT, allowNull: true },
       source: { type: DataTypes.STRING(400), allowNull: true },
       higherIsBetter: { type: DataTypes.BOOLEAN, allowNull: true },
+      // migrations/20261212000100-indicator-rates
+      rateEventsCode: { type: DataTypes.STRING(120), allowNull: true },
+      ratePopulationCode: { type: DataTypes.STRING(120), allowNull: true },
+      rateMultiplier: { type: DataTypes.INTEGER, allowNull: true },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE,
     },

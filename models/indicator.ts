@@ -9,6 +9,10 @@ export class Indicator extends Model<InferAttributes<Indicator>, InferCreationAt
   declare description: string | null;
   declare source: string | null;
   declare higherIsBetter: boolean | null;
+  /** Set (all three) when the indicator is a rate: events / population × multiplier. */
+  declare rateEventsCode: CreationOptional<string | null>;
+  declare ratePopulationCode: CreationOptional<string | null>;
+  declare rateMultiplier: CreationOptional<number | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 }

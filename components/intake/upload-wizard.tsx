@@ -410,6 +410,13 @@ function PanelFormFields({
         {preview.bom ? " The file starts with a byte-order mark (ignored)." : ""}
         {preview.encodingProblem ? ` ${preview.encodingProblem}.` : ""}
       </p>
+      {preview.rates.length ? (
+        <p className="text-xs text-ink-500" data-testid="preview-rates">
+          The file declares {preview.rates.length === 1 ? "a rate" : `${preview.rates.length} rates`} above its header:{" "}
+          {preview.rates.map((r) => `${r.indicator} = ${r.events} / ${r.population} × ${r.multiplier.toLocaleString("en")}`).join("; ")}. Validation checks
+          their counts by region and period and derives a rate the file does not give.
+        </p>
+      ) : null}
       {preview.remembered ? (
         <Notice>This header was mapped before in this workspace; that mapping is filled in.</Notice>
       ) : preview.suggestion.notes.length ? (

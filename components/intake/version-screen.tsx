@@ -9,6 +9,7 @@ import type { BoundaryReport } from "@/lib/intake/ingest-boundaries";
 import type { VersionDetail } from "@/lib/intake/queries";
 import { publishCounts } from "@/lib/intake/publish-summary";
 import type { PanelReport } from "@/lib/intake/report";
+import { multiplierLabel, type RateProblem, type RatesReport } from "@/lib/intake/rates";
 import type { VersionDiff } from "@/models/intake-types";
 import { BoundaryMap } from "./boundary-map";
 import { Notice, Panel, StateBadge, formatDate } from "./format";
@@ -363,10 +364,72 @@ function PanelReportView({ report }: { report: PanelReport | FailureLike }) {
             </table>
           </div>
         ) : null}
+        {report.rates && report.rates.declarations.length > 0 ? <RatesSection rates={report.rates} /> : null}
         <ProblemTable title="Errors" problems={report.errors} total={report.errorCount} locator="row" />
         <ProblemTable title="Warnings" problems={report.warnings} total={report.warningCount} locator="row" />
       </div>
     </Panel>
+  );
+}
+
+const RATE_PROBLEM_LABELS: Record<RateProblem["kind"], string> = {
+  "negative-events": "negative events",
+  "negative-population": "negative population",
+  "missing-population": "population missing",
+  "zero-population": "population is 0",
+  "events-exceed-population": "events above population",
+  "rate-disagrees": "rate disagrees",
+};
+
+/** The rates in force for this version, whether each was derived, and each problem by region, period and indicator. */
+function RatesSection({ rates }: { rates: RatesReport }) {
+  return (
+    <div data-testid="report-rates">
+      <h3 className="text-sm font-semibold text-ink">Rates</h3>
+      <ul className="mt-1 space-y-1 text-sm text-ink-700">
+        {rates.declarations.map((d) => (
+          <li key={d.indicator} data-testid={`report-rate-${d.indicator}`}>
+            <code>{d.indicator}</code> = <code>{d.events}</code> / <code>{d.population}</code> × {d.multiplier.toLocaleString("en")} ({multiplierLabel(d.multiplier)}), declared{" "}
+            {d.source === "file" ? "in the file" : "on the indicator"}.{" "}
+            {d.derived
+              ? `Not in the file: derived at ingest from events and population — ${d.values.toLocaleString("en")} value(s), ${d.missing.toLocaleString("en")} left missing.`
+              : `${d.values.toLocaleString("en")} rate value(s) of the file checked against events and population.`}{" "}
+            {d.problems === 0 ? "No problems." : `${d.problems.toLocaleString("en")} problem(s); no row was dropped.`}
+          </li>
+        ))}
+      </ul>
+      {rates.problemCount > 0 ? (
+        <div className="mt-2 max-h-96 overflow-auto">
+          <table className="min-w-full text-sm" data-testid="report-rate-problems">
+            <caption className="pb-1 text-left text-xs text-ink-400">
+              {rates.problems.length < rates.problemCount ? `First ${rates.problems.length} of ${rates.problemCount.toLocaleString("en")}` : `All ${rates.problemCount}`} rate problem(s), by region, period and indicator
+            </caption>
+            <thead>
+              <tr className="border-b border-ink-100 text-left text-xs uppercase text-ink-400">
+                <th className="py-1 pr-3 font-medium">Region</th>
+                <th className="py-1 pr-3 font-medium">Period</th>
+                <th className="py-1 pr-3 font-medium">Indicator</th>
+                <th className="py-1 pr-3 font-medium">Row</th>
+                <th className="py-1 pr-3 font-medium">Kind</th>
+                <th className="py-1 font-medium">Problem</th>
+              </tr>
+            </thead>
+            <tbody className="divide-y divide-ink-50">
+              {rates.problems.map((p, i) => (
+                <tr key={i}>
+                  <td className="py-1 pr-3">{p.region}</td>
+                  <td className="py-1 pr-3">{p.period}</td>
+                  <td className="py-1 pr-3">{p.indicator}</td>
+                  <td className="py-1 pr-3 tabular-nums text-ink-600">{p.row ?? "—"}</td>
+                  <td className="py-1 pr-3 text-ink-600">{RATE_PROBLEM_LABELS[p.kind]}</td>
+                  <td className="py-1 text-ink-800">{p.message}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      ) : null}
+    </div>
   );
 }
 

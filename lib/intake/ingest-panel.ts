@@ -16,6 +16,7 @@ import { StoredFileChecksumError } from "@/lib/storage/errors";
 import { validatePanelStream } from "./validate";
 import { columnMappingSchema, type ColumnMapping, type PanelLayout } from "./schemas";
 import type { Observation, PanelReport } from "./report";
+import { declarationProblem, type RateDeclaration } from "./rates";
 import { inTransaction, intakePool } from "./ingest-db";
 import { drainable, streamVersionFile } from "./version-files";
 import type { VersionDiff } from "@/models/intake-types";
@@ -224,11 +225,12 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
       // stream throws at its end unless the bytes are what was checked, and the throw rolls the COPY back.
       const verified = options.source ? null : drainable(await streamVersionFile(version.s3_key, version.sha256, `panel version ${version.version} (id ${versionId})`));
       const source: AsyncIterable<Uint8Array> = options.source ?? (verified as NonNullable<typeof verified>).source;
+      const rates = await workspaceRates(client, version.workspace_id);
       const writer = new CopyWriter(client);
       const iterator = validatePanelStream({
         source,
         boundaryIds: regionRows.map((r) => r.code),
-        options: { decimal: version.decimal_separator, layout: version.layout, mapping, maxErrors: options.maxErrors ?? 100 },
+        options: { decimal: version.decimal_separator, layout: version.layout, mapping, maxErrors: options.maxErrors ?? 100, rates },
       });
       let report: PanelReport;
       try {
@@ -264,6 +266,7 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
          ON CONFLICT (workspace_id, code) DO NOTHING`,
         [version.workspace_id, report.indicators],
       );
+      await recordFileRates(client, version.workspace_id, report, rates);
       const diff = await panelDiff(client, versionId, version.panel_id, version.version);
       await client.query(
         `UPDATE panel_versions SET state = 'validated', report = $2, diff = $3, row_count = $4, validated_at = now(), updated_at = now()
@@ -288,6 +291,35 @@ export async function ingestPanelVersion(versionId: number, options: IngestPanel
     return { state: "rejected", report };
   }
   return outcome;
+}
+
+/** The workspace's rate declarations (indicator records), which a version is checked with unless its file declares the rate itself. */
+async function workspaceRates(client: pg.PoolClient, workspaceId: number): Promise<RateDeclaration[]> {
+  const { rows } = await client.query<{ code: string; events: string; population: string; multiplier: number }>(
+    `SELECT code, rate_events_code AS events, rate_population_code AS population, rate_multiplier AS multiplier
+       FROM indicators WHERE workspace_id = $1 AND rate_events_code IS NOT NULL ORDER BY code`,
+    [workspaceId],
+  );
+  return rows.map((r) => ({ indicator: r.code, events: r.events, population: r.population, multiplier: r.multiplier as RateDeclaration["multiplier"] }));
+}
+
+/**
+ * A rate the file declared becomes the indicator record's declaration when the
+ * record has none and it fits the workspace's others; a steward's declaration
+ * is never overwritten by a file (the report warned when they differ).
+ */
+async function recordFileRates(client: pg.PoolClient, workspaceId: number, report: PanelReport, existing: readonly RateDeclaration[]): Promise<void> {
+  const accepted = [...existing];
+  for (const d of report.rates?.declarations ?? []) {
+    if (d.source !== "file" || accepted.some((a) => a.indicator === d.indicator)) continue;
+    if (declarationProblem(d, accepted) !== null) continue;
+    const { rowCount } = await client.query(
+      `UPDATE indicators SET rate_events_code = $3, rate_population_code = $4, rate_multiplier = $5, updated_at = now()
+        WHERE workspace_id = $1 AND code = $2 AND rate_events_code IS NULL`,
+      [workspaceId, d.indicator, d.events, d.population, d.multiplier],
+    );
+    if (rowCount) accepted.push(d);
+  }
 }
 
 class RejectedPanel extends Error {

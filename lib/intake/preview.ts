@@ -7,6 +7,7 @@ import { Utf8StreamDecoder } from "./encoding";
 import { suggestMapping, type MappingSuggestion, type SuggestOptions } from "./mapping";
 import type { PanelLayout } from "./schemas";
 import { sniffDelimiter, sniffNewline, type DelimiterGuess } from "./sniff";
+import { parseComment, splitLeadingComments, type RateDeclaration } from "./rates";
 
 export interface PanelPreview {
   bom: boolean;
@@ -16,6 +17,8 @@ export interface PanelPreview {
   header: string[];
   sampleRows: string[][];
   suggestion: MappingSuggestion;
+  /** Rates the file declares in `# rate:` lines above the header (validation reports any it cannot read). */
+  rates: RateDeclaration[];
 }
 
 const PREVIEW_BYTES = 64 * 1024;
@@ -54,6 +57,13 @@ export async function readPanelSample(
   const problem = encoding.problems[0];
   const encodingProblem =
     encoding.fatal ?? (problem ? `invalid UTF-8: byte 0x${problem.byte} at byte offset ${problem.byteOffset} (file line ${problem.line})` : null);
+  // Comment lines above the header (rate declarations) are not part of the table.
+  const leading = splitLeadingComments(text, complete);
+  text = leading.rest;
+  const rates = leading.comments.flatMap(({ text: comment }) => {
+    const parsed = parseComment(comment);
+    return parsed.kind === "rate" ? [parsed.declaration] : [];
+  });
   const delimiter = sniffDelimiter(text, complete);
   const parsed = Papa.parse<string[]>(text, {
     delimiter: delimiter.delimiter,
@@ -72,6 +82,7 @@ export async function readPanelSample(
     // The last sampled row may be cut by the 64 KiB window only when it is the very end; preview stops well before.
     sampleRows: rows.slice(0, sampleSize),
     suggestion: suggestMapping(header, layout, suggest),
+    rates,
   };
   // A last row cut by the 64 KiB window would add a half-written code; drop it when the file goes on.
   return { preview, rows: complete ? rows : rows.slice(0, -1) };

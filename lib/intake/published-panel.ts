@@ -10,12 +10,13 @@
  * and `publishedPanelVersions` return only those.
  */
 import { to as copyTo } from "pg-copy-streams";
-import { QueryTypes } from "sequelize";
+import { QueryTypes, type Transaction } from "sequelize";
 import { db } from "@/lib/db";
 import { can, type Role } from "@/lib/auth/roles";
 import type { VersionState } from "@/models/intake-types";
 import { parsePeriod, sortPeriods, type Period } from "./periods";
 import { intakePool } from "./ingest-db";
+import type { RateDeclaration, RateSpec } from "./rates";
 
 export interface PeriodRef {
   key: string;
@@ -332,6 +333,8 @@ export interface IndicatorMeta {
   description: string | null;
   source: string | null;
   higherIsBetter: boolean | null;
+  /** Set when the indicator is declared a rate: events / population × multiplier. */
+  rate: RateSpec | null;
 }
 
 /**
@@ -362,12 +365,70 @@ export function indicatorVisibleSql(alias: string, visibility: IndicatorVisibili
                     WHERE vis_r.workspace_id = ${alias}.workspace_id AND vis_rp.indicator_code = ${alias}.code))`;
 }
 
+interface IndicatorRow {
+  code: string;
+  label: string;
+  unit: string | null;
+  description: string | null;
+  source: string | null;
+  higher_is_better: boolean | null;
+  rate_events_code: string | null;
+  rate_population_code: string | null;
+  rate_multiplier: number | null;
+}
+
+function rateOf(r: Pick<IndicatorRow, "rate_events_code" | "rate_population_code" | "rate_multiplier">): RateSpec | null {
+  if (r.rate_events_code === null || r.rate_population_code === null || r.rate_multiplier === null) return null;
+  return { events: r.rate_events_code, population: r.rate_population_code, multiplier: r.rate_multiplier as RateSpec["multiplier"] };
+}
+
 /** Indicator metadata of a workspace by code, limited to what `visibility` allows. */
 export async function indicatorMetadata(workspaceId: number, visibility: IndicatorVisibility): Promise<IndicatorMeta[]> {
-  const rows = await db().query<{ code: string; label: string; unit: string | null; description: string | null; source: string | null; higher_is_better: boolean | null }>(
-    `SELECT i.code, i.label, i.unit, i.description, i.source, i.higher_is_better FROM indicators i
+  const rows = await db().query<IndicatorRow>(
+    `SELECT i.code, i.label, i.unit, i.description, i.source, i.higher_is_better, i.rate_events_code, i.rate_population_code, i.rate_multiplier
+       FROM indicators i
       WHERE i.workspace_id = :workspaceId AND ${indicatorVisibleSql("i", visibility)} ORDER BY i.code`,
     { replacements: { workspaceId }, type: QueryTypes.SELECT },
   );
-  return rows.map((r) => ({ code: r.code, label: r.label, unit: r.unit, description: r.description, source: r.source, higherIsBetter: r.higher_is_better }));
+  return rows.map((r) => ({ code: r.code, label: r.label, unit: r.unit, description: r.description, source: r.source, higherIsBetter: r.higher_is_better, rate: rateOf(r) }));
+}
+
+/** The rate declarations of a workspace's indicator records, by rate code. */
+export async function rateDeclarationsOf(workspaceId: number, transaction?: Transaction): Promise<RateDeclaration[]> {
+  const rows = await db().query<Pick<IndicatorRow, "code" | "rate_events_code" | "rate_population_code" | "rate_multiplier">>(
+    `SELECT code, rate_events_code, rate_population_code, rate_multiplier FROM indicators
+      WHERE workspace_id = :workspaceId AND rate_events_code IS NOT NULL ORDER BY code`,
+    { replacements: { workspaceId }, type: QueryTypes.SELECT, transaction },
+  );
+  return rows.flatMap((r) => {
+    const rate = rateOf(r);
+    return rate === null ? [] : [{ indicator: r.code, ...rate }];
+  });
+}
+
+/** A rate's inputs in one panel version: events and population per period and region (NaN where missing). */
+export interface RateColumns {
+  indicator: string;
+  events: Float64Array[];
+  population: Float64Array[];
+  multiplier: number;
+  /** As in the panel: `events[p][r]` is period `periods[p]`, region `regionCodes[r]`. */
+  periods: PeriodRef[];
+  regionCodes: string[];
+}
+
+/**
+ * The events and population columns of a rate indicator in a loaded panel
+ * version (pure: no database). Load the panel with both codes selected, e.g.
+ * `loadPanelColumns(id, { indicators: [rate.events, rate.population] })`.
+ * @throws naming the rate and the code the panel lacks.
+ */
+export function rateColumnsOf(panel: Pick<PanelColumns, "columns" | "periods" | "regionCodes" | "panelVersionId">, rate: RateDeclaration): RateColumns {
+  const events = panel.columns.get(rate.events);
+  const population = panel.columns.get(rate.population);
+  const lacking = [events ? null : rate.events, population ? null : rate.population].filter((c): c is string => c !== null);
+  if (!events || !population) {
+    throw new Error(`panel version ${panel.panelVersionId} has no indicator ${lacking.map((c) => `'${c}'`).join(" or ")}, which the rate '${rate.indicator}' divides`);
+  }
+  return { indicator: rate.indicator, events, population, multiplier: rate.multiplier, periods: panel.periods, regionCodes: panel.regionCodes };
 }

@@ -7,6 +7,7 @@ import type { Delimiter } from "./sniff";
 import type { Granularity } from "./periods";
 import type { ColumnMapping, PanelLayout } from "./schemas";
 import type { DecimalSeparator } from "./numbers";
+import type { RatesReport } from "./rates";
 
 /**
  * One problem, located. `row` is the 1-based data row: row 1 is the first line
@@ -82,6 +83,13 @@ export interface PanelReport {
   errorCount: number;
   warnings: IntakeProblem[];
   warningCount: number;
+  /**
+   * Rate declarations in force (from the file's `# rate:` lines or the
+   * workspace's indicator records), whether each rate was derived, and the
+   * problems of their cells by region, period and indicator. Absent from
+   * reports stored before rates existed.
+   */
+  rates?: RatesReport;
 }
 
 export const ROW_NUMBERING =

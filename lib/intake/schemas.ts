@@ -4,6 +4,7 @@
  */
 import { z } from "zod";
 import { text } from "@/lib/http/params";
+import { rateDeclarationSchema } from "./rates";
 
 // Stored as jsonb, where PostgreSQL refuses NUL: the shared text block refuses control characters.
 const columnName = text({ min: 1, max: 500, empty: "a column name is required" });
@@ -67,6 +68,8 @@ export const panelOptionsSchema = z.object({
   maxErrors: z.number().int().min(1).max(10_000).default(100),
   /** Cap on listed examples (duplicates, region codes). */
   maxExamples: z.number().int().min(1).max(10_000).default(20),
+  /** Rates the workspace has declared (indicator records); the file's own `# rate:` lines win for the rates they name. */
+  rates: z.array(rateDeclarationSchema).max(10_000).default([]),
 });
 
 export type ColumnMapping = z.infer<typeof columnMappingSchema>;

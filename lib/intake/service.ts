@@ -15,7 +15,7 @@
  */
 import { createHash, randomUUID } from "node:crypto";
 import type { Readable } from "node:stream";
-import { Op, QueryTypes } from "sequelize";
+import { Op, QueryTypes, type Transaction } from "sequelize";
 import { z } from "zod";
 import { db } from "@/lib/db";
 import { auditMember, versionTarget } from "@/lib/security/audit";
@@ -31,6 +31,8 @@ import { id, idText, text, uuidText } from "@/lib/http/params";
 import { fileIndicatorCodes, indicatorFromFileName, normaliseHeader } from "./mapping";
 import { readPanelHeader, readPanelSample, type PanelPreview } from "./preview";
 import { columnMappingSchema, decimalSchema, type ColumnMapping } from "./schemas";
+import { declarationProblem, rateSpecSchema, type RateSpec } from "./rates";
+import { rateDeclarationsOf } from "./published-panel";
 import { lockWorkspaceQuota, quotaRefusal, workspaceStorageUsed } from "./storage-quota";
 import { versionFileKey } from "./version-files";
 import { suggestTarget, type TargetSuggestion } from "./version-target";
@@ -104,6 +106,12 @@ export const indicatorPatchSchema = z.object({
   description: text({ max: 4000, multiline: true }).nullable().default(null),
   source: text({ max: 400 }).nullable().default(null),
   higherIsBetter: z.boolean().nullable().default(null),
+  /**
+   * The indicator as a rate of two others of one panel: events / population ×
+   * multiplier. null clears the declaration; absent leaves it as it is (a file's
+   * `# rate:` line may have set it at ingest).
+   */
+  rate: rateSpecSchema.nullable().optional(),
 });
 export type IndicatorPatch = z.infer<typeof indicatorPatchSchema>;
 
@@ -682,22 +690,76 @@ export async function archiveVersion(member: MemberContext, kind: VersionKind, v
 
 const INDICATOR_FIELDS = ["label", "unit", "description", "source", "higherIsBetter"] as const satisfies readonly (keyof IndicatorPatch)[];
 
-/** Creates or updates one indicator's metadata. */
+/**
+ * Checks a steward's rate declaration for indicator `code` (not its own events
+ * or population, checked before): no chain with the workspace's other rates, and both codes
+ * indicators of one panel (a validated or published version holds both).
+ */
+async function checkRateDeclaration(workspaceId: number, code: string, rate: RateSpec, transaction: Transaction): Promise<void> {
+  const others = (await rateDeclarationsOf(workspaceId, transaction)).filter((d) => d.indicator !== code);
+  const problem = declarationProblem({ indicator: code, ...rate }, others);
+  if (problem !== null) throw new IntakeInputError(`rate: ${problem}`, "rate");
+  const together = await db().query<{ n: number }>(
+    `SELECT 1 AS n FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
+      WHERE p.workspace_id = :workspaceId AND pv.state IN ('validated', 'published')
+        AND EXISTS (SELECT 1 FROM observations o WHERE o.panel_version_id = pv.id AND o.indicator_code = :events)
+        AND EXISTS (SELECT 1 FROM observations o WHERE o.panel_version_id = pv.id AND o.indicator_code = :population)
+      LIMIT 1`,
+    { replacements: { workspaceId, events: rate.events, population: rate.population }, type: QueryTypes.SELECT, transaction },
+  );
+  if (together.length === 0) {
+    throw new IntakeInputError(`rate: '${rate.events}' and '${rate.population}' are not both indicators of one panel of this workspace (a validated or published version)`, "rate");
+  }
+}
+
+/** Creates or updates one indicator's metadata (and, when `rate` is given, its rate declaration). */
 export async function saveIndicator(member: MemberContext, code: string, patch: IndicatorPatch) {
   const parsed = indicatorCodeSchema.safeParse(code);
   if (!parsed.success) throw new IntakeInputError(`code: ${parsed.error.issues[0]?.message ?? "not an indicator code"}`, "code");
   const trimmed = parsed.data;
   const { Indicator } = models();
+  const { rate, ...fields } = patch;
+  if (rate && (rate.events === trimmed || rate.population === trimmed)) {
+    const role = rate.events === trimmed ? "events" : "population";
+    throw new IntakeInputError(`rate: '${trimmed}' cannot be its own ${role}`, `rate.${role}`);
+  }
   return db().transaction(async (transaction) => {
+    // One declaration at a time per workspace, so two stewards cannot chain rates past each other's check.
+    await db().query("SELECT pg_advisory_xact_lock(hashtext('indicator-rates'), :workspaceId)", { replacements: { workspaceId: member.workspace.id }, transaction });
+    const rateColumns =
+      rate === undefined
+        ? {}
+        : { rateEventsCode: rate?.events ?? null, ratePopulationCode: rate?.population ?? null, rateMultiplier: rate?.multiplier ?? null };
     const [row, created] = await Indicator.findOrCreate({
       where: { workspaceId: member.workspace.id, code: trimmed },
-      defaults: { workspaceId: member.workspace.id, code: trimmed, ...patch },
+      defaults: { workspaceId: member.workspace.id, code: trimmed, ...fields, ...rateColumns },
       transaction,
     });
+    // A declaration is checked when it is new or changed (saving a label keeps a rate whose panel was archived since).
+    if (rate && (created || !sameRate(rateOfRow(row), rate))) await checkRateDeclaration(member.workspace.id, trimmed, rate, transaction);
     // Field names only: the values are the steward's text and stay in the indicators table.
-    const changed = INDICATOR_FIELDS.filter((field) => created || row[field] !== patch[field]);
-    if (!created) await row.update(patch, { transaction });
+    const changed: string[] = INDICATOR_FIELDS.filter((field) => created || row[field] !== fields[field]);
+    if (rate !== undefined && (created ? rate !== null : !sameRate(rateOfRow(row), rate))) changed.push("rate");
+    if (!created) await row.update({ ...fields, ...rateColumns }, { transaction });
     await auditMember(member, { action: "indicator.updated", target: `indicator "${trimmed}"`, detail: { code: trimmed, created, changed } }, transaction);
-    return { code: row.code, label: row.label, unit: row.unit, description: row.description, source: row.source, higherIsBetter: row.higherIsBetter };
+    return {
+      code: row.code,
+      label: row.label,
+      unit: row.unit,
+      description: row.description,
+      source: row.source,
+      higherIsBetter: row.higherIsBetter,
+      rate: rateOfRow(row),
+    };
   });
+}
+
+function rateOfRow(row: { rateEventsCode: string | null; ratePopulationCode: string | null; rateMultiplier: number | null }): RateSpec | null {
+  if (row.rateEventsCode === null || row.ratePopulationCode === null || row.rateMultiplier === null) return null;
+  return { events: row.rateEventsCode, population: row.ratePopulationCode, multiplier: row.rateMultiplier as RateSpec["multiplier"] };
+}
+
+function sameRate(a: RateSpec | null, b: RateSpec | null): boolean {
+  if (a === null || b === null) return a === b;
+  return a.events === b.events && a.population === b.population && a.multiplier === b.multiplier;
 }

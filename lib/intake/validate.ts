@@ -21,6 +21,7 @@ import { requiredColumns, suggestMapping, normaliseHeader } from "./mapping";
 import { panelOptionsSchema, type ColumnMapping, type PanelOptions, type PanelOptionsInput } from "./schemas";
 import { delimiterName, sniffDelimiter, sniffNewline, type Delimiter } from "./sniff";
 import { ROW_NUMBERING, type DuplicateExample, type IntakeProblem, type Observation, type PanelReport } from "./report";
+import { RateChecker, declarationProblem, describeDeclaration, parseComment, splitLeadingComments, type LeadingComment, type RateDeclaration, type RatesReport } from "./rates";
 
 export interface ValidatePanelInput {
   /** The raw bytes: a Node Readable (fs, S3 body) or any async iterable of chunks. */
@@ -165,6 +166,10 @@ class PanelState {
   granularityExample = "";
   /** Set when validation had to stop early (no usable header, caps exceeded). */
   stopped = false;
+  /** Rate declarations in force (the file's, then the workspace's) and their checker; null when there are none. */
+  rateDeclarations: (RateDeclaration & { source: "file" | "workspace" })[] = [];
+  rateChecker: RateChecker | null = null;
+  rates: RatesReport = { declarations: [], problems: [], problemCount: 0 };
 
   readonly regionIndex = new Map<string, number>();
   readonly regionCodes: string[] = [];
@@ -431,7 +436,7 @@ export async function* validatePanelStream(input: ValidatePanelInput): AsyncGene
   const decoder = new Utf8StreamDecoder(Math.min(options.maxErrors, 20));
   const chunks = decodeChunks(input.source, decoder)[Symbol.asyncIterator]();
 
-  // Sample the start for sniffing, without losing it for the parser.
+  // Sample the start for sniffing, without losing it for the parser (comment lines above the header are taken off it).
   let head = "";
   let exhausted = false;
   while (head.length < SNIFF_CHARS) {
@@ -452,6 +457,15 @@ export async function* validatePanelStream(input: ValidatePanelInput): AsyncGene
     state.stop(null, null, encodingAtStart.bytes === 0 ? "the file is empty" : "the file holds only blank lines");
     return buildReport(state, decoder, options.decimal);
   }
+  const leading = splitLeadingComments(head, exhausted);
+  if (leading.comments.length > 0) {
+    head = leading.rest;
+    if (exhausted && head.trim() === "") {
+      state.stop(null, null, "the file holds only comment lines (#) and no header");
+      return buildReport(state, decoder, options.decimal);
+    }
+  }
+  readRateDeclarations(state, leading.comments);
   if (options.delimiter) {
     state.delimiter = options.delimiter;
   } else {
@@ -506,6 +520,7 @@ export async function* validatePanelStream(input: ValidatePanelInput): AsyncGene
         if (state.stopped) break;
         if (batch.length >= BATCH_SIZE) {
           state.observations += batch.length;
+          state.rateChecker?.observeAll(batch);
           yield batch;
           batch = [];
         }
@@ -518,11 +533,116 @@ export async function* validatePanelStream(input: ValidatePanelInput): AsyncGene
   }
   if (batch.length > 0) {
     state.observations += batch.length;
+    state.rateChecker?.observeAll(batch);
     yield batch;
   }
   if (row === -1 && !state.stopped) state.stop(null, null, "the file has no header line");
   else if (!state.stopped && state.rows === 0) state.stop(null, null, "the file has a header but no data rows");
+  if (!state.stopped && state.rateChecker !== null) {
+    const derived = finishRates(state);
+    for (let start = 0; start < derived.length; start += BATCH_SIZE) {
+      const slice = derived.slice(start, start + BATCH_SIZE);
+      state.observations += slice.length;
+      yield slice;
+    }
+  }
   return buildReport(state, decoder, options.decimal);
+}
+
+/**
+ * Reads the comment lines above the header: `# rate: …` declarations (a line
+ * that cannot be read, or that contradicts another, is an error naming its
+ * file line), other comments (a warning says they were not read). Then adds
+ * the workspace's declarations (options.rates) for rates the file does not
+ * declare itself.
+ */
+function readRateDeclarations(state: PanelState, comments: readonly LeadingComment[]): void {
+  const fromFile: RateDeclaration[] = [];
+  for (const { line, text } of comments) {
+    const parsed = parseComment(text);
+    if (parsed.kind === "other") {
+      state.warnings.add(null, null, `file line ${line}: the comment '# ${text.slice(0, 80)}' above the header was not read (only '# rate: …' lines are)`);
+      continue;
+    }
+    if (parsed.kind === "invalid") {
+      state.errors.add(null, null, `file line ${line}: ${parsed.message}`);
+      continue;
+    }
+    const d = parsed.declaration;
+    if (fromFile.some((other) => other.indicator === d.indicator)) {
+      state.errors.add(null, null, `file line ${line}: the rate '${d.indicator}' is declared twice`);
+      continue;
+    }
+    const problem = declarationProblem(d, fromFile);
+    if (problem !== null) {
+      state.errors.add(null, null, `file line ${line}: ${problem}`);
+      continue;
+    }
+    fromFile.push(d);
+  }
+  const declarations: (RateDeclaration & { source: "file" | "workspace" })[] = fromFile.map((d) => ({ ...d, source: "file" }));
+  for (const w of state.options.rates) {
+    const mine = fromFile.find((d) => d.indicator === w.indicator);
+    if (mine !== undefined) {
+      if (mine.events !== w.events || mine.population !== w.population || mine.multiplier !== w.multiplier) {
+        state.warnings.add(
+          null,
+          null,
+          `the file declares ${describeDeclaration(mine)} but the workspace's indicator record says ${describeDeclaration(w)}; this version is checked with the file's declaration`,
+        );
+      }
+      continue;
+    }
+    // A workspace declaration that would contradict the file's is left out (the file's win for this version).
+    if (declarationProblem(w, fromFile) !== null) continue;
+    declarations.push({ ...w, source: "workspace" });
+  }
+  state.rateDeclarations = declarations;
+  state.rateChecker = declarations.length > 0 ? new RateChecker(declarations, state.options.maxErrors) : null;
+}
+
+/**
+ * After the last row: a file's declaration naming an indicator the file lacks
+ * is an error; every declaration whose events and population are in the file
+ * is checked (problems are warnings, by region, period and indicator); the
+ * rates the file does not give are derived. Returns the derived observations,
+ * already registered as cells of the panel.
+ */
+function finishRates(state: PanelState): Observation[] {
+  const checker = state.rateChecker;
+  if (checker === null) return [];
+  const inFile = new Set(state.indicatorList);
+  for (const d of state.rateDeclarations) {
+    if (d.source !== "file") continue;
+    const absent = [d.events, d.population].filter((code) => !inFile.has(code));
+    if (absent.length > 0) {
+      state.errors.add(null, null, `the file declares the rate ${describeDeclaration(d)} but has no indicator ${absent.map((c) => `'${c}'`).join(" or ")}`);
+    }
+  }
+  const periodOrder = [...state.periodList].sort((a, b) => a.ordinal - b.ordinal).map((p) => p.key);
+  const { report, derived } = checker.finish(inFile, periodOrder);
+  state.rates = report;
+  for (const summary of report.declarations) {
+    if (summary.problems === 0) continue;
+    state.warnings.add(
+      null,
+      summary.indicator,
+      `${summary.problems} region-period(s) of the rate '${summary.indicator}' (${describeDeclaration(summary)}) have a problem; each is listed under Rates by region and period, and no row was dropped`,
+    );
+  }
+  const kept: Observation[] = [];
+  for (const o of derived) {
+    const regionIdx = state.regionIndex.get(o.region);
+    const periodIdx = state.periodIndex.get(o.periodKey);
+    if (regionIdx === undefined || periodIdx === undefined) continue;
+    const indicatorIdx = state.indicator(o.indicator, 0, o.indicator);
+    if (indicatorIdx < 0) break;
+    // A derived cell has no row of its own; it is filed under its events' (or population's) row.
+    if (state.claimCell(regionIdx, periodIdx, indicatorIdx, Math.max(o.row, 1)) !== 0) continue;
+    if (o.value === null) state.countMissing(indicatorIdx, periodIdx);
+    kept.push(o);
+  }
+  return kept;
 }
 
 type Columns = NonNullable<ReturnType<typeof resolveHeader>>;
@@ -779,6 +899,7 @@ function buildReport(state: PanelState, decoder: Utf8StreamDecoder, decimal: Dec
     errorCount,
     warnings: state.warnings.items,
     warningCount: state.warnings.count,
+    rates: state.rates,
   };
 }
 

@@ -364,7 +364,7 @@ export async function indicatorOf(workspaceId: number, code: string): Promise<In
   // Any code can be asked for with any run id; a code a run analysed is always
   // "published", so this never hides metadata a result needs.
   const all = await indicatorMetadata(workspaceId, "published");
-  return all.find((m) => m.code === code) ?? { code, label: code, unit: null, description: null, source: null, higherIsBetter: null };
+  return all.find((m) => m.code === code) ?? { code, label: code, unit: null, description: null, source: null, higherIsBetter: null, rate: null };
 }
 
 export async function timeline(workspaceId: number, indicator: string, runId: number | null): Promise<Timeline | null> {

@@ -67,8 +67,11 @@ function loadDemo(): { geometry: RunGeometry; data: Map<string, Map<string, Map<
   const topology = JSON.parse(readFileSync(path.join(dir, "veldmark.topojson"), "utf8")) as Topology;
   const geometry = buildRunGeometry(topology, { object: "districts", idProperty: "code" }, DEMO_PARAMS);
   const data = new Map<string, Map<string, Map<string, number | null>>>();
-  for (const line of readFileSync(path.join(dir, "veldmark-panel.csv"), "utf8").trim().split(/\r?\n/).slice(1)) {
+  // The file opens with its `# rate:` line (the counts behind a rate), then the header.
+  for (const line of readFileSync(path.join(dir, "veldmark-panel.csv"), "utf8").trim().split(/\r?\n/).filter((l) => !l.startsWith("#")).slice(1)) {
     const [region, period, indicator, raw] = line.split(",");
+    // The counts behind the closure rate are not analysed themselves (the demo run analyses the rate, which intake derives).
+    if (indicator === "business_closures" || indicator === "working_age_population") continue;
     if (!data.has(indicator)) data.set(indicator, new Map());
     const byPeriod = data.get(indicator) as Map<string, Map<string, number | null>>;
     if (!byPeriod.has(period)) byPeriod.set(period, new Map());

@@ -8,8 +8,11 @@
  *   `province`, `provinceName`, `landmass`) and object `provinces` (merged
  *   districts, id property `code`). Planar kilometres (x east, y north), far from
  *   the origin so the coordinates cannot be mistaken for longitude/latitude.
- * - veldmark-panel.csv: long form region,period,indicator,value (2008–2024).
- * - indicators.json: code, label, unit, description, source, higherIsBetter.
+ * - veldmark-panel.csv: long form region,period,indicator,value (2008–2024),
+ *   after a `# rate:` line declaring business closures per 1,000 working-age
+ *   residents (the file carries the two counts; intake derives the rate).
+ * - indicators.json: code, label, unit, description, source, higherIsBetter
+ *   (and the rate's declaration on the rate).
  */
 import { mkdir, writeFile } from "node:fs/promises";
 import path from "node:path";
@@ -21,6 +24,7 @@ import { buildMap, type District } from "./veldmark/map";
 import { districtName, provinceName } from "./veldmark/names";
 import { SeededRandom } from "./veldmark/random";
 import { generateIndicators, INDICATORS, YEARS } from "./veldmark/indicators";
+import { CLOSURE_INDICATORS, CLOSURE_RATE, CLOSURE_RATE_DECLARATION, CLOSURES, WORKING_AGE, generateClosures } from "./veldmark/closures";
 import type { Point } from "./veldmark/geometry";
 
 export const DEFAULT_SEED = 20080101;
@@ -41,6 +45,7 @@ export interface VeldmarkSummary {
   districtsWithoutNeighbours: string[];
   missingCells: number;
   panelRows: number;
+  smallestWorkingAge: number;
 }
 
 export interface VeldmarkOutput {
@@ -201,8 +206,16 @@ export function generateVeldmark(options: GenerateOptions = {}): VeldmarkOutput 
     isMissing,
   );
 
+  // The counts behind the rate come from a stream of their own: the indicators above keep their values.
+  const counts = generateClosures(
+    new SeededRandom((options.seed ?? DEFAULT_SEED) + 1),
+    { neighbours: neighbourLists, capital: closeness(map.capital, 90), shipyard: closeness(map.shipyard, 75) },
+    ordered.map((d) => d.landmass !== "mainland"),
+  );
+
   const years = YEARS.slice(0, options.years ?? YEARS.length);
-  const lines = ["region,period,indicator,value"];
+  const { events, population, multiplier } = CLOSURE_RATE_DECLARATION;
+  const lines = [`# rate: ${CLOSURE_RATE} = ${events} / ${population} * ${multiplier}`, "region,period,indicator,value"];
   let missingCells = 0;
   for (const meta of INDICATORS) {
     for (const year of years) {
@@ -213,12 +226,18 @@ export function generateVeldmark(options: GenerateOptions = {}): VeldmarkOutput 
       });
     }
   }
+  for (const [code, values] of [
+    [CLOSURES, counts.closures],
+    [WORKING_AGE, counts.population],
+  ] as const) {
+    for (const year of years) values[year].forEach((value, i) => lines.push(`${codes[i]},${year},${code},${value}`));
+  }
 
   return {
     files: {
       "veldmark.topojson": `${JSON.stringify(topology)}\n`,
       "veldmark-panel.csv": `${lines.join("\n")}\n`,
-      "indicators.json": `${JSON.stringify(INDICATORS, null, 2)}\n`,
+      "indicators.json": `${JSON.stringify([...INDICATORS, ...CLOSURE_INDICATORS], null, 2)}\n`,
     },
     summary: {
       districts: ordered.length,
@@ -226,7 +245,9 @@ export function generateVeldmark(options: GenerateOptions = {}): VeldmarkOutput 
       islandDistricts: islandDistricts.map(({ i }) => codes[i]),
       districtsWithoutNeighbours: neighbourLists.flatMap((list, i) => (list.length === 0 ? [codes[i]] : [])),
       missingCells,
-      panelRows: lines.length - 1,
+      // The rate line and the header are not rows.
+      panelRows: lines.length - 2,
+      smallestWorkingAge: Math.min(...years.flatMap((year) => counts.population[year])),
     },
   };
 }

@@ -14,7 +14,7 @@ import demo from "../../seeders/demo-accounts.json";
 import { db } from "@/lib/db";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { stopBoss } from "@/lib/jobs/boss";
-import { publishedPanelVersions } from "@/lib/intake/published-panel";
+import { panelDimensions, publishedPanelVersions, rateDeclarationsOf } from "@/lib/intake/published-panel";
 import { runParamsInputSchema } from "@/lib/runs/schemas";
 import { resolveRunParams } from "@/lib/runs/service";
 import { cancelRun, insertRun } from "@/lib/runs/store";
@@ -51,7 +51,10 @@ async function main(): Promise<void> {
     log(`cancelled unfinished demo run ${r.id}`);
   }
 
-  const params = await resolveRunParams(workspace.id, version.panelVersionId, runParamsInputSchema.parse({ seed: DEMO_SEED }));
+  // Every indicator but the counts behind a declared rate (business closures and the working-age population): the rate is what is compared across districts.
+  const counts = new Set((await rateDeclarationsOf(workspace.id)).flatMap((d) => [d.events, d.population]));
+  const indicators = (await panelDimensions(version.panelVersionId)).indicators.filter((code) => !counts.has(code));
+  const params = await resolveRunParams(workspace.id, version.panelVersionId, runParamsInputSchema.parse({ seed: DEMO_SEED, indicators }));
   const runId = await insertRun({ workspaceId: workspace.id, params, createdBy: null, origin: "demo" });
   log(`run ${runId}: ${params.indicators.length} indicators × ${params.periods.length} periods of "${version.panelName}" v${version.version}, ${params.permutations} permutations, seed ${params.seed}`);
   for (const indicator of params.indicators) {

@@ -46,7 +46,7 @@ function panelCsv(run: string, tweak: (lines: string[]) => void = () => undefine
   return `${lines.join("\n")}\n`;
 }
 
-async function upload(page: Page, name: string, csv: string, panel: { newName?: string; existing?: string }) {
+async function upload(page: Page, name: string, csv: string, panel: { newName?: string; existing?: string }, beforeSubmit: () => Promise<void> = async () => undefined) {
   await page.goto(`/w/${slug}/intake`);
   await page.getByTestId("upload-wizard").waitFor();
   await page.getByLabel("Indicator panel (CSV)").check();
@@ -59,6 +59,7 @@ async function upload(page: Page, name: string, csv: string, panel: { newName?: 
   } else if (panel.existing) {
     await page.getByLabel("Panel", { exact: true }).selectOption({ label: `New version of ${panel.existing}` });
   }
+  await beforeSubmit();
   await page.getByRole("button", { name: "Validate panel" }).click();
   await page.waitForURL(/\/intake\/panels\/\d+$/);
   await page.locator('[data-testid="version-state"]:not([data-state="uploaded"])').waitFor({ timeout: 60_000 });
@@ -132,4 +133,32 @@ test("a steward uploads a panel, reads the report, fixes, publishes and sees the
   await page.waitForFunction(() => document.querySelector('[data-testid="island-count"]')?.textContent === "0");
   expect(await page.getByTestId("neighbour-histogram").locator("rect").count()).toBeGreaterThan(0);
   await screenshot(page, "intake-boundaries-knn");
+
+  // 5. The demo panel declares a rate in its first line: the indicator says so, and the report shows it derived, without problems.
+  await page.goto(`/w/${slug}/intake`);
+  await expect(page.getByTestId("rate-business_closures_per_1000").innerText()).resolves.toBe(
+    "Rate: business_closures / working_age_population × 1,000 (per 1,000)",
+  );
+  await page.getByTestId("panel-Veldmark district indicators 2008–2024").locator('[data-testid^="panel-version-"] a').first().click();
+  await page.waitForURL(/\/intake\/panels\/\d+$/);
+  const rate = page.getByTestId("report-rate-business_closures_per_1000");
+  await expect(rate.innerText()).resolves.toMatch(/declared in the file\. Not in the file: derived at ingest from events and population — 4,046 value\(s\), 0 left missing\. No problems\./);
+  await screenshot(page, "intake-rate-derived");
+
+  // 6. A file declaring a rate whose counts disagree in one district: the preview names the rate, the report names the
+  //    district and year, and the version stays usable.
+  const lines = [`# rate: rate_${run} = closures_${run} / people_${run} * 1000`, "region,period,indicator,value"];
+  for (let i = 1; i <= 10; i++) {
+    const code = `VM-${String(i).padStart(3, "0")}`;
+    lines.push(`${code},2020,closures_${run},${i === 2 ? 500 : i}`, `${code},2020,people_${run},${100 * i}`);
+  }
+  const state = await upload(page, "rate-check.csv", `${lines.join("\n")}\n`, { newName: `Rate check ${run}` }, async () => {
+    await expect(page.getByTestId("preview-rates").innerText()).resolves.toContain(`rate_${run} = closures_${run} / people_${run} × 1,000`);
+  });
+  expect(state).toBe("validated");
+  expect(await page.getByTestId("validation-report").getAttribute("data-ok")).toBe("true");
+  const problems = await page.getByTestId("report-rate-problems").locator("tbody tr").allInnerTexts();
+  expect(problems).toHaveLength(1);
+  expect(problems[0]).toMatch(new RegExp(`^VM-002\\s+2020\\s+rate_${run}\\s+3\\s+events above population\\s+`));
+  await screenshot(page, "intake-rate-problem");
 });

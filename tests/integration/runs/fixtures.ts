@@ -52,7 +52,8 @@ export async function loadVeldmarkPanel(
     source: string;
     higherIsBetter: boolean;
   }[];
-  const csv = readFileSync(path.join(DATA, "veldmark-panel.csv"), "utf8").trim().split(/\r?\n/).slice(1);
+  // The file opens with its `# rate:` line, then the header.
+  const csv = readFileSync(path.join(DATA, "veldmark-panel.csv"), "utf8").trim().split(/\r?\n/).filter((line) => !line.startsWith("#")).slice(1);
   const wantIndicators = options.indicators ? new Set(options.indicators) : null;
   const wantPeriods = options.periods ? new Set(options.periods) : null;
   const rows: { region: string; period: string; indicator: string; value: number | null }[] = [];

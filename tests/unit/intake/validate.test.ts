@@ -39,6 +39,7 @@ describe("validatePanel on fixtures", () => {
       errorCount: 0,
       warnings: [],
       warningCount: 0,
+      rates: { declarations: [], problems: [], problemCount: 0 },
     });
     expect(observations[0]).toEqual({ region: "R01", periodKey: "2019", indicator: "unemployment_rate", value: 5.2, row: 1 });
     expect(observations.map((o) => o.value)).toEqual([5.2, 6.1, 4.8, 7.0, 5.9, 6.4, 5.1, 7.7]);

@@ -28,7 +28,8 @@ type CliMoran = {
 /** Values of one indicator-period from the long-form demo panel; empty cells stay missing. */
 function periodValues(indicator: string, period: string): Map<string, number | null> {
   const values = new Map<string, number | null>();
-  const lines = fs.readFileSync(path.join(dataDir, "veldmark-panel.csv"), "utf8").trim().split("\n").slice(1);
+  // The file opens with its `# rate:` line, then the header.
+  const lines = fs.readFileSync(path.join(dataDir, "veldmark-panel.csv"), "utf8").trim().split("\n").filter((line) => !line.startsWith("#")).slice(1);
   for (const line of lines) {
     const [region, p, code, raw] = line.split(",");
     if (code === indicator && p === period) values.set(region, raw === "" ? null : Number(raw));
