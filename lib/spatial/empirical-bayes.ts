@@ -167,9 +167,9 @@ export interface LocalEmpiricalBayesOptions {
   /**
    * Centre of the squared deviations in the local variance. `"local-rate"`
    * (default): every r_j of N_i is compared with region i's own local rate
-   * m_i (Marshall 1991; GeoDa; spdep's `EBlocal(geoda = TRUE)`).
+   * m_i (Marshall 1991; spdep's `EBlocal` with its sixth argument TRUE).
    * `"each-local-rate"`: r_j is compared with region j's local rate m_j
-   * (spdep's default `EBlocal(geoda = FALSE)`, its reading of Bailey &
+   * (spdep's default `EBlocal`, its reading of Bailey &
    * Gatrell 1995, pp. 305–307).
    */
   readonly deviationsFrom?: "local-rate" | "each-local-rate";

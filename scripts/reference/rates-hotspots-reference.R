@@ -98,11 +98,13 @@ ebest <- list(
   a = attr(ebg, "parameters")$a,
   b = attr(ebg, "parameters")$b
 )
-eb_local <- function(geoda) {
-  r <- EBlocal(events, births, nb, geoda = geoda)
+# EBlocal's sixth argument chooses the centre of the local variance: FALSE (spdep's
+# default) each neighbour's own local rate, TRUE the county's local rate.
+eb_local <- function(centre_on_own_local_rate) {
+  r <- EBlocal(events, births, nb, NULL, NULL, centre_on_own_local_rate)
   list(est = as.numeric(r$est), a = as.numeric(attr(r, "parameters")$a), m = as.numeric(attr(r, "parameters")$m))
 }
-eblocal <- list(geodaFALSE = eb_local(FALSE), geodaTRUE = eb_local(TRUE))
+eblocal <- list(eachLocalRate = eb_local(FALSE), localRate = eb_local(TRUE))
 
 # ------------------------------------------------------------- local G ----
 local_g <- function(star, style) {
@@ -158,7 +160,7 @@ meta <- c(
     notes = c(
       "EBImoran.mc(n = SID74, x = BIR74, listw, nsim, alternative = 'greater') after set.seed(seed): z = (p - b)/sqrt(a + b/x) with a and b from EBest (a clamped at 0); the statistic is Moran's I of z (mean subtracted). The permutation reference is one stream of R's generator: compare only the observed statistic exactly and the distribution's mean and sd within sampling error. spdep's Monte Carlo p is max(M, 1)/(nsim + 1) without ties.",
       "EBest(family = 'poisson'): Marshall (1991) method of moments, a = max(0, s2 - b/mean(x)), estmm = b + a(p - b)/(a + b/x).",
-      "EBlocal(ri = SID74, ni = BIR74, nb): neighbourhoods are include.self(nb), the county and its queen neighbours. geoda = FALSE (the default) centres the local variance of each neighbour j on ITS OWN local rate m_j; geoda = TRUE on the county's local rate m_i. Both are recorded.",
+      "EBlocal(ri = SID74, ni = BIR74, nb): neighbourhoods are include.self(nb), the county and its queen neighbours. With its sixth argument FALSE (the default; key eachLocalRate) the local variance centres each neighbour j on ITS OWN local rate m_j; with TRUE (key localRate) on the county's local rate m_i. Both are recorded.",
       "localG(SIDR74, listw, return_internals = TRUE) with SIDR74 = 1000 * SID74 / BIR74: star_* use include.self(nb) (Gi*), nostar_* the plain list (Gi); styles B and W.",
       "hotspotClasses: for localG star_B and nostar_B, p = 2 * pnorm(-|z|) adjusted by p.adjust(method = none, bonferroni or BH) over all counties; hot when adjusted p <= alpha and z > 0, cold when z < 0, else not-significant."
     )

@@ -108,12 +108,12 @@ describe(`empirical-Bayes rates (Marshall 1991) vs ${SPDEP}`, () => {
 
   test("local over each county and its queen neighbours: m_i, a_i and the estimates equal EBlocal (both variance centres)", () => {
     for (const [mode, key] of [
-      ["local-rate", "geodaTRUE"],
-      ["each-local-rate", "geodaFALSE"],
+      ["local-rate", "localRate"],
+      ["each-local-rate", "eachLocalRate"],
     ] as const) {
       const c = new Comparison();
       const r = localEmpiricalBayesRates(events, births, queen, { deviationsFrom: mode });
-      // source: EBlocal(SID74, BIR74, poly2nb(queen), geoda = <key>): est and attr "parameters" a, m
+      // source: EBlocal(SID74, BIR74, poly2nb(queen), centre per <key>): est and attr "parameters" a, m
       const reference = fixture.EBlocal[key];
       const [est, a, m] = [aligned(reference.est), aligned(reference.a), aligned(reference.m)];
       for (let i = 0; i < est.length; i++) {
@@ -124,8 +124,8 @@ describe(`empirical-Bayes rates (Marshall 1991) vs ${SPDEP}`, () => {
       c.assertAll(300);
     }
     // The two centres are different estimators on this data (a known difference, documented):
-    // source: EBlocal geoda = TRUE vs FALSE in the same fixture.
-    const differing = fixture.EBlocal.geodaTRUE.est.filter((e, k) => Math.abs(e - fixture.EBlocal.geodaFALSE.est[k]) > 1e-6 * Math.abs(e)).length;
+    // source: EBlocal's two centres in the same fixture.
+    const differing = fixture.EBlocal.localRate.est.filter((e, k) => Math.abs(e - fixture.EBlocal.eachLocalRate.est[k]) > 1e-6 * Math.abs(e)).length;
     expect(differing).toBeGreaterThan(0);
   });
 });
