@@ -120,28 +120,8 @@ function IndicatorForm({ slug, indicator, others, onDone }: { slug: string; indi
         </label>
         {isRate ? (
           <div className="mt-3 grid gap-3 sm:grid-cols-3">
-            <label className={labelClass}>
-              Events
-              <select className={`${inputClass} mt-1`} value={events} onChange={(e) => setEvents(e.target.value)} required>
-                <option value="">Choose…</option>
-                {others.map((other) => (
-                  <option key={other.code} value={other.code}>
-                    {other.label} ({other.code})
-                  </option>
-                ))}
-              </select>
-            </label>
-            <label className={labelClass}>
-              Population
-              <select className={`${inputClass} mt-1`} value={population} onChange={(e) => setPopulation(e.target.value)} required>
-                <option value="">Choose…</option>
-                {others.map((other) => (
-                  <option key={other.code} value={other.code}>
-                    {other.label} ({other.code})
-                  </option>
-                ))}
-              </select>
-            </label>
+            <IndicatorChoice title="Events" value={events} onChange={setEvents} indicators={others} />
+            <IndicatorChoice title="Population" value={population} onChange={setPopulation} indicators={others} />
             <label className={labelClass}>
               Multiplier
               <select className={`${inputClass} mt-1`} value={multiplier} onChange={(e) => setMultiplier(e.target.value)}>
@@ -169,5 +149,22 @@ function IndicatorForm({ slug, indicator, others, onDone }: { slug: string; indi
         </button>
       </div>
     </form>
+  );
+}
+
+/** A required choice among the panel's other indicators (a rate's events or population). */
+function IndicatorChoice({ title, value, onChange, indicators }: { title: string; value: string; onChange: (code: string) => void; indicators: IndicatorMeta[] }) {
+  return (
+    <label className={labelClass}>
+      {title}
+      <select className={`${inputClass} mt-1`} value={value} onChange={(e) => onChange(e.target.value)} required>
+        <option value="">Choose…</option>
+        {indicators.map((other) => (
+          <option key={other.code} value={other.code}>
+            {other.label} ({other.code})
+          </option>
+        ))}
+      </select>
+    </label>
   );
 }

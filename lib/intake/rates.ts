@@ -13,15 +13,8 @@
  * none of them rejects the version (the rows stay, the report explains).
  */
 import { z } from "zod";
+import type { Observation } from "./observation";
 
-/** An observation as the validator streams it (the shape of report.ts's Observation, kept here so the two modules import one way). */
-export interface Observation {
-  region: string;
-  periodKey: string;
-  indicator: string;
-  value: number | null;
-  row: number;
-}
 
 /** The multipliers a rate may use. */
 export const RATE_MULTIPLIERS = [1, 100, 1000, 10_000, 100_000] as const;

@@ -31,15 +31,7 @@ export interface DuplicateExample {
   row: number;
 }
 
-/** A clean observation, ready for the store (COPY). `value` null means the cell was given as missing. */
-export interface Observation {
-  region: string;
-  periodKey: string;
-  indicator: string;
-  value: number | null;
-  /** Data row it came from (same numbering as problems), for tracing. */
-  row: number;
-}
+export type { Observation } from "./observation";
 
 export interface PanelReport {
   /** True when the panel can be published: no errors (warnings allowed). */

@@ -27,10 +27,10 @@ collect_numbers <- function(x) {
   numeric(0)
 }
 
-# Writes `obj` as pretty JSON to `path` and reads it back: every double must come
-# back bit for bit, or the script stops.
-write_exact_json <- function(obj, path) {
-  txt <- toJSON(exactify(obj), auto_unbox = TRUE, json_verbatim = TRUE, na = "null", null = "null", pretty = TRUE)
+# Writes `obj` as JSON (pretty unless told otherwise) to `path` and reads it back:
+# every double must come back bit for bit, or the script stops.
+write_exact_json <- function(obj, path, pretty = TRUE) {
+  txt <- toJSON(exactify(obj), auto_unbox = TRUE, json_verbatim = TRUE, na = "null", null = "null", pretty = pretty)
   writeLines(txt, path, useBytes = TRUE)
   back <- fromJSON(path, simplifyVector = FALSE)
   a <- collect_numbers(obj)

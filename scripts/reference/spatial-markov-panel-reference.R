@@ -27,15 +27,11 @@
 args <- commandArgs(trailingOnly = TRUE)
 root <- if (length(args) > 0) args[[1]] else "."
 source(file.path(root, "scripts", "reference", "exact-json.R"))
+source(file.path(root, "scripts", "reference", "markov-common.R"))
 suppressPackageStartupMessages(library(spdep))
 
 SEED <- 20261204L
 set.seed(SEED, kind = "Mersenne-Twister", normal.kind = "Inversion", sample.kind = "Rejection")
-
-quantile_classes <- function(v, k) {
-  cuts <- quantile(v, probs = seq_len(k - 1) / k, type = 7, names = FALSE)
-  findInterval(v, cuts, left.open = TRUE)
-}
 
 panel_case <- function(name, rows, columns, type, k, values, note) {
   n <- rows * columns
@@ -94,8 +90,6 @@ panel_case <- function(name, rows, columns, type, k, values, note) {
     expectedBelow5 = sum(vapply(per_class, function(x) as.integer(x$expectedBelow5), 0L))
   )
 }
-
-grid <- function(rows, columns) list(r = rep(0:(rows - 1), each = columns), c = rep(0:(columns - 1), times = rows))
 
 # A 7 x 7 queen lattice over five periods: a trend across the rows that drifts, with
 # noise; region 10 is missing in the second period and region 30 in the fourth.

@@ -23,15 +23,11 @@
 args <- commandArgs(trailingOnly = TRUE)
 root <- if (length(args) > 0) args[[1]] else "."
 source(file.path(root, "scripts", "reference", "exact-json.R"))
+source(file.path(root, "scripts", "reference", "markov-common.R"))
 suppressPackageStartupMessages(library(spdep))
 
 SEED <- 20260601L
 set.seed(SEED, kind = "Mersenne-Twister", normal.kind = "Inversion", sample.kind = "Rejection")
-
-quantile_classes <- function(v, k) {
-  cuts <- quantile(v, probs = seq_len(k - 1) / k, type = 7, names = FALSE)
-  findInterval(v, cuts, left.open = TRUE)
-}
 
 markov_case <- function(name, rows, columns, type, k, earlier, later, note) {
   nb <- cell2nb(rows, columns, type = type)
@@ -79,8 +75,6 @@ markov_case <- function(name, rows, columns, type, k, earlier, later, note) {
     p = pchisq(Q, df, lower.tail = FALSE)
   )
 }
-
-grid <- function(rows, columns) list(r = rep(0:(rows - 1), each = columns), c = rep(0:(columns - 1), times = rows))
 
 g8 <- grid(8, 8)
 earlier8 <- g8$r + g8$c + rnorm(64, sd = 1.5)

@@ -46,45 +46,9 @@ variables <- list(
 )
 
 # ---------------------------------------------------------- JSON output ----
-# jsonlite 1.8.4 prints at most 15 significant digits even with digits = NA, which does
-# not round-trip every double (0.1 + 0.2 comes back as 0.3). Doubles are therefore
-# formatted here with sprintf("%.17g"), which identifies each double exactly, and passed
-# to toJSON verbatim. Length-1 doubles become scalars unless wrapped in I().
-num_json <- function(v, array) {
-  s <- ifelse(is.finite(v), sprintf("%.17g", v), "null")
-  if (!array) return(structure(s, class = "json"))
-  structure(paste0("[", paste(s, collapse = ","), "]"), class = "json")
-}
-exactify <- function(x) {
-  if (is.list(x) && !is.data.frame(x)) return(lapply(x, exactify))
-  if (is.double(x)) return(num_json(unclass(x), inherits(x, "AsIs") || length(x) != 1L))
-  x
-}
-
-# Every number in a nested list, in order, as doubles (unlist() on a mixed list would
-# turn them into 15-digit strings first).
-collect_numbers <- function(x) {
-  if (is.list(x)) return(unlist(lapply(x, collect_numbers), use.names = FALSE))
-  if (is.numeric(x)) return(as.numeric(unclass(x)))
-  numeric(0)
-}
-
-write_fixture <- function(obj, name, pretty = TRUE) {
-  path <- file.path(spdep_dir, name)
-  txt <- toJSON(exactify(obj), auto_unbox = TRUE, json_verbatim = TRUE, na = "null", null = "null",
-                pretty = pretty)
-  writeLines(txt, path, useBytes = TRUE)
-  # Round-trip check: the written text must reproduce every double exactly.
-  back <- fromJSON(path, simplifyVector = FALSE)
-  a_num <- collect_numbers(obj)
-  b_num <- collect_numbers(back)
-  if (anyNA(a_num)) stop("NA/NaN in ", path)
-  if (length(a_num) != length(b_num) || any(a_num != b_num)) {
-    stop("JSON round trip lost precision in ", path)
-  }
-  message("wrote ", path, " (", file.size(path), " bytes)")
-  invisible(path)
-}
+# Doubles at 17 significant digits with a read-back check (exact-json.R).
+source(file.path(root, "scripts", "reference", "exact-json.R"))
+write_fixture <- function(obj, name, pretty = TRUE) write_exact_json(obj, file.path(spdep_dir, name), pretty)
 
 # ------------------------------------------------------------ neighbours ----
 nb_to_lists <- function(nb) {
