@@ -3,6 +3,7 @@ import { QueryTypes } from "sequelize";
 import demo from "@/seeders/demo-accounts.json";
 import { db } from "@/lib/db";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
+import { signIn } from "@/tests/helpers/sign-in";
 import { testServices } from "@/tests/helpers/env";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { closeConnections } from "@/tests/helpers/teardown";
@@ -24,13 +25,6 @@ if (!economist) throw new Error("demo-accounts.json has no economist");
 
 let session: BrowserSession;
 
-async function signIn(page: Page, email: string, password: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail address").fill(email);
-  await page.getByLabel("Password").fill(password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((url) => !url.pathname.startsWith("/sign-in"), { waitUntil: "commit" });
-}
 
 beforeAll(async () => {
   testServices();

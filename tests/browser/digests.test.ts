@@ -6,6 +6,7 @@ import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { runParamsInputSchema } from "@/lib/runs/schemas";
 import { startRun } from "@/lib/runs/service";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
+import { signIn } from "@/tests/helpers/sign-in";
 import { testServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { loadVeldmarkPanel } from "@/tests/integration/runs/fixtures";
@@ -22,13 +23,6 @@ if (!subscriber || !manager) throw new Error("demo-accounts.json needs a subscri
 
 let session: BrowserSession;
 
-async function signIn(page: Page, email: string, password: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail address").fill(email);
-  await page.getByLabel("Password").fill(password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((url) => !url.pathname.startsWith("/sign-in"), { waitUntil: "commit" });
-}
 
 async function signOut(page: Page) {
   await page.getByRole("button", { name: "Sign out" }).click();

@@ -1,4 +1,3 @@
-import type { Page } from "playwright-core";
 import { QueryTypes } from "sequelize";
 import demo from "@/seeders/demo-accounts.json";
 import { db } from "@/lib/db";
@@ -7,6 +6,7 @@ import { GI_STAR_CLASS_COLOURS, GI_STAR_CLASS_NAMES, LOCAL_MAP_VIEW_NAMES } from
 import { CORRECTION_LABELS, type ResolvedRunParams } from "@/lib/runs/schemas";
 import type { GiStarFields } from "@/lib/runs/types";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
+import { signIn } from "@/tests/helpers/sign-in";
 import { testServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 
@@ -25,13 +25,6 @@ let params: ResolvedRunParams;
 /** Unemployment periods of the demo run, in order, with their stored Gi*. */
 let stored: { period: string; gi: GiStarFields }[];
 
-async function signIn(page: Page, email: string, password: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail address").fill(email);
-  await page.getByLabel("Password").fill(password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((url) => !url.pathname.startsWith("/sign-in"), { waitUntil: "commit" });
-}
 
 beforeAll(async () => {
   testServices();

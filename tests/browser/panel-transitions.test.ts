@@ -4,6 +4,7 @@ import demo from "@/seeders/demo-accounts.json";
 import { db } from "@/lib/db";
 import { chiSquareIndependence, chiSquareUpperTail } from "@/lib/spatial";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
+import { signIn } from "@/tests/helpers/sign-in";
 import { testServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 
@@ -22,13 +23,6 @@ if (!economist) throw new Error("demo-accounts.json has no economist");
 let session: BrowserSession;
 let demoRunId: number;
 
-async function signIn(page: Page, email: string, password: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail address").fill(email);
-  await page.getByLabel("Password").fill(password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((url) => !url.pathname.startsWith("/sign-in"), { waitUntil: "commit" });
-}
 
 beforeAll(async () => {
   testServices();

@@ -1,12 +1,8 @@
 import { readdirSync } from "node:fs";
 import path from "node:path";
-import { NextRequest } from "next/server";
-// next/server exports only the type; the class is what next start hands proxy.ts.
-import { NextFetchEvent } from "next/dist/server/web/spec-extension/fetch-event";
-import proxy from "@/proxy";
 import { MOVED_WORKSPACE_RESOURCES } from "@/lib/http/moved-paths";
-import { STATIC_SECURITY_HEADERS } from "@/lib/security/headers";
 import { requireTestServices } from "@/tests/helpers/env";
+import { APP, callProxy, expectSecurityHeaders } from "./proxy-harness";
 
 // Every workspace-scoped API answers under /api/w/<slug>/. The audit, intake,
 // invitations and members routes moved there from /api/workspaces/<slug>/; for
@@ -14,19 +10,12 @@ import { requireTestServices } from "@/tests/helpers/env";
 // preserved) to the new ones, carrying every security header. POST
 // /api/workspaces (create a workspace) is not workspace-scoped and stays.
 
-const APP = () => process.env.NEXTAUTH_URL ?? "http://127.0.0.1:3100";
 const ROOT = path.resolve(__dirname, "../../..");
 
 beforeAll(() => requireTestServices());
 
 async function run(pathAndQuery: string, init: { method?: string; headers?: Record<string, string>; body?: string } = {}): Promise<Response> {
-  const request = new NextRequest(`${APP()}${pathAndQuery}`, {
-    method: init.method ?? "GET",
-    headers: { host: new URL(APP()).host, ...init.headers },
-    body: init.body,
-  });
-  const response = await proxy(request, new NextFetchEvent({ request, page: "/", context: undefined }));
-  if (!response) throw new Error(`proxy.ts answered nothing for ${pathAndQuery}`);
+  const { request, response } = await callProxy(pathAndQuery, init);
   const location = response.headers.get("location");
   // Absolute on the request's own origin (NextRequest writes 127.0.0.1 as localhost), which Next's
   // adapter turns into the path-only Location the browser gets.
@@ -34,12 +23,6 @@ async function run(pathAndQuery: string, init: { method?: string; headers?: Reco
   return response;
 }
 
-function expectSecurityHeaders(response: Response, where: string): void {
-  const got = (name: string) => response.headers.get(name);
-  expect({ where, csp: got("content-security-policy") }).toEqual({ where, csp: expect.stringMatching(/script-src 'self' 'nonce-[^']+' 'strict-dynamic'/) });
-  for (const { key, value } of STATIC_SECURITY_HEADERS) expect({ where, [key]: got(key) }).toEqual({ where, [key]: value });
-  expect({ where, cacheControl: got("cache-control") }).toEqual({ where, cacheControl: "no-store" });
-}
 
 /** The path and query a redirect sends the browser to. */
 function target(response: Response): string {

@@ -1,34 +1,20 @@
 import { encode } from "next-auth/jwt";
-import { NextRequest } from "next/server";
-// next/server exports only the type; the class is what next start hands proxy.ts.
-import { NextFetchEvent } from "next/dist/server/web/spec-extension/fetch-event";
-import proxy from "@/proxy";
-import { STATIC_SECURITY_HEADERS } from "@/lib/security/headers";
 import { sessionCookie } from "@/lib/security/cookies";
 import { requireTestServices } from "@/tests/helpers/env";
+import { APP, callProxy, expectSecurityHeaders } from "./proxy-harness";
 
 // proxy.ts called in-process with real NextRequests, as next start calls it:
 // a signed-in page, an API request, the sign-in redirect, the trailing-slash
 // 308 and a cross-site refusal all carry the page policy, the static
 // security headers and Cache-Control: no-store.
 
-const APP = () => process.env.NEXTAUTH_URL ?? "http://127.0.0.1:3100";
 
 beforeAll(() => requireTestServices());
 
 async function run(path: string, init: { method?: string; headers?: Record<string, string> } = {}): Promise<Response> {
-  const request = new NextRequest(`${APP()}${path}`, { method: init.method ?? "GET", headers: { host: new URL(APP()).host, ...init.headers } });
-  const response = await proxy(request, new NextFetchEvent({ request, page: "/", context: undefined }));
-  if (!response) throw new Error(`proxy.ts answered nothing for ${path}`);
-  return response;
+  return (await callProxy(path, init)).response;
 }
 
-function expectSecurityHeaders(response: Response, where: string): void {
-  const got = (name: string) => response.headers.get(name);
-  expect({ where, csp: got("content-security-policy") }).toEqual({ where, csp: expect.stringMatching(/script-src 'self' 'nonce-[^']+' 'strict-dynamic'/) });
-  for (const { key, value } of STATIC_SECURITY_HEADERS) expect({ where, [key]: got(key) }).toEqual({ where, [key]: value });
-  expect({ where, cacheControl: got("cache-control") }).toEqual({ where, cacheControl: "no-store" });
-}
 
 async function signedInCookie(): Promise<string> {
   const token = await encode({ token: { sub: "1", email: "proxy-test@example.org", name: "Proxy Test" }, secret: process.env.NEXTAUTH_SECRET ?? "" });

@@ -7,11 +7,10 @@
  * (scripts/reference/rates-hotspots-reference.R); the source is named beside
  * each check.
  */
-import { spawn } from "node:child_process";
 import { mkdtempSync, readFileSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
-import { REPO_ROOT } from "../../fixtures/spdep/fixtures";
+import { runStatsCli } from "@/tests/helpers/stats-cli";
 import { NC_SIDS_CSV, NC_TOPOLOGY, loadRatesHotspots } from "../../fixtures/nc-sids/fixture";
 
 jest.setTimeout(300_000);
@@ -20,22 +19,6 @@ const fixture = loadRatesHotspots();
 const TIGHT = 1e-10;
 const index = new Map(fixture.ids.map((id, k) => [String(id), k]));
 
-interface Run {
-  code: number | null;
-  stdout: string;
-  stderr: string;
-}
-
-function runCli(args: string[]): Promise<Run> {
-  return new Promise((resolve) => {
-    const child = spawn("npx", ["tsx", "scripts/stats-cli.ts", ...args], { cwd: REPO_ROOT, env: { ...process.env, NODE_OPTIONS: "" } });
-    let stdout = "";
-    let stderr = "";
-    child.stdout.on("data", (chunk: Buffer) => (stdout += chunk.toString()));
-    child.stderr.on("data", (chunk: Buffer) => (stderr += chunk.toString()));
-    child.on("close", (code) => resolve({ code, stdout, stderr }));
-  });
-}
 
 function args(command: string, options: Record<string, string>): string[] {
   const all: Record<string, string> = { topology: NC_TOPOLOGY, object: "nc", id: "FIPSNO", data: NC_SIDS_CSV, "id-column": "FIPSNO", ...options };
@@ -69,7 +52,7 @@ function editedCsv(name: string, edits: Record<string, Record<string, string>>):
 describe("stats rate-moran (Assunção & Reis 1999) vs spdep EBImoran.mc", () => {
   for (const transform of ["W", "B"] as const) {
     test(`--transform ${transform}: exactly the documented fields; I to 1e-10; the permutation distribution within sampling error`, async () => {
-      const run = await runCli(args("rate-moran", { ...counts, transform, permutations: "999", seed: "11" }));
+      const run = await runStatsCli(args("rate-moran", { ...counts, transform, permutations: "999", seed: "11" }));
       expect(run).toMatchObject({ code: 0, stderr: "" });
       const out = JSON.parse(run.stdout);
       expect(Object.keys(out).sort()).toEqual(["I", "n", "permutation"]);
@@ -88,7 +71,7 @@ describe("stats rate-moran (Assunção & Reis 1999) vs spdep EBImoran.mc", () =>
 });
 
 test("stats rates: raw, global EB (spdep EBest) and local EB over each county and its neighbours (spdep EBlocal centred on the county's local rate)", async () => {
-  const run = await runCli(args("rates", counts));
+  const run = await runStatsCli(args("rates", counts));
   expect(run).toMatchObject({ code: 0, stderr: "" });
   const out = JSON.parse(run.stdout);
   expect(Object.keys(out).sort()).toEqual(["n", "regions"]);
@@ -117,7 +100,7 @@ describe("stats hotspots vs spdep localG on SIDR74 (= 1000 · SID74 / BIR74)", (
   ] as const;
   for (const { self, correction, key, method } of cases) {
     test(`--self ${self} --correction ${correction} --permutations 0: G, E, Var, z, p to 1e-10; classes as R's p.adjust(${method})`, async () => {
-      const run = await runCli(args("hotspots", { value: "SIDR74", self, correction, permutations: "0" }));
+      const run = await runStatsCli(args("hotspots", { value: "SIDR74", self, correction, permutations: "0" }));
       expect(run).toMatchObject({ code: 0, stderr: "" });
       const out = JSON.parse(run.stdout);
       expect(Object.keys(out).sort()).toEqual(["n", "regions"]);
@@ -142,7 +125,7 @@ describe("stats hotspots vs spdep localG on SIDR74 (= 1000 · SID74 / BIR74)", (
   }
 
   test("--transform W gives spdep's row-standardised Gi* (self inside the row), with permutation pseudo p deciding the class", async () => {
-    const run = await runCli(args("hotspots", { value: "SIDR74", transform: "W", permutations: "199", seed: "4", correction: "none" }));
+    const run = await runStatsCli(args("hotspots", { value: "SIDR74", transform: "W", permutations: "199", seed: "4", correction: "none" }));
     expect(run.code).toBe(0);
     const out = JSON.parse(run.stdout);
     const f = fixture.localG.star_W;
@@ -163,7 +146,7 @@ describe("stats hotspots vs spdep localG on SIDR74 (= 1000 · SID74 / BIR74)", (
 
 test("rates: a missing events or population value excludes the region and names it with the column on stderr", async () => {
   const data = editedCsv("missing.csv", { "37009": { SID74: "" }, "37005": { BIR74: "n/a" } });
-  const run = await runCli(args("rates", { ...counts, data }));
+  const run = await runStatsCli(args("rates", { ...counts, data }));
   expect(run.code).toBe(0);
   expect(JSON.parse(run.stdout).n).toBe(98);
   expect(run.stderr.trim().split("\n")).toHaveLength(1);
@@ -184,7 +167,7 @@ test("bad input to the new commands: exit 2 and one line on stderr naming the pr
     [args("local", { value: "SIDR74", self: "exclude" }), /--self applies only to hotspots/],
     [args("rate-moran", { ...counts, permutations: "50" }), /--permutations/],
   ];
-  const runs = await Promise.all(cases.map(([argv]) => runCli(argv)));
+  const runs = await Promise.all(cases.map(([argv]) => runStatsCli(argv)));
   runs.forEach((run, k) => {
     expect({ k, code: run.code, stdout: run.stdout }).toEqual({ k, code: 2, stdout: "" });
     const lines = run.stderr.trim().split("\n");

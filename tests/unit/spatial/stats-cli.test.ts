@@ -2,10 +2,10 @@
  * The statistics CLI end to end: spawns `npx tsx scripts/stats-cli.ts` on the
  * invented 4 × 4 grid fixture (tests/fixtures/spatial, made by make-grid.ts).
  */
-import { spawn } from "node:child_process";
 import { mkdtempSync, readFileSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
+import { runStatsCli } from "@/tests/helpers/stats-cli";
 
 jest.setTimeout(300_000);
 
@@ -14,22 +14,6 @@ const fixtures = join(root, "tests", "fixtures", "spatial");
 const topology = join(fixtures, "grid.topojson.json");
 const data = join(fixtures, "grid.csv");
 
-interface Run {
-  code: number | null;
-  stdout: string;
-  stderr: string;
-}
-
-function runCli(args: string[]): Promise<Run> {
-  return new Promise((resolve) => {
-    const child = spawn("npx", ["tsx", "scripts/stats-cli.ts", ...args], { cwd: root, env: { ...process.env, NODE_OPTIONS: "" } });
-    let stdout = "";
-    let stderr = "";
-    child.stdout.on("data", (chunk: Buffer) => (stdout += chunk.toString()));
-    child.stderr.on("data", (chunk: Buffer) => (stderr += chunk.toString()));
-    child.on("close", (code) => resolve({ code, stdout, stderr }));
-  });
-}
 
 const common = (overrides: Record<string, string> = {}): string[] => {
   const options: Record<string, string> = {
@@ -53,17 +37,17 @@ function csv(name: string, transform: (lines: string[]) => string[]): string {
 
 describe("stats CLI", () => {
   test("--help prints the usage on stdout and exits 0; no command at all is a usage error (exit 2)", async () => {
-    const help = await runCli(["--help"]);
+    const help = await runStatsCli(["--help"]);
     expect(help).toMatchObject({ code: 0, stderr: "" });
     expect(help.stdout).toMatch(/^usage: stats <moran\|local\|geary\|getis-ord\|hotspots\|rate-moran\|rates>/);
-    const none = await runCli([]);
+    const none = await runStatsCli([]);
     expect(none.code).toBe(2);
     expect(none.stdout).toBe("");
     expect(none.stderr).toMatch(/^usage: stats/);
   });
 
   test("moran prints exactly the documented fields", async () => {
-    const run = await runCli(["moran", ...common({ weights: "rook", permutations: "199", seed: "5" })]);
+    const run = await runStatsCli(["moran", ...common({ weights: "rook", permutations: "199", seed: "5" })]);
     expect(run.code).toBe(0);
     const out = JSON.parse(run.stdout);
     expect(Object.keys(out).sort()).toEqual(["I", "expectedI", "n", "normality", "permutation", "randomization", "weights"].sort());
@@ -80,9 +64,9 @@ describe("stats CLI", () => {
 
   test("local, geary and getis-ord follow their documented shapes", async () => {
     const [local, geary, getis] = await Promise.all([
-      runCli(["local", ...common({ permutations: "99", alpha: "0.1", correction: "bonferroni" })]),
-      runCli(["geary", ...common({ permutations: "99" })]),
-      runCli(["getis-ord", ...common({ permutations: "99" })]),
+      runStatsCli(["local", ...common({ permutations: "99", alpha: "0.1", correction: "bonferroni" })]),
+      runStatsCli(["geary", ...common({ permutations: "99" })]),
+      runStatsCli(["getis-ord", ...common({ permutations: "99" })]),
     ]);
     expect(local.code).toBe(0);
     const lisa = JSON.parse(local.stdout);
@@ -102,7 +86,7 @@ describe("stats CLI", () => {
 
   test("non-numeric values are excluded and counted on stderr, never read as zero", async () => {
     const path = csv("non-numeric.csv", (lines) => lines.map((line) => (line.startsWith("B2,") ? "B2,n/a" : line.startsWith("C3,") ? "C3," : line)));
-    const run = await runCli(["moran", ...common({ data: path, permutations: "0" })]);
+    const run = await runStatsCli(["moran", ...common({ data: path, permutations: "0" })]);
     expect(run.code).toBe(0);
     expect(JSON.parse(run.stdout).n).toBe(15);
     expect(JSON.parse(run.stdout).permutation).toBeNull();
@@ -125,7 +109,7 @@ describe("stats CLI", () => {
       [["moran", "--object", "districts"], /Missing required option --topology/],
       [["mean", ...common()], /Unknown command "mean"/],
     ];
-    const runs = await Promise.all(cases.map(([args]) => runCli(args)));
+    const runs = await Promise.all(cases.map(([args]) => runStatsCli(args)));
     runs.forEach((run, k) => {
       expect(run.code).not.toBe(0);
       expect(run.stdout).toBe("");
