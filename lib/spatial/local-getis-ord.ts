@@ -6,7 +6,7 @@ import type { PermutationOptions, SpatialWeights } from "./types";
 import { checkedValues, requireRegions } from "./internal";
 import { normalTailProbabilities } from "./distributions";
 import { checkPermutationCount } from "./random";
-import { conditionalLagPermutations } from "./local-permutation";
+import { conditionalLagPermutations, sequentialExtremesOf } from "./local-permutation";
 import { adjustPValues, type Correction } from "./multiple-testing";
 import type { PValueSource } from "./local-moran";
 
@@ -145,10 +145,7 @@ export function localGetisOrd(values: ArrayLike<number>, weights: SpatialWeights
     for (let p = weights.offsets[i]; p < weights.offsets[i + 1]; p++) sum += scaledWeights[p] * x[weights.neighbours[p]];
     lag[i] = sum;
   }
-  const sequentialExtremes = options.sequentialExtremes ?? null;
-  if (sequentialExtremes !== null && (!Number.isInteger(sequentialExtremes) || sequentialExtremes < 1 || sequentialExtremes > permutations)) {
-    throw new Error(`Sequential stopping needs a whole number of extremes from 1 to the permutations (${permutations}); got ${String(sequentialExtremes)}.`);
-  }
+  const sequentialExtremes = sequentialExtremesOf(options.sequentialExtremes, permutations);
   const counts =
     permutations > 0
       ? conditionalLagPermutations(x, engineWeights, lag, permutations, options.random as NonNullable<typeof options.random>, sequentialExtremes)

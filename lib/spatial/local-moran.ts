@@ -9,7 +9,7 @@ import { adjustPValues, type Correction } from "./multiple-testing";
 import { centred, checkedValues, finiteOrNull, requireRegions, spatialLagInto } from "./internal";
 import { normalTailProbabilities } from "./distributions";
 import { checkPermutationCount } from "./random";
-import { conditionalLagPermutations } from "./local-permutation";
+import { conditionalLagPermutations, sequentialExtremesOf } from "./local-permutation";
 
 /**
  * Moran scatter-plot quadrant of a region from the sign of z_i (first letter)
@@ -179,10 +179,7 @@ export function localMoran(values: ArrayLike<number>, weights: SpatialWeights, o
   for (let i = 0; i < n; i++) fourth += z[i] ** 4;
   const b2 = (n * fourth) / (sumSquares * sumSquares);
   const lag = spatialLagInto(weights, z, new Float64Array(n));
-  const sequentialExtremes = options.sequentialExtremes ?? null;
-  if (sequentialExtremes !== null && (!Number.isInteger(sequentialExtremes) || sequentialExtremes < 1 || sequentialExtremes > permutations)) {
-    throw new Error(`Sequential stopping needs a whole number of extremes from 1 to the permutations (${permutations}); got ${String(sequentialExtremes)}.`);
-  }
+  const sequentialExtremes = sequentialExtremesOf(options.sequentialExtremes, permutations);
   const counts =
     permutations > 0
       ? conditionalLagPermutations(z, weights, lag, permutations, options.random as NonNullable<typeof options.random>, sequentialExtremes)

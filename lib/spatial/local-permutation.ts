@@ -46,6 +46,18 @@ export interface ConditionalLagCounts {
 }
 
 /**
+ * The sequential-stopping option of a local permutation test, checked: null
+ * (fixed count) or a whole number of extremes from 1 to the permutations.
+ */
+export function sequentialExtremesOf(requested: number | null | undefined, permutations: number): number | null {
+  const sequentialExtremes = requested ?? null;
+  if (sequentialExtremes !== null && (!Number.isInteger(sequentialExtremes) || sequentialExtremes < 1 || sequentialExtremes > permutations)) {
+    throw new Error(`Sequential stopping needs a whole number of extremes from 1 to the permutations (${permutations}); got ${String(sequentialExtremes)}.`);
+  }
+  return sequentialExtremes;
+}
+
+/**
  * Runs R conditional permutations and counts, for every region, how often the
  * permuted spatial lag of `values` is at least / at most the observed one.
  * Weights must not contain self-links (a fixed self term is added by the caller).
