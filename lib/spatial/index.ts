@@ -77,7 +77,15 @@ export { prepareAnalysis } from "./prepare";
 export type { PreparedAnalysis, PreparationReport, PrepareOptions, RegionValues, DropReason } from "./prepare";
 
 // Reference distributions.
-export { normalUpperTail, normalTailProbabilities, chiSquareUpperTail, logGamma, regularisedUpperGamma } from "./distributions";
+export {
+  normalUpperTail,
+  normalTailProbabilities,
+  chiSquareUpperTail,
+  logGamma,
+  regularisedUpperGamma,
+  regularisedIncompleteBeta,
+  studentTTwoSided,
+} from "./distributions";
 
 // Global statistics.
 export { globalMoran, moranMoments } from "./moran";
@@ -129,3 +137,24 @@ export { transitionTable, spatialMarkov, spatialMarkovPanel, markovHomogeneity, 
 export { chiSquareIndependence } from "./contingency";
 export type { IndependenceTest } from "./contingency";
 export type { TransitionTable, SpatialMarkovResult, MarkovHomogeneity, SpatialMarkovPair, SpatialMarkovPanelResult } from "./spatial-markov";
+
+// Regression residuals: OLS, Moran's I of the residuals, LM tests.
+export {
+  olsFit,
+  regressionDiagnostics,
+  suggestModel,
+  SingularDesignError,
+  TooFewRegionsError,
+  NonFiniteValueError,
+  RANK_TOLERANCE,
+} from "./regression";
+export type {
+  RegressionCoefficient,
+  OlsFit,
+  Covariate,
+  ResidualMoranResult,
+  LagrangeTest,
+  LagrangeMultiplierTests,
+  ModelSuggestion,
+  RegressionDiagnostics,
+} from "./regression";
