@@ -12,6 +12,8 @@
  *   npm run -s stats -- rate-moran --topology ... --id-column COL --events COL --population COL
  *     [--weights ...] [--transform W|B] [--permutations R] [--seed S]
  *   npm run -s stats -- rates --topology ... --id-column COL --events COL --population COL [--weights ...]
+ *   npm run -s stats -- residuals --topology ... --id-column COL --value Y --covariates X1,X2
+ *     [--weights ...] [--transform W|B] [--alpha A]
  *
  * Extra options (defaults in brackets): --islands keep|exclude|attach [keep],
  * --coordinates geographic|planar [detected from the bounding box],
@@ -24,6 +26,12 @@
  * a region whose events or population is empty or not a number is excluded
  * and named (id and column) in a "note:" line; negative events, a
  * population ≤ 0 or events above the population are bad input (exit 2).
+ *
+ * residuals regresses --value on an intercept and the --covariates (OLS) and
+ * tests the residuals: Moran's I with its exact moments and the five Lagrange
+ * multiplier tests, with the suggested model at --alpha. A region with an empty
+ * or non-numeric value in any of those columns is excluded and named in a
+ * "note:" line; collinear covariates or too few regions are bad input (exit 2).
  *
  * Prints one JSON object on stdout. Bad input: exit code 2 and one line on
  * stderr naming the problem. Rows whose value is empty or not a number are
@@ -46,6 +54,7 @@ import {
   localGetisOrd,
   localMoran,
   prepareAnalysis,
+  regressionDiagnostics,
   regionCentroids,
   summariseWeights,
   topologyRegionIds,
@@ -57,7 +66,7 @@ import {
 
 class InputError extends Error {}
 
-const commands = ["moran", "local", "geary", "getis-ord", "hotspots", "rate-moran", "rates"] as const;
+const commands = ["moran", "local", "geary", "getis-ord", "hotspots", "rate-moran", "rates", "residuals"] as const;
 /** Commands that analyse events over a population (--events, --population) instead of --value. */
 const rateCommands: readonly Command[] = ["rate-moran", "rates"];
 type Command = (typeof commands)[number];
@@ -74,6 +83,7 @@ const optionsSchema = z
     value: z.string().min(1).optional(),
     events: z.string().min(1).optional(),
     population: z.string().min(1).optional(),
+    covariates: z.string().min(1).optional(),
     weights: z.string().regex(weightsPattern, "use queen, rook, knn:K, band:KM or idw:KM:POWER").default("queen"),
     transform: z.enum(["W", "B"]).optional(),
     permutations: z.coerce
@@ -94,16 +104,17 @@ const optionsSchema = z
 type Options = z.infer<typeof optionsSchema>;
 
 const usage =
-  "usage: stats <moran|local|geary|getis-ord|hotspots|rate-moran|rates> --topology FILE --object NAME --id PROP --data FILE.csv --id-column COL " +
+  "usage: stats <moran|local|geary|getis-ord|hotspots|rate-moran|rates|residuals> --topology FILE --object NAME --id PROP --data FILE.csv --id-column COL " +
   "(--value COL | --events COL --population COL) " +
   "[--weights queen|rook|knn:K|band:KM|idw:KM:POWER] [--transform W|B] [--permutations R] [--seed S] [--alpha A] [--correction none|bonferroni|fdr] " +
-  "[--self include|exclude]. rate-moran and rates take --events and --population; the others take --value; hotspots takes --self.";
+  "[--self include|exclude] [--covariates X1,X2]. rate-moran and rates take --events and --population; the others take --value; " +
+  "hotspots takes --self; residuals takes --value and --covariates.";
 
 function parseArguments(argv: readonly string[]): { command: Command; options: Options } {
   const [command, ...rest] = argv;
   if (command === undefined) throw new InputError(usage);
   if (!(commands as readonly string[]).includes(command)) {
-    throw new InputError(`Unknown command "${command}"; use moran, local, geary, getis-ord, hotspots, rate-moran or rates.`);
+    throw new InputError(`Unknown command "${command}"; use moran, local, geary, getis-ord, hotspots, rate-moran, rates or residuals.`);
   }
   const raw: Record<string, string> = {};
   for (let k = 0; k < rest.length; k++) {
@@ -142,7 +153,24 @@ function parseArguments(argv: readonly string[]): { command: Command; options: O
     if (options.value === undefined) throw new InputError("Missing required option --value.");
   }
   if (raw.self !== undefined && command !== "hotspots") throw new InputError(`Option --self applies only to hotspots.`);
+  if (command === "residuals") {
+    if (options.covariates === undefined) throw new InputError("Missing required option --covariates (comma-separated column names).");
+    covariateColumns(options.covariates, options.value as string);
+  } else if (options.covariates !== undefined) {
+    throw new InputError(`Option --covariates applies only to residuals.`);
+  }
   return { command: command as Command, options };
+}
+
+/** The --covariates list: comma-separated, unique, none named "intercept" or equal to --value. */
+function covariateColumns(list: string, valueColumn: string): string[] {
+  const columns = list.split(",").map((c) => c.trim());
+  if (columns.some((c) => c === "")) throw new InputError(`Option --covariates: "${list}" has an empty name; give column names separated by commas.`);
+  const repeated = columns.find((c, i) => columns.indexOf(c) !== i);
+  if (repeated !== undefined) throw new InputError(`Option --covariates names the column "${repeated}" twice.`);
+  if (columns.includes(valueColumn)) throw new InputError(`Option --covariates includes "${valueColumn}", the --value column itself.`);
+  if (columns.includes("intercept")) throw new InputError(`Option --covariates cannot name a column "intercept"; the intercept is always included.`);
+  return columns;
 }
 
 function readText(path: string, what: string): string {
@@ -256,17 +284,48 @@ interface AnalysisValues {
   readonly excluded: string | null;
   /** Events and populations of the regions with both (rate commands only). */
   readonly rates: { readonly events: Map<string, number>; readonly population: Map<string, number> } | null;
+  /** Covariate values of the regions with every value (residuals only), in --covariates order. */
+  readonly covariates: { readonly name: string; readonly values: Map<string, number> }[] | null;
+}
+
+/** --value and --covariates for residuals: a region needs a number in every one of those columns. */
+function regressionValues(options: Options): AnalysisValues {
+  const valueColumn = options.value as string;
+  const covariateNames = covariateColumns(options.covariates as string, valueColumn);
+  const [response, ...covariateData] = readColumns(options.data, options["id-column"], [valueColumn, ...covariateNames]);
+  const values = new Map<string, number | null>();
+  const covariates = covariateNames.map((name) => ({ name, values: new Map<string, number>() }));
+  const missing: string[] = [];
+  for (const [id, v] of response.values) {
+    const absent = [valueColumn, ...covariateNames].filter((_, c) => (c === 0 ? v : covariateData[c - 1].values.get(id)) === null);
+    if (absent.length > 0) {
+      missing.push(`"${id}" (column ${absent.map((c) => `"${c}"`).join(" and ")})`);
+      values.set(id, null);
+      continue;
+    }
+    values.set(id, v);
+    covariateData.forEach((data, c) => covariates[c].values.set(id, data.values.get(id) as number));
+  }
+  const named = missing.slice(0, 5).join(", ") + (missing.length > 5 ? ` and ${missing.length - 5} more` : "");
+  const excluded = missing.length > 0 ? `${missing.length} region(s) with an empty or non-numeric value: ${named}` : null;
+  return { values, excluded, rates: null, covariates };
 }
 
 /** --value for most commands; events over population for the rate commands (checked here, at the edge). */
 function analysisValues(command: Command, options: Options): AnalysisValues {
+  if (command === "residuals") return regressionValues(options);
   if (!rateCommands.includes(command)) {
     const valueColumn = options.value as string;
     const data = readData(options.data, options["id-column"], valueColumn);
     const parts: string[] = [];
     if (data.nonNumeric.length > 0) parts.push(`${data.nonNumeric.length} non-numeric value(s) (${quoteFew(data.nonNumeric)})`);
     if (data.empty.length > 0) parts.push(`${data.empty.length} empty value(s) (${quoteFew(data.empty)})`);
-    return { values: data.values, excluded: parts.length > 0 ? `${parts.join(" and ")} in column "${valueColumn}"` : null, rates: null };
+    return {
+      values: data.values,
+      excluded: parts.length > 0 ? `${parts.join(" and ")} in column "${valueColumn}"` : null,
+      rates: null,
+      covariates: null,
+    };
   }
   const eventsColumn = options.events as string;
   const populationColumn = options.population as string;
@@ -295,7 +354,7 @@ function analysisValues(command: Command, options: Options): AnalysisValues {
   }
   const named = missing.slice(0, 5).join(", ") + (missing.length > 5 ? ` and ${missing.length - 5} more` : "");
   const excluded = missing.length > 0 ? `${missing.length} region(s) with an empty or non-numeric value: ${named}` : null;
-  return { values, excluded, rates: { events, population } };
+  return { values, excluded, rates: { events, population }, covariates: null };
 }
 
 /** Events and populations aligned with the prepared regions. */
@@ -422,6 +481,48 @@ function run(argv: readonly string[]): { output: unknown; notes: string[] } {
             smoothedGlobal: global.smoothed[i],
             smoothedLocal: local.smoothed[i],
           })),
+        },
+      };
+    }
+    case "residuals": {
+      const covariates = (data.covariates as NonNullable<AnalysisValues["covariates"]>).map(({ name, values }) => ({
+        name,
+        values: prepared.ids.map((id) => values.get(id) as number),
+      }));
+      const r = regressionDiagnostics(prepared.values, covariates, prepared.weights, { alpha: options.alpha });
+      const byName = (pick: (c: (typeof r.fit.coefficients)[number]) => number) =>
+        Object.fromEntries(r.fit.coefficients.map((c) => [c.name, pick(c)]));
+      const test = (t: { statistic: number; df: number; p: number }) => ({ statistic: t.statistic, df: t.df, p: t.p });
+      return {
+        notes,
+        output: {
+          n,
+          k: r.fit.k,
+          weights,
+          coefficients: byName((c) => c.estimate),
+          standardErrors: byName((c) => c.standardError),
+          tValues: byName((c) => c.t),
+          pValues: byName((c) => c.p),
+          rSquared: r.fit.rSquared,
+          adjustedRSquared: r.fit.adjustedRSquared,
+          sigma2: r.fit.sigma2,
+          moran: {
+            I: r.moran.I,
+            expectedI: r.moran.expectedI,
+            variance: r.moran.variance,
+            z: r.moran.z,
+            pTwoSided: r.moran.pTwoSided,
+            pGreater: r.moran.pGreater,
+          },
+          lagrange: {
+            error: test(r.lagrange.error),
+            lag: test(r.lagrange.lag),
+            robustError: test(r.lagrange.robustError),
+            robustLag: test(r.lagrange.robustLag),
+            combined: test(r.lagrange.combined),
+          },
+          alpha: options.alpha,
+          suggestion: r.suggestion,
         },
       };
     }

@@ -39,7 +39,7 @@ describe("stats CLI", () => {
   test("--help prints the usage on stdout and exits 0; no command at all is a usage error (exit 2)", async () => {
     const help = await runStatsCli(["--help"]);
     expect(help).toMatchObject({ code: 0, stderr: "" });
-    expect(help.stdout).toMatch(/^usage: stats <moran\|local\|geary\|getis-ord\|hotspots\|rate-moran\|rates>/);
+    expect(help.stdout).toMatch(/^usage: stats <moran\|local\|geary\|getis-ord\|hotspots\|rate-moran\|rates\|residuals>/);
     const none = await runStatsCli([]);
     expect(none.code).toBe(2);
     expect(none.stdout).toBe("");
