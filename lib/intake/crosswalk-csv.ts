@@ -78,9 +78,10 @@ function listed(codes: readonly string[], limit = 5): string {
   return codes.length > limit ? `${shown} and ${codes.length - limit} more` : shown;
 }
 
+/** "line 4" or "lines 4, 5, …": file lines of data rows. */
 function lines(rows: readonly number[], limit = 6): string {
   const shown = rows.slice(0, limit).map((r) => String(r + 1)).join(", ");
-  return rows.length > limit ? `${shown}, …` : shown;
+  return `${rows.length === 1 ? "line" : "lines"} ${rows.length > limit ? `${shown}, …` : shown}`;
 }
 
 /**
@@ -167,7 +168,7 @@ export function validateCrosswalkCsv(text: string, options: CrosswalkCsvOptions 
       if (Math.abs(sum - 1) > tolerance) {
         const rowsOf = group.map((l) => l.row);
         if (rowsOf.some((r) => faulty.has(r))) continue;
-        errors.add(rowsOf[0], "share", `source '${from}' (lines ${lines(rowsOf)}): shares sum to ${Number(sum.toPrecision(12))}, not 1 (tolerance ${tolerance})`);
+        errors.add(rowsOf[0], "share", `source '${from}' (${lines(rowsOf)}): shares sum to ${Number(sum.toPrecision(12))}, not 1 (tolerance ${tolerance})`);
       }
     }
     const seenFrom = new Set(links.map((l) => l.from));
