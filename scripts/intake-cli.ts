@@ -11,11 +11,13 @@
  *       --to FILE --to-object NAME --to-id PROP [--coordinates planar|geographic]
  *       [--sliver-tolerance X] [--data FILE.csv --id-column COL --extensive A,B
  *       --intensive C,D [--denominator COL]]
+ *   npm run -s intake -- crosswalk --shares FILE.csv [--from … --to … as above, for
+ *       their code lists] [--data … --extensive A --intensive C --denominator COL]
  *
  * Prints one JSON object on stdout. Exit 0 when the panel is usable, 1 when it
  * is not (the report says why), 2 for bad arguments or unreadable files (one
- * line on stderr). `crosswalk` exits 0 with its result or 2 (bad arguments,
- * boundaries or data).
+ * line on stderr). `crosswalk` exits 0 with its result, 1 when a --shares CSV
+ * fails its checks (the report says why), 2 for bad arguments, boundaries or data.
  */
 import { createReadStream } from "node:fs";
 import { access, readFile } from "node:fs/promises";
@@ -38,12 +40,13 @@ import {
   type ColumnMapping,
   type PanelReport,
   parseNumber,
+  validateCrosswalkCsv,
 } from "../lib/intake";
 
 class UsageError extends Error {}
 
 const USAGE =
-  "usage: intake check --boundaries FILE --object NAME --id PROP --panel FILE.csv [--layout long|wide|wide-period] [--decimal .|,] | intake inspect --boundaries FILE | intake preview --panel FILE.csv | intake crosswalk --from FILE --from-object NAME --from-id PROP --to FILE --to-object NAME --to-id PROP [--coordinates planar|geographic] [--sliver-tolerance X] [--data FILE.csv --id-column COL --extensive A,B --intensive C,D [--denominator COL]]";
+  "usage: intake check --boundaries FILE --object NAME --id PROP --panel FILE.csv [--layout long|wide|wide-period] [--decimal .|,] | intake inspect --boundaries FILE | intake preview --panel FILE.csv | intake crosswalk --from FILE --from-object NAME --from-id PROP --to FILE --to-object NAME --to-id PROP [--coordinates planar|geographic] [--sliver-tolerance X] [--data FILE.csv --id-column COL --extensive A,B --intensive C,D [--denominator COL]] | intake crosswalk --shares FILE.csv [--from … --to …] [--data …]";
 
 const OPTIONS = {
   boundaries: { type: "string" },
@@ -73,6 +76,7 @@ const OPTIONS = {
   extensive: { type: "string" },
   intensive: { type: "string" },
   denominator: { type: "string" },
+  shares: { type: "string" },
 } as const;
 
 async function readable(path: string, flag: string): Promise<void> {
@@ -226,8 +230,13 @@ function readRegionTable(text: string, file: string, idColumn: string, columns: 
 }
 
 async function crosswalk(values: Record<string, string | undefined>): Promise<number> {
-  for (const flag of ["from", "from-object", "from-id", "to", "to-object", "to-id"]) {
-    if (!values[flag]) throw new UsageError(`--${flag} is required; ${USAGE}`);
+  const shares = values.shares;
+  // With a crosswalk CSV the boundary files are optional (they supply the code lists to check against); without one they are the crosswalk.
+  for (const side of ["from", "to"] as const) {
+    const given = [side, `${side}-object`, `${side}-id`].filter((flag) => values[flag]);
+    if (shares === undefined || given.length > 0) {
+      for (const flag of [side, `${side}-object`, `${side}-id`]) if (!values[flag]) throw new UsageError(`--${flag} is required; ${USAGE}`);
+    }
   }
   const coordinates = values.coordinates;
   if (coordinates !== undefined && coordinates !== "planar" && coordinates !== "geographic") {
@@ -237,6 +246,9 @@ async function crosswalk(values: Record<string, string | undefined>): Promise<nu
   const sliverTolerance = sliverText === undefined ? undefined : Number(sliverText);
   if (sliverTolerance !== undefined && !(sliverText !== "" && Number.isFinite(sliverTolerance) && sliverTolerance >= 0 && sliverTolerance < 1)) {
     throw new UsageError(`--sliver-tolerance must be a number in [0, 1), not '${sliverText}'`);
+  }
+  if (shares !== undefined && (coordinates !== undefined || sliverText !== undefined)) {
+    throw new UsageError("--coordinates and --sliver-tolerance apply to an area crosswalk, not to --shares");
   }
   const extensive = columnList(values.extensive);
   const intensive = columnList(values.intensive);
@@ -249,63 +261,86 @@ async function crosswalk(values: Record<string, string | undefined>): Promise<nu
     const both = extensive.find((c) => intensive.includes(c));
     if (both !== undefined) throw new UsageError(`column '${both}' is given as both --extensive and --intensive`);
     if (denominator !== undefined && intensive.length === 0) throw new UsageError("--denominator weights --intensive columns; none given");
+    if (shares !== undefined && intensive.length > 0 && denominator === undefined) {
+      throw new UsageError("--intensive through --shares needs --denominator COL: a crosswalk CSV has shares, not overlap areas");
+    }
   }
-  const fromFile = values.from!;
-  const toFile = values.to!;
-  await readable(fromFile, "--from");
-  await readable(toFile, "--to");
-  if (values.data) await readable(values.data, "--data");
+  for (const flag of ["from", "to", "shares", "data"] as const) {
+    const file = values[flag];
+    if (file !== undefined) await readable(file, `--${flag}`);
+  }
 
-  const layer = async (flag: "from" | "to", file: string) => {
+  const layer = async (side: "from" | "to") => {
+    const file = values[side];
+    if (file === undefined) return null;
     try {
-      return { boundaries: loadBoundaries(await readFile(file, "utf8")), objectName: values[`${flag}-object`]!, idProperty: values[`${flag}-id`]! };
+      const l = { boundaries: loadBoundaries(await readFile(file, "utf8")), objectName: values[`${side}-object`]!, idProperty: values[`${side}-id`]! };
+      return { ...l, ids: boundaryIds(l.boundaries, l.objectName, l.idProperty) };
     } catch (error) {
-      if (error instanceof BoundaryError) throw new UsageError(`--${flag} ${file}: ${error.message}`);
+      if (error instanceof BoundaryError) throw new UsageError(`--${side} ${file}: ${error.message}`);
       throw error;
     }
   };
-  const fromLayer = await layer("from", fromFile);
-  const toLayer = await layer("to", toFile);
-  let result: ReturnType<typeof areaCrosswalk>;
-  try {
-    result = areaCrosswalk(fromLayer, toLayer, { coordinates: coordinates as CrosswalkCoordinates | undefined, sliverTolerance });
-  } catch (error) {
-    if (error instanceof BoundaryError) {
-      // Which file: re-read the ids of each to name the one at fault.
-      for (const [flag, l] of [["from", fromLayer], ["to", toLayer]] as const) {
-        try {
-          boundaryIds(l.boundaries, l.objectName, l.idProperty);
-        } catch (inner) {
-          if (inner instanceof BoundaryError) throw new UsageError(`--${flag} ${flag === "from" ? fromFile : toFile}: ${inner.message}`);
-        }
-      }
-      throw new UsageError(error.message);
+  const fromLayer = await layer("from");
+  const toLayer = await layer("to");
+
+  let output: Record<string, unknown>;
+  let pairs: { from: string; to: string; share: number; area?: number }[];
+  let sourceIds: Set<string> | null;
+  let targetIds: string[];
+  if (shares !== undefined) {
+    const report = validateCrosswalkCsv(await readFile(shares, "utf8"), { fromIds: fromLayer?.ids, toIds: toLayer?.ids });
+    if (!report.ok) {
+      // Like `check`: the report says what to fix, exit 1.
+      process.stdout.write(`${JSON.stringify({ ...report, links: undefined, shares }, null, 2)}\n`);
+      return 1;
     }
-    if (error instanceof CrosswalkGeometryError) throw new UsageError(error.message);
-    throw error;
+    pairs = report.links.map(({ from, to, share }) => ({ from, to, share }));
+    const linkedFrom = new Set(pairs.map((p) => p.from));
+    const linkedTo = new Set(pairs.map((p) => p.to));
+    sourceIds = fromLayer ? new Set(fromLayer.ids) : null;
+    targetIds = toLayer ? toLayer.ids : [...linkedTo];
+    output = {
+      crosswalk: "csv",
+      shares,
+      pairs,
+      unmatchedFrom: fromLayer ? fromLayer.ids.filter((id) => !linkedFrom.has(id)) : [],
+      uncoveredTo: toLayer ? toLayer.ids.filter((id) => !linkedTo.has(id)) : [],
+      warnings: report.warnings.map((w) => w.message),
+    };
+  } else {
+    let result: ReturnType<typeof areaCrosswalk>;
+    try {
+      result = areaCrosswalk(fromLayer!, toLayer!, { coordinates: coordinates as CrosswalkCoordinates | undefined, sliverTolerance });
+    } catch (error) {
+      if (error instanceof CrosswalkGeometryError) throw new UsageError(error.message);
+      throw error;
+    }
+    pairs = result.pairs;
+    sourceIds = new Set(result.sources.map((r) => r.id));
+    targetIds = result.targets.map((t) => t.id);
+    output = { crosswalk: "area", ...result };
   }
 
-  const output: Record<string, unknown> = { ...result };
   if (values.data) {
     const columns = [...extensive, ...intensive, ...(denominator !== undefined && !extensive.includes(denominator) && !intensive.includes(denominator) ? [denominator] : [])];
     const table = readRegionTable(await readFile(values.data, "utf8"), values.data, values["id-column"]!, columns);
-    const targets = result.targets.map((t) => t.id);
     const harmonised: Record<string, Record<string, number | null>> = {};
     const missing: Record<string, MissingTarget[]> = {};
     for (const column of [...extensive, ...intensive]) {
       const rule: HarmoniseRule = extensive.includes(column)
         ? { kind: "extensive" }
         : { kind: "intensive", weighting: denominator === undefined ? { by: "area" } : { by: "denominator", values: table.get(denominator)! } };
-      const h = harmonise(result.pairs, table.get(column)!, rule, { targets });
+      const h = harmonise(pairs, table.get(column)!, rule, { targets: targetIds });
       harmonised[column] = Object.fromEntries(h.values);
       // Uncovered targets are listed once, in uncoveredTo.
       missing[column] = h.missing.filter((m) => m.reason !== "uncovered");
     }
-    const sourceIds = new Set(result.sources.map((s) => s.id));
+    const known = sourceIds ?? new Set(pairs.map((p) => p.from));
     output.values = harmonised;
     output.missing = missing;
     output.intensiveWeighting = intensive.length === 0 ? null : denominator === undefined ? "area" : { denominator };
-    output.dataRegionsNotInSource = [...table.get(columns[0])!.keys()].filter((id) => !sourceIds.has(id));
+    output.dataRegionsNotInSource = [...table.get(columns[0])!.keys()].filter((id) => !known.has(id));
   }
   process.stdout.write(`${JSON.stringify(output, null, 2)}\n`);
   return 0;

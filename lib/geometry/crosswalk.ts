@@ -27,8 +27,8 @@
  *   source's remaining pairs in proportion to their shares, so a source's
  *   coverage is the same with or without slivers.
  * - `nestingTolerance` (default 1e-9): a source whose coverage is within it of 1
- *   is fully covered, its shares are scaled to sum to 1, and a share within it of
- *   1 is exactly 1 (exact nesting, e.g. a merge, gives shares of exactly 1).
+ *   is fully covered and its shares are scaled to sum to 1; a fully covered source
+ *   with a single target has share exactly 1 (exact nesting, e.g. a merge).
  *
  * Regions whose bounding boxes do not meet are never clipped: targets are put in
  * a uniform grid of cells (about one target per cell) and each source is
@@ -363,8 +363,8 @@ export function areaCrosswalk(from: BoundaryLayer, to: BoundaryLayer, options: A
     const scale = keptSum > 0 ? (full ? 1 : coverage) / keptSum : 0;
     let finalCoverage = 0;
     for (const o of kept) {
-      let share = o.share * scale;
-      if (Math.abs(share - 1) <= nesting) share = 1;
+      // Nested wholly in one target (a merge, or a split's unchanged part): exactly 1.
+      const share = full && kept.length === 1 ? 1 : o.share * scale;
       finalCoverage += share;
       const area = share === 1 ? s.area : share * s.area;
       targetCovered[o.t] += area;

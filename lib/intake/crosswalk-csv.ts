@@ -9,8 +9,9 @@
  * - UTF-8 (a BOM is skipped), comma-separated, a header naming the columns
  *   `from`, `to` and `share` (any order, any case; other columns are ignored).
  * - A share is a number in (0, 1] with '.' as the decimal mark (thousands
- *   separators are refused for a share). Empty, non-numeric, negative, zero or
- *   greater-than-1 shares are errors.
+ *   separators are refused for a share); up to 1 + `tolerance` is accepted, as
+ *   computed shares of a region lying wholly in another can round to just
+ *   above 1. Empty, non-numeric, negative, zero or larger shares are errors.
  * - A (from, to) pair may appear once; a repeat is an error naming both lines.
  * - Given the two versions' code lists, a code in neither list is an error; a
  *   version's code with no row is a warning (its value would reach nothing, or
@@ -137,8 +138,8 @@ export function validateCrosswalkCsv(text: string, options: CrosswalkCsvOptions 
       if (number.kind !== "value" || number.groupedWithOtherMark || /[ ']/.test(shareText)) {
         errors.add(row, "share", `line ${line}: share '${shareText}' of '${from}' → '${to}' is not a number`);
         bad = true;
-      } else if (number.value <= 0 || number.value > 1) {
-        errors.add(row, "share", `line ${line}: share ${shareText} of '${from}' → '${to}' is ${number.value < 0 ? "negative" : number.value === 0 ? "zero (leave the row out)" : "greater than 1"}`);
+      } else if (number.value <= 0 || number.value > 1 + tolerance) {
+        errors.add(row, "share", `line ${line}: share ${shareText} of '${from}' → '${to}' is ${number.value < 0 ? "negative" : number.value === 0 ? "zero (leave the row out)" : `greater than 1 (beyond the tolerance ${tolerance})`}`);
         bad = true;
       } else {
         share = number.value;

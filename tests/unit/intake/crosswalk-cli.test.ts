@@ -6,6 +6,8 @@
  * doubles exactly in the plane).
  */
 import { spawnSync } from "node:child_process";
+import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import os from "node:os";
 import path from "node:path";
 import { CROSSWALK_FILES, crosswalkReference } from "../../fixtures/crosswalk/fixture";
 
@@ -68,5 +70,52 @@ describe("intake crosswalk", () => {
       expect(stderr.trimEnd().split("\n")).toHaveLength(1);
       expect(stderr.trimEnd()).toMatch(message);
     }
+  });
+
+  describe("--shares: a crosswalk CSV instead of the geometry", () => {
+    const dir = mkdtempSync(path.join(os.tmpdir(), "tessera-xwalk-"));
+    afterAll(() => rmSync(dir, { recursive: true, force: true }));
+    const ref = crosswalkReference("planar");
+
+    test("sf's overlay shares as a CSV reproduce st_interpolate_aw's counts, and a rate weighted by its denominator equals the ratio of the interpolated counts", () => {
+      const file = path.join(dir, "sf-shares.csv");
+      const lines = ref.pairs.from.map((from, i) => `${from},${ref.pairs.to[i]},${ref.pairs.share[i].toPrecision(17)}`);
+      writeFileSync(file, `from,to,share\n${lines.join("\n")}\n`);
+      const { status, stdout, stderr } = run([
+        "crosswalk", "--shares", file, ...boundaries,
+        "--data", CROSSWALK_FILES.data, "--id-column", "FIPSNO", "--extensive", "BIR74,SID74", "--intensive", "SIDR74", "--denominator", "BIR74",
+      ]);
+      expect(stderr).toBe("");
+      expect(status).toBe(0);
+      const out = JSON.parse(stdout);
+      expect({ crosswalk: out.crosswalk, unmatchedFrom: out.unmatchedFrom, intensiveWeighting: out.intensiveWeighting }).toEqual({ crosswalk: "csv", unmatchedFrom: [], intensiveWeighting: { denominator: "BIR74" } });
+      const sf = ref.interpolated.st_interpolate_aw;
+      ref.interpolated.cells.forEach((cell, i) => {
+        expect(Math.abs(out.values.BIR74[cell] - sf.BIR74[i])).toBeLessThanOrEqual(1e-9 * Math.max(1, sf.BIR74[i]));
+        expect(Math.abs(out.values.SID74[cell] - sf.SID74[i])).toBeLessThanOrEqual(1e-9 * Math.max(1, sf.SID74[i]));
+        // SIDR74 = 1000 · SID74 / BIR74 per county, so weighting it by births gives 1000 · (interpolated deaths / interpolated births).
+        const ratio = (1000 * sf.SID74[i]) / sf.BIR74[i];
+        expect(Math.abs(out.values.SIDR74[cell] - ratio)).toBeLessThanOrEqual(1e-9 * Math.max(1, ratio));
+      });
+    });
+
+    test("a CSV that fails its checks: exit 1 and the report naming line and code", () => {
+      const file = path.join(dir, "bad.csv");
+      writeFileSync(file, "from,to,share\n37009,c061,0.9\n99999,c061,1\n");
+      const { status, stdout, stderr } = run(["crosswalk", "--shares", file, ...boundaries]);
+      expect({ status, stderr }).toEqual({ status: 1, stderr: "" });
+      const report = JSON.parse(stdout);
+      expect(report.ok).toBe(false);
+      expect(report.errors.map((e: { message: string }) => e.message)).toEqual([
+        "line 3: source code '99999' is not a region of the source boundaries",
+        "source '37009' (line 2): shares sum to 0.9, not 1 (tolerance 0.0001)",
+      ]);
+    });
+
+    test("intensive values through a CSV need a denominator", () => {
+      const { status, stderr } = run(["crosswalk", "--shares", CROSSWALK_FILES.data, "--data", CROSSWALK_FILES.data, "--id-column", "FIPSNO", "--intensive", "SIDR74"]);
+      expect(status).toBe(2);
+      expect(stderr).toBe("intake: --intensive through --shares needs --denominator COL: a crosswalk CSV has shares, not overlap areas\n");
+    });
   });
 });

@@ -24,7 +24,7 @@ describe("validateCrosswalkCsv", () => {
       { row: 3, column: "to", message: "line 4: target code 'N7' is not a region of the target boundaries (source 'D2')" },
       { row: 4, column: "share", message: "line 5: share 'abc' of 'D2' → 'N1' is not a number" },
       { row: 5, column: "share", message: "line 6: share -0.2 of 'D3' → 'N1' is negative" },
-      { row: 6, column: "share", message: "line 7: share 1.5 of 'D3' → 'N2' is greater than 1" },
+      { row: 6, column: "share", message: "line 7: share 1.5 of 'D3' → 'N2' is greater than 1 (beyond the tolerance 0.0001)" },
       { row: 7, column: null, message: "line 8: the pair 'D1' → 'N1' repeats line 2" },
       { row: 8, column: "share", message: "line 9: share 0 of 'D2' → 'N2' is zero (leave the row out)" },
     ]);
@@ -41,6 +41,11 @@ describe("validateCrosswalkCsv", () => {
       "source 'D1' (lines 2, 3): shares sum to 0.9, not 1 (tolerance 0.000001)",
       "source 'D2' (lines 4, 5): shares sum to 0.99999, not 1 (tolerance 0.000001)",
     ]);
+  });
+
+  test("a share just above 1 from rounding is accepted within the tolerance", () => {
+    expect(validateCrosswalkCsv("from,to,share\nD1,N1,1.0000000000000002\n").ok).toBe(true);
+    expect(validateCrosswalkCsv("from,to,share\nD1,N1,1.001\n").errors[0].message).toBe("line 2: share 1.001 of 'D1' → 'N1' is greater than 1 (beyond the tolerance 0.0001)");
   });
 
   test("codes without a row are warnings; a header without the three columns is an error on line 1", () => {
