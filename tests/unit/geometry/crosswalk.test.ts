@@ -4,11 +4,15 @@
  * answers follow from rectangle areas, plus properties on random Voronoi
  * partitions. The outside check against R's sf is crosswalk-reference.test.ts.
  */
+import { readFileSync } from "node:fs";
 import { Delaunay } from "d3-delaunay";
 import fc from "fast-check";
+import { merge } from "topojson-client";
+import type { GeometryCollection, Topology } from "topojson-specification";
 import { areaCrosswalk, CrosswalkGeometryError, type AreaCrosswalkOptions, type BoundaryLayer } from "@/lib/geometry/crosswalk";
 import { harmonise } from "@/lib/geometry/harmonise";
 import { BoundaryError, loadBoundaries } from "@/lib/intake/boundaries";
+import { CROSSWALK_FILES } from "../../fixtures/crosswalk/fixture";
 
 type Ring = [number, number][];
 
@@ -42,6 +46,26 @@ describe("areaCrosswalk", () => {
     expect(xw.sources.map((s) => s.coverage)).toEqual([1, 1]);
     expect(xw.targets).toEqual([{ id: "M", area: 3, coverage: 1 }]);
     expect({ unmatchedFrom: xw.unmatchedFrom, uncoveredTo: xw.uncoveredTo, droppedSlivers: xw.droppedSlivers }).toEqual({ unmatchedFrom: [], uncoveredTo: [], droppedSlivers: [] });
+  });
+
+  test("a merge of real counties: each North Carolina county lies wholly in its merged group, share exactly 1, no slivers", () => {
+    const counties = { boundaries: loadBoundaries(readFileSync(CROSSWALK_FILES.planarCounties, "utf8")), objectName: "regions", idProperty: "FIPSNO" };
+    const topology = counties.boundaries.topology as Topology;
+    const geometries = (topology.objects.regions as GeometryCollection<{ FIPSNO: number }>).geometries;
+    // Twelve "new districts": counties grouped by their code, merged along their shared arcs.
+    const group = (fips: number) => `G${Math.floor((fips - 37000) / 17)}`;
+    const groups = [...new Set(geometries.map((g) => group(g.properties!.FIPSNO)))];
+    const features = groups.map((code) => ({ type: "Feature", properties: { code }, geometry: merge(topology, geometries.filter((g) => group(g.properties!.FIPSNO) === code)) }));
+    const merged = { boundaries: loadBoundaries(JSON.stringify({ type: "FeatureCollection", features })), objectName: "regions", idProperty: "code" };
+    // No sliver tolerance: shared arcs are identical, so not even a rounding-sized overlap with a neighbouring group may appear.
+    const xw = areaCrosswalk(counties, merged, { ...PLANAR, sliverTolerance: 0 });
+    expect(xw.pairs).toHaveLength(geometries.length);
+    for (const p of xw.pairs) {
+      expect(p.share).toBe(1);
+      expect(p.to).toBe(group(Number(p.from)));
+    }
+    expect({ droppedSlivers: xw.droppedSlivers, unmatchedFrom: xw.unmatchedFrom, uncoveredTo: xw.uncoveredTo }).toEqual({ droppedSlivers: [], unmatchedFrom: [], uncoveredTo: [] });
+    expect(xw.targets.every((t) => t.coverage === 1)).toBe(true);
   });
 
   test("a split: shares are the parts' areas over the whole and sum to 1", () => {
