@@ -8,7 +8,7 @@ import { readFileSync } from "node:fs";
 import { Delaunay } from "d3-delaunay";
 import fc from "fast-check";
 import { merge } from "topojson-client";
-import type { GeometryCollection, Topology } from "topojson-specification";
+import type { GeometryCollection, MultiPolygon, Polygon, Topology } from "topojson-specification";
 import { areaCrosswalk, CrosswalkGeometryError, type AreaCrosswalkOptions, type BoundaryLayer } from "@/lib/geometry/crosswalk";
 import { harmonise } from "@/lib/geometry/harmonise";
 import { BoundaryError, loadBoundaries } from "@/lib/intake/boundaries";
@@ -51,11 +51,12 @@ describe("areaCrosswalk", () => {
   test("a merge of real counties: each North Carolina county lies wholly in its merged group, share exactly 1, no slivers", () => {
     const counties = { boundaries: loadBoundaries(readFileSync(CROSSWALK_FILES.planarCounties, "utf8")), objectName: "regions", idProperty: "FIPSNO" };
     const topology = counties.boundaries.topology as Topology;
-    const geometries = (topology.objects.regions as GeometryCollection<{ FIPSNO: number }>).geometries;
+    const geometries = (topology.objects.regions as GeometryCollection<{ FIPSNO: number }>).geometries as (Polygon<{ FIPSNO: number }> | MultiPolygon<{ FIPSNO: number }>)[];
     // Twelve "new districts": counties grouped by their code, merged along their shared arcs.
     const group = (fips: number) => `G${Math.floor((fips - 37000) / 17)}`;
-    const groups = [...new Set(geometries.map((g) => group(g.properties!.FIPSNO)))];
-    const features = groups.map((code) => ({ type: "Feature", properties: { code }, geometry: merge(topology, geometries.filter((g) => group(g.properties!.FIPSNO) === code)) }));
+    const fipsOf = (g: { properties?: { FIPSNO: number } }) => g.properties!.FIPSNO;
+    const groups = [...new Set(geometries.map((g) => group(fipsOf(g))))];
+    const features = groups.map((code) => ({ type: "Feature", properties: { code }, geometry: merge(topology, geometries.filter((g) => group(fipsOf(g)) === code)) }));
     const merged = { boundaries: loadBoundaries(JSON.stringify({ type: "FeatureCollection", features })), objectName: "regions", idProperty: "code" };
     // No sliver tolerance: shared arcs are identical, so not even a rounding-sized overlap with a neighbouring group may appear.
     const xw = areaCrosswalk(counties, merged, { ...PLANAR, sliverTolerance: 0 });
