@@ -208,18 +208,18 @@ function clip<T>(label: string, run: () => T): T {
   }
 }
 
-function regionsOf(layer: BoundaryLayer, role: "source" | "target"): { regions: Omit<Region, "area">[]; } {
+/** The regions of a layer in file order, normalised, with their boxes (areas come once the coordinate system is known). */
+function regionsOf(layer: BoundaryLayer, role: "source" | "target"): Omit<Region, "area">[] {
   const ids = boundaryIds(layer.boundaries, layer.objectName, layer.idProperty);
   const topology = layer.boundaries.topology as Topology;
   const geometries = geometriesOf(topology.objects[layer.objectName] as GeometryObject<GeoJsonProperties>);
-  const regions = geometries.map((geometry, index) => {
+  return geometries.map((geometry, index) => {
     const label = `${role} region '${ids[index]}' (feature ${index + 1} of object '${layer.objectName}')`;
     const raw = polygonsOf((feature(topology, geometry) as Feature).geometry, label);
     // A union with itself normalises the rings (winding, repeated points, overlapping parts).
     const polygons = raw.length === 0 ? [] : clip(label, () => polygonClipping.union(raw));
     return { id: ids[index], polygons, bbox: bboxOf(polygons) };
   });
-  return { regions };
 }
 
 /** A uniform grid over the targets' boxes: about one target per cell. */
@@ -308,8 +308,8 @@ function checkTolerance(name: string, value: number): number {
 export function areaCrosswalk(from: BoundaryLayer, to: BoundaryLayer, options: AreaCrosswalkOptions = {}): AreaCrosswalk {
   const sliver = checkTolerance("sliverTolerance", options.sliverTolerance ?? DEFAULT_SLIVER_TOLERANCE);
   const nesting = checkTolerance("nestingTolerance", options.nestingTolerance ?? DEFAULT_NESTING_TOLERANCE);
-  const sourcesRaw = regionsOf(from, "source").regions;
-  const targetsRaw = regionsOf(to, "target").regions;
+  const sourcesRaw = regionsOf(from, "source");
+  const targetsRaw = regionsOf(to, "target");
 
   let coordinates = options.coordinates;
   const coordinatesDetected = coordinates === undefined;
