@@ -21,4 +21,11 @@ export {
   type PropertySummary,
 } from "./boundaries";
 export { ROW_NUMBERING, type PanelReport, type IntakeProblem, type Observation, type DuplicateExample } from "./report";
+export {
+  validateCrosswalkCsv,
+  CROSSWALK_SHARE_TOLERANCE,
+  type CrosswalkCsvOptions,
+  type CrosswalkCsvReport,
+  type CrosswalkCsvLink,
+} from "./crosswalk-csv";
 export * from "./schemas";

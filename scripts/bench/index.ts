@@ -4,7 +4,7 @@
  *   npm run -s bench                      engine, intake validation, run compute (no services needed)
  *   npm run -s bench -- --json            the same as one JSON object: engine cases in `results`
  *                                         ({case, grid, n, links, permutations, ms}), the others under `suites`
- *   npm run -s bench -- --only engine     one suite (engine | intake | runs | intake-ingest | runs-db | workers)
+ *   npm run -s bench -- --only engine     one suite (engine | intake | runs | crosswalk | intake-ingest | runs-db | workers)
  *   npm run -s bench -- --services        also the suites that need PostgreSQL and S3 (ingest, runs end to end,
  *                                         catalogue p95); start them first with `npm run services:test` and
  *                                         export the environment it prints.
@@ -25,7 +25,7 @@ const skipR = argv.includes("--no-r");
 const withServices = argv.includes("--services");
 const onlyIndex = argv.indexOf("--only");
 const only = onlyIndex >= 0 ? argv[onlyIndex + 1] : undefined;
-const SUITES = ["engine", "intake", "runs", "intake-ingest", "runs-db", "workers"] as const;
+const SUITES = ["engine", "intake", "runs", "crosswalk", "intake-ingest", "runs-db", "workers"] as const;
 type Suite = (typeof SUITES)[number];
 if (only !== undefined && !SUITES.includes(only as Suite)) {
   process.stderr.write(`bench: unknown suite '${only}'; choose one of ${SUITES.join(", ")}\n`);
@@ -89,6 +89,10 @@ if (wanted("runs") && !wanted("runs-db")) {
 if (wanted("runs-db")) {
   log("\n# runs: compute, demo run end to end through the queue, catalogue p95 over 10,000 rows");
   suites.runs = child("runs.ts", jsonFlag);
+}
+if (wanted("crosswalk")) {
+  log("\n# crosswalk: area-weighted crosswalk between two generated 3,000-region Voronoi boundary versions");
+  suites.crosswalk = child("crosswalk.ts", jsonFlag);
 }
 if (wanted("intake-ingest")) {
   log("\n# intake: 1,000,000 rows validated and COPY-ingested in one transaction");

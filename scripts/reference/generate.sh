@@ -25,5 +25,6 @@ Rscript scripts/reference/spatial-markov-panel-reference.R .
 Rscript scripts/reference/distributions-reference.R .
 Rscript scripts/reference/rates-hotspots-reference.R .
 Rscript scripts/reference/residuals-reference.R .
+Rscript scripts/reference/crosswalk-reference.R .
 node scripts/reference/nc-to-topojson.mjs tests/fixtures/nc/nc.geojson tests/fixtures/nc/nc.topojson
 echo "Fixtures regenerated. Review 'git diff --stat tests/fixtures' before committing."
