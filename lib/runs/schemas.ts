@@ -170,6 +170,8 @@ const optionalRunId = runNumber.nullable().default(null);
 const period = text({ min: 1, max: 120 });
 
 export const SIGNIFICANCE_CLASSES = ["clustering", "dispersion", "not-significant"] as const;
+/** What the residual diagnostics of a run with covariates can suggest (lib/spatial/regression suggestModel). */
+export const MODEL_SUGGESTIONS = ["error", "lag", "both", "neither"] as const;
 
 export const catalogueQuerySchema = z.object({
   run: optionalRunId,
@@ -181,6 +183,12 @@ export const catalogueQuerySchema = z.object({
   from: period.nullable().default(null),
   to: period.nullable().default(null),
   q: text({ max: 200 }).nullable().default(null),
+  /** Rows whose residual diagnostics suggest one of these models (runs with covariates only). */
+  suggestion: z
+    .string()
+    .default("")
+    .transform((s) => s.split(",").filter(Boolean))
+    .pipe(z.array(z.enum(MODEL_SUGGESTIONS, { message: "suggestion must be error, lag, both or neither." }))),
 });
 
 export const timelineQuerySchema = z.object({ indicator: text({ min: 1, max: 120 }), run: optionalRunId });
