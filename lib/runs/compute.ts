@@ -355,7 +355,10 @@ export function computeRegression(
   } catch (error) {
     if (error instanceof SingularDesignError) {
       const named = error.covariates.length ? error.covariates : codes;
-      return failed(n, `Not fitted in ${period}: the covariates ${quoted(named)} are collinear over the ${n} regions with every value (${error.message}) Drop one of them.`);
+      return failed(
+        n,
+        `Not fitted in ${period}: collinear covariates (${quoted(named)}) over the ${n} regions with every value. ${error.message} Drop or replace ${named.length === 1 ? "it" : "one of them"}.`,
+      );
     }
     if (error instanceof TooFewRegionsError) {
       return failed(
