@@ -15,12 +15,14 @@ import { closeConnections } from "@/tests/helpers/teardown";
 // What the screens show is compared with what the run stored.
 
 const slug = demo.workspace.slug;
-const subscriber = demo.accounts.find((a) => a.role === "subscriber") ?? demo.accounts[0];
+const economist = demo.accounts.find((a) => a.role === "economist");
+if (!economist) throw new Error("demo-accounts.json has no economist");
 
 let session: BrowserSession;
 let demoRunId: number;
 let controlFor: string[];
 let stored: { period_key: string; i: number | null; regression: RegressionFields | null }[];
+let lagRows: number;
 
 beforeAll(async () => {
   testServices();
@@ -36,6 +38,11 @@ beforeAll(async () => {
     "SELECT period_key, i, regression FROM run_results WHERE run_id = $1 AND indicator_code = 'unemployment_rate' ORDER BY period_index",
     { bind: [demoRunId], type: QueryTypes.SELECT },
   );
+  const [lag] = await db().query<{ count: string }>("SELECT count(*) AS count FROM run_results WHERE run_id = $1 AND model_suggestion = 'lag'", {
+    bind: [demoRunId],
+    type: QueryTypes.SELECT,
+  });
+  lagRows = Number(lag.count);
   session = await openBrowser({ viewport: { width: 1440, height: 1100 } });
   session.page.setDefaultTimeout(120_000);
 });
@@ -58,7 +65,7 @@ it("the demo run controls for heavy industry, and after the 2013 closure the res
 
 it("the timeline shows the raw and the residual Moran's I per period, with a legend entry and a tooltip for each", async () => {
   const { page } = session;
-  await signIn(page, subscriber.email, subscriber.password);
+  await signIn(page, economist.email, economist.password);
   await page.goto(`/w/${slug}/timeline?indicator=unemployment_rate&run=${demoRunId}`);
   const chart = page.locator('[data-testid="timeline-moran"]');
   await chart.locator("svg").waitFor();
@@ -109,4 +116,25 @@ it("the period view lists the regression table and the diagnostics, with the sug
   }
   await page.getByTestId("regression-b").waitFor();
   await screenshot(page, "residual-moran-02-period");
+});
+
+it("the run form offers Control for, the runs list names the demo run's covariates, and the catalogue filters by the suggestion", async () => {
+  const { page } = session;
+  await page.goto(`/w/${slug}/runs`);
+  const form = page.getByRole("form", { name: "Start a run" });
+  await form.waitFor();
+  const choices = await page.getByTestId("run-control-for").locator("label").allInnerTexts();
+  expect(choices.map((c) => c.trim())).toContain("Heavy industry employment share");
+  expect(await page.getByTestId(`run-${demoRunId}-control-for`).textContent()).toContain("heavy_industry_share");
+
+  await page.goto(`/w/${slug}/catalogue?run=${demoRunId}`);
+  const filter = page.getByRole("group", { name: "Suggested model filter" });
+  await filter.waitFor();
+  await filter.getByRole("button", { name: /^Lag/ }).click();
+  await page.waitForURL(/suggestion=lag/);
+  await page.waitForFunction((n) => document.querySelector('[data-testid="catalogue-count"]')?.textContent?.startsWith(`${n} indicator-period`), lagRows);
+  const shownSuggestions = await page.locator('[data-testid="catalogue-grid"] [col-id="modelSuggestion"][role="gridcell"]').allInnerTexts();
+  expect(shownSuggestions.length).toBeGreaterThan(0);
+  expect(new Set(shownSuggestions.map((t) => t.trim()))).toEqual(new Set(["spatial lag"]));
+  await screenshot(page, "residual-moran-03-catalogue");
 });
