@@ -12,8 +12,8 @@ import { fmt, fmtP, fmtSigned, Notice, SignificanceBadge, SIGNIFICANCE_SHORT } f
 import { catalogueExportUrl, catalogueQuery, runsQuery } from "@/components/runs/query-options";
 import type { CatalogueRow } from "@/lib/runs/catalogue-wire";
 import { runLabel } from "@/lib/runs/label";
-import { SIGNIFICANCE_CLASSES } from "@/lib/runs/schemas";
-import type { SignificanceClass } from "@/lib/runs/types";
+import { MODEL_SUGGESTIONS, SIGNIFICANCE_CLASSES } from "@/lib/runs/schemas";
+import { MODEL_SUGGESTION_LABELS, type ModelSuggestionWord, type SignificanceClass } from "@/lib/runs/types";
 import { tesseraGridTheme } from "./ag-grid-setup";
 
 const COLUMN_CHOICES = [
@@ -29,7 +29,13 @@ const COLUMN_CHOICES = [
   { id: "gearyC", label: "Geary's C" },
   { id: "generalG", label: "General G" },
   { id: "reachability", label: "Reachable?" },
+  { id: "residualI", label: "Residual I" },
+  { id: "residualP", label: "Residual p" },
+  { id: "modelSuggestion", label: "Points to" },
 ] as const;
+
+/** The residual columns: shown by default only when a row has them (a run that controlled for covariates). */
+const RESIDUAL_COLUMNS = ["residualI", "residualP", "modelSuggestion"];
 const DEFAULT_HIDDEN = ["adjustedP", "gearyC", "generalG"];
 
 export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: boolean }) {
@@ -41,15 +47,19 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
   const from = params.get("from") ?? "";
   const to = params.get("to") ?? "";
   const q = params.get("q") ?? "";
-  const hiddenKey = colsParam !== null ? COLUMN_CHOICES.map((c) => c.id as string).filter((id) => !colsParam.split(",").includes(id)).join(",") : DEFAULT_HIDDEN.join(",");
-  const hidden = hiddenKey.split(",");
+  const suggestionParam = params.get("suggestion") ?? "";
+  const suggestions = suggestionParam.split(",").filter((c): c is ModelSuggestionWord => (MODEL_SUGGESTIONS as readonly string[]).includes(c));
   const [text, setText] = useState(q);
 
-  const apiSearch = searchFor(run, classParam, from, to, q);
+  const apiSearch = searchFor(run, classParam, from, to, q, suggestionParam);
 
   const rows = useQuery(catalogueQuery(slug, apiSearch));
   // The period choices come from an unfiltered view so the range can widen again.
   const all = useQuery(catalogueQuery(slug, run ? `run=${run}` : ""));
+  const hasResidual = (all.data ?? []).some((r) => r.residualI !== null || r.modelSuggestion !== null);
+  const defaultHidden = hasResidual ? DEFAULT_HIDDEN : [...DEFAULT_HIDDEN, ...RESIDUAL_COLUMNS];
+  const hiddenKey = colsParam !== null ? COLUMN_CHOICES.map((c) => c.id as string).filter((id) => !colsParam.split(",").includes(id)).join(",") : defaultHidden.join(",");
+  const hidden = hiddenKey.split(",");
   const runs = useQuery(runsQuery(slug));
 
   const toggleClass = (c: SignificanceClass) => {
@@ -58,6 +68,14 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
     else set.add(c);
     update({ class: [...set].join(",") || null });
   };
+  const toggleSuggestion = (c: ModelSuggestionWord) => {
+    const set = new Set(suggestions);
+    if (set.has(c)) set.delete(c);
+    else set.add(c);
+    update({ suggestion: [...set].join(",") || null });
+  };
+  const suggestionCounts: Record<ModelSuggestionWord, number> = { error: 0, lag: 0, both: 0, neither: 0 };
+  for (const r of all.data ?? []) if (r.modelSuggestion) suggestionCounts[r.modelSuggestion]++;
   const toggleColumn = (id: string) => {
     const visible = COLUMN_CHOICES.map((c) => c.id as string).filter((c) => !hidden.includes(c));
     const next = visible.includes(id) ? visible.filter((c) => c !== id) : [...visible, id];
@@ -104,6 +122,28 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
             ))}
           </div>
         </div>
+        {hasResidual || suggestions.length ? (
+          <div>
+            <span className="block text-xs font-semibold uppercase tracking-wider text-ink-400" title="What the residual diagnostics of a run with covariates point to">
+              After covariates, points to
+            </span>
+            <div className="mt-1 flex gap-1" role="group" aria-label="Suggested model filter">
+              {MODEL_SUGGESTIONS.map((c) => (
+                <button
+                  key={c}
+                  type="button"
+                  aria-pressed={suggestions.includes(c)}
+                  onClick={() => toggleSuggestion(c)}
+                  className={`rounded-full px-3 py-1.5 text-sm font-medium ring-1 ring-inset transition ${
+                    suggestions.includes(c) ? "bg-ink text-white ring-ink" : "bg-white text-ink-600 ring-ink-200 hover:bg-ink-50"
+                  }`}
+                >
+                  {SUGGESTION_SHORT[c]} <span className="tabular-nums opacity-70">{suggestionCounts[c]}</span>
+                </button>
+              ))}
+            </div>
+          </div>
+        ) : null}
         <div className="flex items-end gap-2">
           <div>
             <label className="block text-xs font-semibold uppercase tracking-wider text-ink-400" htmlFor="cat-from">
@@ -187,7 +227,13 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
       <p className="text-xs text-ink-500" data-testid="catalogue-count">
         {rows.data ? `${rows.data.length} indicator-period${rows.data.length === 1 ? "" : "s"} shown` : " "}. Class uses each run&apos;s two-sided
         permutation pseudo p after its multiple-testing correction (see the run&apos;s parameters); z and p are under randomisation. ΔI is the
-        change from the previous period of the same run.
+        change from the previous period of the same run.{hasResidual ? (
+          <>
+            {" "}
+            Residual I is Moran&apos;s I of what the run&apos;s covariates leave unexplained (ordinary least squares), with its two-sided p; &ldquo;points to&rdquo;
+            is the model the Lagrange multiplier tests suggest: a spatial error, a spatial lag, both, or neither. It suggests a model; it does not fit one.
+          </>
+        ) : null}
       </p>
     </div>
   );
@@ -273,6 +319,16 @@ function buildColumns(slug: string, hiddenKey: string): ColDef<CatalogueRow>[] {
             </span>
           ) : null,
       },
+      { colId: "residualI", headerName: "Residual I", headerTooltip: "Moran's I of the residuals after the run's covariates", field: "residualI", width: 110, type: "numericColumn", valueFormatter: num(3) },
+      { colId: "residualP", headerName: "Residual p", headerTooltip: "Two-sided p of the residual I (normal approximation)", field: "residualP", width: 110, type: "numericColumn", valueFormatter: pfmt },
+      {
+        colId: "modelSuggestion",
+        headerName: "Points to",
+        headerTooltip: "The model the Lagrange multiplier tests suggest for the residual dependence",
+        field: "modelSuggestion",
+        width: 150,
+        valueFormatter: (p: ValueFormatterParams<CatalogueRow, ModelSuggestionWord | null>) => (p.value ? MODEL_SUGGESTION_LABELS[p.value] : ""),
+      },
       { colId: "note", headerName: "Note", field: "note", flex: 2, minWidth: 200, tooltipField: "note", cellClass: "text-xs text-ink-500" },
     ];
     const hiddenIds = hiddenKey.split(",");
@@ -280,7 +336,9 @@ function buildColumns(slug: string, hiddenKey: string): ColDef<CatalogueRow>[] {
   }
 }
 
-function searchFor(run: string, classParam: string, from: string, to: string, q: string): string {
+const SUGGESTION_SHORT: Record<ModelSuggestionWord, string> = { error: "Error", lag: "Lag", both: "Both", neither: "Neither" };
+
+function searchFor(run: string, classParam: string, from: string, to: string, q: string, suggestionParam: string): string {
   const s = new URLSearchParams();
   if (run) s.set("run", run);
   const valid = classParam.split(",").filter((c) => (SIGNIFICANCE_CLASSES as readonly string[]).includes(c));
@@ -288,5 +346,7 @@ function searchFor(run: string, classParam: string, from: string, to: string, q:
   if (from) s.set("from", from);
   if (to) s.set("to", to);
   if (q) s.set("q", q);
+  const suggestions = suggestionParam.split(",").filter((c) => (MODEL_SUGGESTIONS as readonly string[]).includes(c));
+  if (suggestions.length) s.set("suggestion", suggestions.join(","));
   return s.toString();
 }

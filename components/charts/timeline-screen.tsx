@@ -13,7 +13,12 @@ import { CLUSTER_CLASS_COLOURS } from "@/lib/runs/cluster-classes";
 import { distanceSentence } from "@/lib/runs/distances";
 import { robustnessQuery } from "@/components/runs/query-options";
 import type { Timeline } from "@/lib/runs/queries";
+import { MODEL_SUGGESTION_LABELS } from "@/lib/runs/types";
 import { EChart, INK, MUTED, OCHRE } from "./echart";
+
+/** The residual line: ochre-700 of the palette, dotted with diamonds so it reads apart from the solid I and the round significance marks. */
+const RESIDUAL = "#865214";
+const RESIDUAL_SERIES = "Moran's I of the residuals";
 
 export function TimelineScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
   const { params, setParams: set, router, indicator, run, timeline: data, periods } = useIndicatorTimeline(slug, indicators);
@@ -59,9 +64,18 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
   const pts = timeline.points;
   const periods = pts.map((p) => p.period);
   const significant = pts.map((p) => (p.significance === "clustering" || p.significance === "dispersion" ? p.I : null));
+  const controlFor = timeline.run.params.controlFor ?? [];
+  // A second line when the run controlled for covariates and this indicator is not one of them.
+  const residual = controlFor.length > 0 && !controlFor.includes(timeline.indicator.code);
   const option: EChartsOption = {
     grid: { left: 64, right: 24, top: 44, bottom: 48 },
-    legend: { top: 0, left: "center", itemGap: 30, data: ["Moran's I", "E[I]", "95 % band under the null", "Significant after correction"], textStyle: { color: INK } },
+    legend: {
+      top: 0,
+      left: "center",
+      itemGap: 30,
+      data: ["Moran's I", ...(residual ? [RESIDUAL_SERIES] : []), "E[I]", "95 % band under the null", "Significant after correction"],
+      textStyle: { color: INK },
+    },
     tooltip: {
       trigger: "axis",
       valueFormatter: (v) => (typeof v === "number" ? v.toFixed(3) : String(v ?? "—")),
@@ -85,6 +99,20 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
       },
       { name: "E[I]", type: "line", data: pts.map((p) => p.expectedI), lineStyle: { type: "dashed", color: MUTED, width: 1.5 }, itemStyle: { color: MUTED }, symbol: "none" },
       { name: "Moran's I", type: "line", data: pts.map((p) => p.I), lineStyle: { color: INK, width: 2.5 }, itemStyle: { color: INK }, symbolSize: 6, connectNulls: false },
+      ...(residual
+        ? [
+            {
+              name: RESIDUAL_SERIES,
+              type: "line" as const,
+              data: pts.map((p) => p.residualI),
+              lineStyle: { color: RESIDUAL, width: 2, type: "dotted" as const },
+              itemStyle: { color: RESIDUAL },
+              symbol: "diamond",
+              symbolSize: 8,
+              connectNulls: false,
+            },
+          ]
+        : []),
       { name: "Significant after correction", type: "scatter", data: significant, itemStyle: { color: OCHRE, borderColor: "#fff", borderWidth: 1.5 }, symbolSize: 12, z: 5 },
     ],
   };
@@ -96,6 +124,14 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
           The grey band holds the middle 95 % (2.5 %–97.5 % quantiles) of I under the null of no spatial pattern, from{" "}
           {timeline.run.params.permutations.toLocaleString("en-GB")} random relabellings of the values (the same draws in every period). The dashed line is
           E[I] = −1/(n−1). Ochre points are periods significant after the run&apos;s correction. Click a period to open its map.
+          {residual ? (
+            <span data-testid="timeline-residual-caption">
+              {" "}
+              The dotted brown line is Moran&apos;s I of what is left after regressing the indicator on {controlFor.join(", ")} (ordinary least squares with
+              an intercept): where it sits well below the solid line, the covariates account for much of the clustering. Its own expected value under no
+              residual dependence is slightly negative and differs by period; the period view gives it with the regression.
+            </span>
+          ) : null}
         </>
       }
     >
@@ -207,6 +243,8 @@ function RobustnessStrip({ slug, indicator, run, period, periods, onPeriod }: { 
 }
 
 function PeriodTable({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period: string) => void }) {
+  const controlFor = timeline.run.params.controlFor ?? [];
+  const residual = controlFor.length > 0 && !controlFor.includes(timeline.indicator.code);
   return (
     <Panel title="Per period: n, weights and inference" caption="n counts regions with a value after the island policy. Pseudo p is the two-sided permutation p; adjusted p applies the run's correction across all its indicator-periods.">
       <div className="overflow-x-auto">
@@ -223,6 +261,13 @@ function PeriodTable({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (pe
               <th className="py-2 pr-3 text-right">Adjusted p</th>
               <th className="py-2 pr-3 text-right">Geary&apos;s C</th>
               <th className="py-2 pr-3">Class</th>
+              {residual ? (
+                <>
+                  <th className="py-2 pr-3 text-right">Residual I</th>
+                  <th className="py-2 pr-3 text-right">Residual p</th>
+                  <th className="py-2 pr-3">Points to</th>
+                </>
+              ) : null}
             </tr>
           </thead>
           <tbody className="divide-y divide-ink-50">
@@ -244,6 +289,17 @@ function PeriodTable({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (pe
                 <td className="py-1.5 pr-3 text-right tabular-nums">{fmtP(p.adjustedP)}</td>
                 <td className="py-1.5 pr-3 text-right tabular-nums">{fmt(p.gearyC)}</td>
                 <td className="py-1.5 pr-3">{p.status === "computed" ? <SignificanceBadge value={p.significance} /> : <span className="text-xs text-ink-400">{p.note}</span>}</td>
+                {residual ? (
+                  <>
+                    <td className="py-1.5 pr-3 text-right tabular-nums" data-testid={`residual-i-${p.period}`}>
+                      {fmt(p.residualI)}
+                    </td>
+                    <td className="py-1.5 pr-3 text-right tabular-nums">{fmtP(p.residualP)}</td>
+                    <td className="py-1.5 pr-3 text-xs text-ink-600" title={p.regressionMessage ?? undefined}>
+                      {p.modelSuggestion ? MODEL_SUGGESTION_LABELS[p.modelSuggestion] : p.regressionMessage ? "not fitted" : "—"}
+                    </td>
+                  </>
+                ) : null}
               </tr>
             ))}
           </tbody>

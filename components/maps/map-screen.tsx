@@ -20,6 +20,7 @@ import { escapeHtml } from "@/lib/security/html";
 import { periodPair } from "@/lib/runs/period-order";
 import { formatTick, formatValue } from "@/lib/runs/number-format";
 import { RunPicker } from "@/components/runs/run-picker";
+import { RegressionPanel } from "@/components/runs/regression-panel";
 import { PanelTransitions } from "./panel-transitions";
 import { RegionMap, useRegionFeatures } from "./region-map";
 import { GiStarDetailRows, GiStarPanel, LocalMapViewSwitch } from "./gi-star-map";
@@ -50,6 +51,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
   }, [mapA.data, mapB.data]);
 
   const names = geometry.data?.names ?? {};
+  const labels = useMemo(() => new Map(indicators.map((i) => [i.code, i.label])), [indicators]);
   const loading = geometry.isPending || mapA.isPending || mapB.isPending;
   const error = timeline.error ?? geometry.error ?? mapA.error ?? mapB.error;
 
@@ -160,6 +162,20 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
               </Panel>
             ))}
           </div>
+          {[mapA.data, mapB.data].map((d, k) =>
+            d.map.regression && (k === 0 || d.map.period !== mapA.data.map.period) ? (
+              <RegressionPanel
+                key={`regression-${k}`}
+                regression={d.map.regression}
+                period={d.map.period}
+                indicatorLabel={d.indicator.label}
+                labels={labels}
+                alpha={d.run.params.alpha}
+                rawI={d.map.I}
+                testId={k === 0 ? "a" : "b"}
+              />
+            ) : null,
+          )}
           <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_minmax(0,1fr)]">
             <RegionDetail id={active} names={names} a={mapA.data.map} b={mapB.data.map} unit={unit} />
             <Panel

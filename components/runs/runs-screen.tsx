@@ -6,7 +6,7 @@ import { useMemo, useState } from "react";
 import { ApiError } from "@/lib/client/api-fetch";
 import { dangerButton, inputClass, labelClass, primaryButton, secondaryButton } from "@/components/ui/button-styles";
 import { startFormReachability } from "@/lib/runs/reachability";
-import { CORRECTION_LABELS, CORRECTIONS, ISLAND_POLICIES, ISLAND_POLICY_LABELS, runParamsInputSchema, SEQUENTIAL_EXTREMES, WEIGHTS_CHOICES } from "@/lib/runs/schemas";
+import { CORRECTION_LABELS, CORRECTIONS, ISLAND_POLICIES, ISLAND_POLICY_LABELS, MAX_CONTROL_FOR, runParamsInputSchema, SEQUENTIAL_EXTREMES, WEIGHTS_CHOICES } from "@/lib/runs/schemas";
 import type { RunSummary } from "@/lib/runs/queries";
 import { Notice, Panel, runLabel, runName, StateBadge, weightsLabel } from "./format";
 import { StartFormReachability } from "./reachability-note";
@@ -129,6 +129,12 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
                         : "fixed count"}
                   </dd>
                 </div>
+                {run.params.controlFor?.length ? (
+                  <div className="col-span-2" data-testid={`run-${run.id}-control-for`}>
+                    <dt className="inline text-ink-400">Controls for </dt>
+                    <dd className="inline text-ink-700">{run.params.controlFor.join(", ")}</dd>
+                  </div>
+                ) : null}
                 <div className="col-span-2">
                   <dt className="inline text-ink-400">Islands </dt>
                   <dd className="inline text-ink-700">{ISLAND_POLICY_LABELS[run.params.islandPolicy]}</dd>
@@ -165,6 +171,7 @@ function StartRunForm({ slug }: { slug: string }) {
   const [to, setTo] = useState("");
   const [local, setLocal] = useState(true);
   const [sequential, setSequential] = useState(false);
+  const [controlFor, setControlFor] = useState<string[]>([]);
   const [error, setError] = useState<{ field: string | null; message: string } | null>(null);
   const [started, setStarted] = useState<{ id: number; number: number } | null>(null);
 
@@ -221,6 +228,7 @@ function StartRunForm({ slug }: { slug: string }) {
       periods: fromIndex === 0 && toIndex === periods.length - 1 ? undefined : periods.slice(fromIndex, toIndex + 1),
       local,
       sequential: local && sequential,
+      controlFor: controlFor.length ? controlFor : undefined,
     };
     const parsed = runParamsInputSchema.safeParse(choice);
     if (!parsed.success) {
@@ -230,6 +238,14 @@ function StartRunForm({ slug }: { slug: string }) {
     }
     if (selected.length === 0) {
       setError({ field: "indicators", message: "Choose at least one indicator." });
+      return;
+    }
+    if (controlFor.length && selected.every((c) => controlFor.includes(c))) {
+      setError({ field: "controlFor", message: "Every indicator chosen is also a covariate: choose covariates other than the indicators you analyse." });
+      return;
+    }
+    if (controlFor.length && version.regions < controlFor.length + 3) {
+      setError({ field: "controlFor", message: `The boundaries have ${version.regions} regions; an intercept and ${controlFor.length} covariate(s) need at least ${controlFor.length + 3}.` });
       return;
     }
     if (fromIndex > toIndex) {
@@ -251,7 +267,7 @@ function StartRunForm({ slug }: { slug: string }) {
             <label className={labelClass} htmlFor="run-panel">
               Panel version
             </label>
-            <select id="run-panel" className={inputClass} value={version.panelVersionId} onChange={(e) => { setVersionId(Number(e.target.value)); setChosen(null); setFrom(""); setTo(""); }}>
+            <select id="run-panel" className={inputClass} value={version.panelVersionId} onChange={(e) => { setVersionId(Number(e.target.value)); setChosen(null); setControlFor([]); setFrom(""); setTo(""); }}>
               {(options.data ?? []).map((o) => (
                 <option key={o.panelVersionId} value={o.panelVersionId}>
                   {o.panelName} — version {o.version}
@@ -349,6 +365,26 @@ function StartRunForm({ slug }: { slug: string }) {
             </div>
             {fieldError("indicators")}
           </fieldset>
+          <fieldset>
+            <legend className={labelClass}>Control for (optional)</legend>
+            <p className="mt-0.5 text-xs text-ink-500">
+              Each indicator is also regressed on these, and the run tests whether the clustering remains in what they leave unexplained. At most {MAX_CONTROL_FOR}.
+            </p>
+            <div className="mt-1 max-h-32 space-y-1 overflow-y-auto rounded-md border border-ink-100 p-2" data-testid="run-control-for">
+              {indicators.map((i) => (
+                <label key={i.code} className="flex items-center gap-2 text-sm text-ink-700">
+                  <input
+                    type="checkbox"
+                    className="accent-ochre-500"
+                    checked={controlFor.includes(i.code)}
+                    onChange={(e) => setControlFor(e.target.checked ? [...controlFor, i.code] : controlFor.filter((c) => c !== i.code))}
+                  />
+                  {i.label}
+                </label>
+              ))}
+            </div>
+            {fieldError("controlFor")}
+          </fieldset>
           <div className="grid grid-cols-2 gap-3">
             <div>
               <label className={labelClass} htmlFor="run-from">
@@ -387,7 +423,7 @@ function StartRunForm({ slug }: { slug: string }) {
             </span>
           </label>
           <StartFormReachability warnings={reachability} />
-          {error && !["weights", "permutations", "seed", "alpha", "indicators", "periods"].includes(error.field ?? "") ? <Notice tone="error">{error.message}</Notice> : null}
+          {error && !["weights", "permutations", "seed", "alpha", "indicators", "periods", "controlFor"].includes(error.field ?? "") ? <Notice tone="error">{error.message}</Notice> : null}
           {started ? (
             <Notice>
               <span data-testid="started-run" data-run-id={started.id}>

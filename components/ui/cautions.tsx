@@ -1,7 +1,16 @@
 // The cautions of docs/statistics.md: shown beside every result. Items can be narrowed to the
 // ones a particular result needs (e.g. leave out "small n" for a large panel).
 
-export type CautionKey = "causation" | "maup" | "multiple" | "small-n" | "small-rates";
+export type CautionKey =
+  | "causation"
+  | "maup"
+  | "multiple"
+  | "small-n"
+  | "small-rates"
+  | "ols-assumptions"
+  | "collinear-covariates"
+  | "few-regions-covariates"
+  | "suggests-not-fits";
 
 const CAUTIONS: Record<CautionKey, { title: string; body: string }> = {
   causation: {
@@ -24,17 +33,37 @@ const CAUTIONS: Record<CautionKey, { title: string; body: string }> = {
     title: "Rates on small populations",
     body: "Rates on small bases are noisy, and the noise of small regions can dominate Moran's I. Runs do not yet smooth rates (empirical Bayes): read results on such rates with care.",
   },
+  "ols-assumptions": {
+    title: "The regression assumes more than it shows",
+    body: "Least squares takes each covariate's effect to be straight-line and the errors to be independent with equal spread. Independence is exactly what the residual diagnostics put in question: when they are significant, the standard errors and p-values of the coefficients are too optimistic.",
+  },
+  "collinear-covariates": {
+    title: "Covariates that move together",
+    body: "When one covariate is (nearly) a combination of the others, their separate effects cannot be told apart. An exact case is refused for the period and the covariates are named; a near case fits, but with large standard errors.",
+  },
+  "few-regions-covariates": {
+    title: "Few regions per covariate",
+    body: "Every covariate uses up a region's worth of information. With few regions left over, the fit flatters (compare R² with adjusted R²) and the residual tests have little power.",
+  },
+  "suggests-not-fits": {
+    title: "A suggestion, not a fitted model",
+    body: "The Lagrange multiplier tests point to a spatial lag or a spatial error model; Tessera does not fit either. The coefficients shown are the ordinary least squares ones.",
+  },
 };
 
 const ALL: CautionKey[] = ["causation", "maup", "multiple", "small-n", "small-rates"];
 
-export function Cautions({ items = ALL, className = "" }: { items?: CautionKey[]; className?: string }) {
+/** The cautions beside a regression on covariates and its residual diagnostics. */
+export const REGRESSION_CAUTIONS: CautionKey[] = ["ols-assumptions", "collinear-covariates", "few-regions-covariates", "suggests-not-fits"];
+
+export function Cautions({ items = ALL, className = "", headingId = "cautions-heading", testId }: { items?: CautionKey[]; className?: string; headingId?: string; testId?: string }) {
   return (
     <aside
-      aria-labelledby="cautions-heading"
+      aria-labelledby={headingId}
+      data-testid={testId}
       className={`rounded-lg border border-ochre-200 bg-ochre-50 p-5 text-sm text-ink-700 ${className}`}
     >
-      <h2 id="cautions-heading" className="flex items-center gap-2 text-xs font-semibold uppercase tracking-wider text-ochre-800">
+      <h2 id={headingId} className="flex items-center gap-2 text-xs font-semibold uppercase tracking-wider text-ochre-800">
         <svg viewBox="0 0 20 20" className="h-4 w-4" aria-hidden="true">
           <path d="M10 2 19 18H1L10 2Z" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinejoin="round" />
           <path d="M10 8v4.5M10 14.8v.2" stroke="currentColor" strokeWidth="1.8" strokeLinecap="round" />

@@ -200,7 +200,8 @@ type RunRow = {
 };
 /** The label's parameters out of stored run params (JSON). */
 function labelParams(params: Record<string, unknown>) {
-  return { weights: String(params.weights ?? ""), transform: String(params.transform ?? ""), permutations: Number(params.permutations ?? 0) };
+  const controlFor = Array.isArray(params.controlFor) ? params.controlFor.map(String) : undefined;
+  return { weights: String(params.weights ?? ""), transform: String(params.transform ?? ""), permutations: Number(params.permutations ?? 0), ...(controlFor ? { controlFor } : {}) };
 }
 
 const toRun = (r: RunRow): RunRef => ({

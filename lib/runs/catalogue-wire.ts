@@ -10,7 +10,7 @@
  */
 import { reachabilityWarning } from "./reachability";
 import type { ResolvedRunParams } from "./schemas";
-import type { SignificanceClass } from "./types";
+import type { ModelSuggestionWord, SignificanceClass } from "./types";
 
 export const CATALOGUE_FORMAT = "tessera-catalogue/1";
 
@@ -34,6 +34,9 @@ export const CATALOGUE_FIELDS = [
   "gearyC",
   "generalG",
   "localTests",
+  "residualI",
+  "residualP",
+  "modelSuggestion",
 ] as const;
 
 export type CatalogueTuple = [
@@ -56,6 +59,11 @@ export type CatalogueTuple = [
   generalG: number | null,
   /** Local tests of the period (regions with neighbours), null without local statistics. */
   localTests: number | null,
+  /** Moran's I of the residuals of the regression on the run's covariates; null without covariates or when not fitted. */
+  residualI: number | null,
+  /** Its two-sided p (normal approximation under the regression null). */
+  residualP: number | null,
+  modelSuggestion: ModelSuggestionWord | null,
 ];
 
 export interface CatalogueIndicator {
@@ -112,6 +120,9 @@ export interface CatalogueRow {
   gearyC: number | null;
   generalG: number | null;
   localTests: number | null;
+  residualI: number | null;
+  residualP: number | null;
+  modelSuggestion: ModelSuggestionWord | null;
   /**
    * Short notes, null when significance was reachable: the run's class over
    * its indicator-periods, and the period's local clusters over its regions.
@@ -139,7 +150,7 @@ export function catalogueRowsOf(answer: Pick<CatalogueAnswer, "indicators" | "ro
     }
     return notes.get(key) ?? null;
   };
-  return answer.rows.map(([runId, indicator, period, periodIndex, status, note, n, I, expectedI, z, p, pseudoP, adjustedP, significance, deltaI, gearyC, generalG, localTests]) => {
+  return answer.rows.map(([runId, indicator, period, periodIndex, status, note, n, I, expectedI, z, p, pseudoP, adjustedP, significance, deltaI, gearyC, generalG, localTests, residualI, residualP, modelSuggestion]) => {
     const meta = byCode.get(indicator);
     const computed = status === "computed";
     return {
@@ -163,6 +174,9 @@ export function catalogueRowsOf(answer: Pick<CatalogueAnswer, "indicators" | "ro
       gearyC,
       generalG,
       localTests,
+      residualI,
+      residualP,
+      modelSuggestion,
       classReachability: computed ? noteOf(runId, "global", runs.get(runId)?.globalTests ?? null) : null,
       clusterReachability: computed ? noteOf(runId, "local", localTests) : null,
     };

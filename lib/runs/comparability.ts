@@ -9,8 +9,8 @@
  * and every stored parameter that changes a statistic, a p-value or a class:
  * weights rule, transform, island policy, permutation count, alpha, the
  * correction, whether local clusters were computed, the computation method,
- * and any parameter added later. The seed, the chosen indicators and periods
- * and the version ids do not belong to it: the seed only redraws the same
+ * and any parameter added later. The seed, the chosen indicators and periods,
+ * the covariates and the version ids do not belong to it: the seed only redraws the same
  * test, and indicator-periods are matched one by one.
  */
 import { parseWeightsSpecification } from "@/lib/spatial";
@@ -22,8 +22,13 @@ export interface ComparableRun {
   readonly params: Readonly<Record<string, unknown>>;
 }
 
-/** Stored parameters that do not change any number a comparison reads. */
-const NOT_IN_KEY = new Set(["seed", "indicators", "periods", "panelVersionId", "boundaryVersionId"]);
+/**
+ * Stored parameters that do not change any number a comparison reads. The
+ * covariates (`controlFor`) add a regression beside each row but leave I, its
+ * p-values, classes and local clusters exactly as they are, and comparisons
+ * read only those.
+ */
+const NOT_IN_KEY = new Set(["seed", "indicators", "periods", "panelVersionId", "boundaryVersionId", "controlFor"]);
 
 /** Named parameters, in the order a sentence lists them, with how a reader calls them. */
 const NAMED: readonly (readonly [field: string, label: string])[] = [

@@ -30,6 +30,9 @@ import {
   type RegionPoints,
   type RegionValues,
   type SpatialWeights,
+  regressionDiagnostics,
+  SingularDesignError,
+  TooFewRegionsError,
 } from "@/lib/spatial";
 import type { ResolvedRunParams } from "./schemas";
 import { classifyGiStar } from "./significance";
@@ -44,6 +47,8 @@ import type {
   NotComputedReason,
   PeriodResult,
   PermutationFields,
+  RegressionFields,
+  StoredLagrangeTest,
   WeightsUsed,
 } from "./types";
 
@@ -107,6 +112,19 @@ export type PeriodParams = Pick<
  * row with status "not-computed" and a note saying why.
  */
 export function computePeriod(
+  geometry: RunGeometry,
+  params: PeriodParams,
+  indicator: string,
+  period: string,
+  values: RegionValues,
+  covariates: readonly CovariateValues[] = [],
+): Omit<PeriodResult, "deltaI"> {
+  // The regression on the covariates stands on its own (its own regions, its own messages); only runs with covariates carry the key.
+  const regression = covariates.length ? { regression: computeRegression(geometry, params, period, values, covariates) } : {};
+  return { ...computeStatistics(geometry, params, indicator, period, values), ...regression };
+}
+
+function computeStatistics(
   geometry: RunGeometry,
   params: PeriodParams,
   indicator: string,
@@ -251,6 +269,127 @@ export function computePeriod(
   };
 }
 
+/** One covariate's values in a period, keyed by region code (null = missing). */
+export interface CovariateValues {
+  readonly code: string;
+  readonly values: RegionValues;
+}
+
+/**
+ * OLS of one indicator-period on the covariates (with an intercept) over the
+ * regions that have a value of the indicator and of every covariate, on the
+ * run's weights restricted to those regions (and the island policy and
+ * transform applied) exactly as for missing values; then Moran's I of the
+ * residuals and the Lagrange multiplier tests. Never throws: a singular
+ * design or too few regions give fields with only `message` set.
+ */
+export function computeRegression(
+  geometry: RunGeometry,
+  params: Pick<PeriodParams, "islandPolicy" | "transform" | "alpha">,
+  period: string,
+  values: RegionValues,
+  covariates: readonly CovariateValues[],
+): RegressionFields {
+  const codes = covariates.map((c) => c.code);
+  const ids = geometry.baseWeights.ids;
+  const combined = new Map<string, number | null>();
+  let excluded = 0;
+  for (let i = 0; i < ids.length; i++) {
+    const y = usable(valueAt(values, ids[i], i));
+    const all = y !== null && covariates.every((c) => usable(valueAt(c.values, ids[i], i)) !== null);
+    if (y !== null && !all) excluded++;
+    combined.set(ids[i], all ? y : null);
+  }
+  const failed = (n: number, message: string): RegressionFields => ({
+    covariates: codes,
+    n,
+    excluded,
+    message,
+    coefficients: null,
+    rSquared: null,
+    adjustedRSquared: null,
+    sigma2: null,
+    moran: null,
+    lagrange: null,
+    suggestion: null,
+  });
+  let prepared: PreparedAnalysis;
+  try {
+    prepared = prepareAnalysis(geometry.baseWeights, combined, { islandPolicy: params.islandPolicy, transform: params.transform, points: geometry.points });
+  } catch (error) {
+    return failed(0, `The regression on ${quoted(codes)} could not be set up in ${period}: ${messageOf(error)}`);
+  }
+  const n = prepared.ids.length;
+  const indexOf = new Map(ids.map((id, i) => [id, i]));
+  const design = covariates.map((c) => ({
+    name: c.code,
+    values: Float64Array.from(prepared.ids, (id) => Number(valueAt(c.values, id, indexOf.get(id) ?? -1))),
+  }));
+  try {
+    const d = regressionDiagnostics(prepared.values, design, prepared.weights, { alpha: params.alpha });
+    const test = (t: { statistic: number; df: number; p: number }): StoredLagrangeTest => ({ statistic: finite(t.statistic), df: t.df, p: finite(t.p) });
+    return {
+      covariates: codes,
+      n,
+      excluded,
+      message: null,
+      coefficients: d.fit.coefficients.map((c) => ({ name: c.name, estimate: finite(c.estimate), standardError: finite(c.standardError), t: finite(c.t), p: finite(c.p) })),
+      rSquared: finite(d.fit.rSquared),
+      adjustedRSquared: finite(d.fit.adjustedRSquared),
+      sigma2: finite(d.fit.sigma2),
+      moran: {
+        I: finite(d.moran.I),
+        expectedI: finite(d.moran.expectedI),
+        variance: finite(d.moran.variance),
+        z: finite(d.moran.z),
+        pTwoSided: finite(d.moran.pTwoSided),
+        pGreater: finite(d.moran.pGreater),
+      },
+      lagrange: {
+        error: test(d.lagrange.error),
+        lag: test(d.lagrange.lag),
+        robustError: test(d.lagrange.robustError),
+        robustLag: test(d.lagrange.robustLag),
+        combined: test(d.lagrange.combined),
+      },
+      suggestion: d.suggestion,
+    };
+  } catch (error) {
+    if (error instanceof SingularDesignError) {
+      const named = error.covariates.length ? error.covariates : codes;
+      return failed(
+        n,
+        `Not fitted in ${period}: collinear covariates (${quoted(named)}) over the ${n} regions with every value. ${error.message} Drop or replace ${named.length === 1 ? "it" : "one of them"}.`,
+      );
+    }
+    if (error instanceof TooFewRegionsError) {
+      return failed(
+        n,
+        `Not fitted in ${period}: ${n} regions have a value of the indicator and of ${quoted(codes)}; an intercept and ${codes.length} covariate(s) need at least ${codes.length + 3}.`,
+      );
+    }
+    return failed(n, `The regression on ${quoted(codes)} could not be computed in ${period}: ${messageOf(error)}`);
+  }
+}
+
+function valueAt(values: RegionValues, id: string, index: number): unknown {
+  if (values instanceof Map) return values.get(id);
+  if (Array.isArray(values) || ArrayBuffer.isView(values)) return (values as ArrayLike<unknown>)[index];
+  return Object.prototype.hasOwnProperty.call(values, id) ? (values as Record<string, unknown>)[id] : undefined;
+}
+
+function usable(v: unknown): number | null {
+  return typeof v === "number" && Number.isFinite(v) ? v : null;
+}
+
+function finite(v: number): number | null {
+  return Number.isFinite(v) ? v : null;
+}
+
+function quoted(codes: readonly string[]): string {
+  return codes.map((c) => `"${c}"`).join(", ");
+}
+
 /** Local Moran with conditional permutation, plus the Moran scatter plot coordinates. */
 export function computeLocal(
   prepared: PreparedAnalysis,
@@ -362,9 +501,9 @@ export function computeIndicator(
   geometry: RunGeometry,
   params: PeriodParams,
   indicator: string,
-  periods: readonly IndicatorPeriodValues[],
+  periods: readonly (IndicatorPeriodValues & { readonly covariates?: readonly CovariateValues[] })[],
 ): PeriodResult[] {
-  return withChanges(periods.map(({ period, values }) => computePeriod(geometry, params, indicator, period, values)));
+  return withChanges(periods.map(({ period, values, covariates }) => computePeriod(geometry, params, indicator, period, values, covariates)));
 }
 
 /**

@@ -3,7 +3,9 @@
  * number, the panel version it analysed, its weights rule and transform, and
  * its permutations ("Run 7 · Regional panel v3 · queen, row-standardised ·
  * 999 perm."). Two runs of one panel that differ in method never share a
- * label. Pure; used by screens, the audit trail and digests alike.
+ * label. A run that controls for covariates ends with them ("· controls
+ * for heavy_industry, port_access"). Pure; used by screens, the audit trail
+ * and digests alike.
  */
 
 /** What a label needs of a run (RunSummary has all of it). */
@@ -12,7 +14,7 @@ export interface RunLabelInput {
   readonly number: number;
   readonly panelName: string;
   readonly panelVersion: number;
-  readonly params: { readonly weights: string; readonly transform: string; readonly permutations: number };
+  readonly params: { readonly weights: string; readonly transform: string; readonly permutations: number; readonly controlFor?: readonly string[] };
 }
 
 const counts = new Intl.NumberFormat("en-GB");
@@ -35,5 +37,11 @@ export function runLabel(run: RunLabelInput): string {
     `${run.panelName} v${run.panelVersion}`,
     weightsLabel(run.params.weights, run.params.transform),
     `${counts.format(run.params.permutations)} perm.`,
+    ...(run.params.controlFor?.length ? [controlForLabel(run.params.controlFor)] : []),
   ].join(" · ");
+}
+
+/** "controls for heavy_industry, port_access": the covariates of a run, by code. */
+export function controlForLabel(codes: readonly string[]): string {
+  return `controls for ${codes.join(", ")}`;
 }

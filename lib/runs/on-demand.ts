@@ -10,7 +10,7 @@ import { clusterTransitionTable, comparePeriods, robustnessStrip, type ClusterTr
 import { panelTransitions, type PanelTransitions } from "./panel-transitions";
 import { storedResult, type RunSummary } from "./queries";
 import { geometryFor } from "./worker";
-import type { GiStarFields, LocalFields, SignificanceClass } from "./types";
+import type { GiStarFields, LocalFields, RegressionFields, SignificanceClass } from "./types";
 
 function requirePeriod(run: RunSummary, period: string): void {
   if (!run.params.periods.includes(period)) throw new NotFoundError(`Run ${run.id} has no period "${period}".`);
@@ -37,6 +37,8 @@ export interface MapPeriod {
    * the run stored none: no local results, or a run from before Gi* was stored.
    */
   giStar: GiStarFields | null;
+  /** The regression on the run's covariates and its residual diagnostics; null when the run controls for nothing or this indicator is a covariate. */
+  regression: RegressionFields | null;
 }
 
 export async function mapPeriod(run: RunSummary, indicator: string, period: string): Promise<MapPeriod> {
@@ -62,6 +64,7 @@ export async function mapPeriod(run: RunSummary, indicator: string, period: stri
     values,
     local: stored.local,
     giStar: stored.gi_star,
+    regression: stored.regression,
   };
 }
 

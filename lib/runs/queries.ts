@@ -10,7 +10,7 @@ import { CATALOGUE_FIELDS, catalogueAnswerText, catalogueRowsOf, type CatalogueA
 import { selectBaseline } from "./comparability";
 import type { ResolvedRunParams } from "./schemas";
 import type { RunState } from "./store";
-import type { GiStarFields, LocalFields, SignificanceClass, WeightsUsed } from "./types";
+import type { GiStarFields, LocalFields, ModelSuggestionWord, RegressionFields, SignificanceClass, WeightsUsed } from "./types";
 
 export interface RunSummary {
   /** Global id: URLs and API parameters. */
@@ -193,6 +193,9 @@ const CATALOGUE_COLUMNS: Record<(typeof CATALOGUE_FIELDS)[number], string> = {
   gearyC: "geary_c",
   generalG: "general_g",
   localTests: "local_tests",
+  residualI: "residual_i",
+  residualP: "residual_p",
+  modelSuggestion: "model_suggestion",
 };
 
 /** Wire fields that are not a stored column, as the SQL that computes them from a run_results row `rr`. */
@@ -205,6 +208,8 @@ export interface CatalogueFilter {
   /** A run id, or null for the latest completed run of each indicator. */
   runId: number | null;
   classes?: readonly SignificanceClass[];
+  /** Only rows whose residual diagnostics suggest one of these (rows without covariates never match). */
+  suggestions?: readonly ModelSuggestionWord[];
   periodFrom?: string | null;
   periodTo?: string | null;
   /** Case-insensitive text in the indicator's code or label. */
@@ -234,6 +239,10 @@ export async function catalogueText(workspaceId: number, filter: CatalogueFilter
   if (filter.classes?.length) {
     bind.push(filter.classes);
     where.push(`rr.significance = ANY($${bind.length}::varchar[])`);
+  }
+  if (filter.suggestions?.length) {
+    bind.push(filter.suggestions);
+    where.push(`rr.model_suggestion = ANY($${bind.length}::varchar[])`);
   }
   if (filter.periodFrom) {
     bind.push(filter.periodFrom);
@@ -340,6 +349,13 @@ export interface TimelinePoint {
   generalGPseudoP: number | null;
   weights: WeightsUsed | null;
   localCounts: Record<string, number> | null;
+  /** Moran's I of the residuals after the run's covariates (null without covariates or when not fitted), with E[I] and its two-sided p. */
+  residualI: number | null;
+  residualExpectedI: number | null;
+  residualP: number | null;
+  modelSuggestion: ModelSuggestionWord | null;
+  /** Why the regression was not fitted in this period (names the covariates); null otherwise. */
+  regressionMessage: string | null;
 }
 
 export interface Timeline {
@@ -398,10 +414,16 @@ export async function timeline(workspaceId: number, indicator: string, runId: nu
     general_g_pseudo_p: number | null;
     weights: WeightsUsed | null;
     local_counts: Record<string, number> | null;
+    residual_i: number | null;
+    residual_p: number | null;
+    model_suggestion: ModelSuggestionWord | null;
+    residual_expected_i: number | null;
+    regression_message: string | null;
   }>(
     `SELECT period_key, status, note, n, excluded_missing, excluded_islands, i, expected_i, z_normality, z_randomisation, p_randomisation,
             variance_normality, variance_randomisation, perm_mean, perm_sd, perm_p, band_low, band_high, adjusted_p, significance, delta_i,
-            geary_c, geary_pseudo_p, general_g, general_g_pseudo_p, weights, local_counts
+            geary_c, geary_pseudo_p, general_g, general_g_pseudo_p, weights, local_counts, residual_i, residual_p, model_suggestion,
+            (regression->'moran'->>'expectedI')::double precision AS residual_expected_i, regression->>'message' AS regression_message
        FROM run_results WHERE run_id = $1 AND indicator_code = $2 ORDER BY period_index`,
     { bind: [run.id, indicator], type: QueryTypes.SELECT },
   );
@@ -436,6 +458,11 @@ export async function timeline(workspaceId: number, indicator: string, runId: nu
       generalGPseudoP: r.general_g_pseudo_p,
       weights: r.weights,
       localCounts: r.local_counts,
+      residualI: r.residual_i,
+      residualExpectedI: r.residual_expected_i,
+      residualP: r.residual_p,
+      modelSuggestion: r.model_suggestion,
+      regressionMessage: r.regression_message,
     })),
   };
 }
@@ -453,8 +480,9 @@ export async function storedResult(runId: number, indicator: string, period: str
     significance: SignificanceClass | null;
     local: LocalFields | null;
     gi_star: GiStarFields | null;
+    regression: RegressionFields | null;
   }>(
-    "SELECT status, note, n, i, expected_i, perm_p, adjusted_p, significance, local, gi_star FROM run_results WHERE run_id = $1 AND indicator_code = $2 AND period_key = $3",
+    "SELECT status, note, n, i, expected_i, perm_p, adjusted_p, significance, local, gi_star, regression FROM run_results WHERE run_id = $1 AND indicator_code = $2 AND period_key = $3",
     { bind: [runId, indicator, period], type: QueryTypes.SELECT },
   );
   return rows[0] ?? null;

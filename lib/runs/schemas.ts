@@ -52,6 +52,20 @@ const weightsRule = z
 
 const code = text({ min: 1, max: 120 });
 
+/** Most covariates a run may control for. */
+export const MAX_CONTROL_FOR = 10;
+
+const controlForSchema = z
+  .array(text({ min: 1, max: 120 }), { message: "controlFor must be a list of indicator codes." })
+  .max(MAX_CONTROL_FOR, `Control for at most ${MAX_CONTROL_FOR} indicators.`)
+  .superRefine((codes, ctx) => {
+    const seen = new Set<string>();
+    for (const [i, c] of codes.entries()) {
+      if (seen.has(c)) ctx.addIssue({ code: "custom", path: [i], message: `controlFor names indicator "${c}" twice.` });
+      seen.add(c);
+    }
+  });
+
 /** What a user chooses (start form, API body). */
 export const runParamsInputSchema = z.object({
   weights: weightsRule.default("queen"),
@@ -78,6 +92,13 @@ export const runParamsInputSchema = z.object({
    * each tail are as extreme as its own. Off by default.
    */
   sequential: z.boolean().default(false),
+  /**
+   * Other indicators of the same panel version to control for: each analysed
+   * indicator is also regressed on them (OLS with an intercept) and the
+   * spatial dependence left in the residuals is tested. Empty or absent =
+   * none.
+   */
+  controlFor: controlForSchema.optional(),
 });
 export type RunParamsInput = z.input<typeof runParamsInputSchema>;
 export type RunParamsChoice = z.output<typeof runParamsInputSchema>;
@@ -106,6 +127,12 @@ export const resolvedRunParamsSchema = z.object({
    * means every region used all the permutations.
    */
   sequentialExtremes: z.number().int().min(1).max(99_999).optional(),
+  /**
+   * Covariates of the residual diagnostics (indicators of the same panel
+   * version), present only when the run controls for something; absent
+   * (runs before the option, or without covariates) means none.
+   */
+  controlFor: controlForSchema.min(1).optional(),
   panelVersionId: z.number().int().positive(),
   boundaryVersionId: z.number().int().positive(),
   /**
@@ -143,6 +170,8 @@ const optionalRunId = runNumber.nullable().default(null);
 const period = text({ min: 1, max: 120 });
 
 export const SIGNIFICANCE_CLASSES = ["clustering", "dispersion", "not-significant"] as const;
+/** What the residual diagnostics of a run with covariates can suggest (lib/spatial/regression suggestModel). */
+export const MODEL_SUGGESTIONS = ["error", "lag", "both", "neither"] as const;
 
 export const catalogueQuerySchema = z.object({
   run: optionalRunId,
@@ -154,6 +183,12 @@ export const catalogueQuerySchema = z.object({
   from: period.nullable().default(null),
   to: period.nullable().default(null),
   q: text({ max: 200 }).nullable().default(null),
+  /** Rows whose residual diagnostics suggest one of these models (runs with covariates only). */
+  suggestion: z
+    .string()
+    .default("")
+    .transform((s) => s.split(",").filter(Boolean))
+    .pipe(z.array(z.enum(MODEL_SUGGESTIONS, { message: "suggestion must be error, lag, both or neither." }))),
 });
 
 export const timelineQuerySchema = z.object({ indicator: text({ min: 1, max: 120 }), run: optionalRunId });

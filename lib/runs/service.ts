@@ -91,6 +91,7 @@ export async function resolveRunParams(workspaceId: number, panelVersionId: numb
   if (indicators.length === 0 || periods.length === 0) {
     throw new RunInputError(`Panel "${version.panel_name}" version ${version.version} has no observations to analyse.`, "panelVersionId");
   }
+  const controlFor = controlForOf(version, dims.indicators, indicators, choice.controlFor ?? []);
   return resolvedRunParamsSchema.parse({
     weights: choice.weights,
     transform: choice.transform,
@@ -104,10 +105,54 @@ export async function resolveRunParams(workspaceId: number, panelVersionId: numb
     local: choice.local,
     // Only with local statistics, and only when asked: a run without it stores exactly the parameters it always did.
     ...(choice.local && choice.sequential ? { sequentialExtremes: SEQUENTIAL_EXTREMES } : {}),
+    // Only when asked: a run without covariates stores exactly the parameters it always did.
+    ...(controlFor.length ? { controlFor } : {}),
     panelVersionId,
     boundaryVersionId: version.boundary_version_id,
     method: RUN_METHOD,
   });
+}
+
+/**
+ * The covariates a run controls for, checked against the panel version: each
+ * an indicator of the version, and at least one analysed indicator left that
+ * is not a covariate (a covariate's own rows carry no regression).
+ * @throws RunInputError (422, field "controlFor") naming the problem.
+ */
+function controlForOf(version: PanelVersionRow, panelIndicators: readonly string[], analysed: readonly string[], wanted: readonly string[]): string[] {
+  const controlFor = dedupe(wanted);
+  if (controlFor.length === 0) return [];
+  const where = `panel "${version.panel_name}" version ${version.version}`;
+  const unknown = controlFor.filter((c) => !panelIndicators.includes(c));
+  if (unknown.length) {
+    throw new RunInputError(`Control for: ${where} has no indicator ${unknown.map((c) => `"${c}"`).join(", ")}; covariates must be indicators of the same panel version.`, "controlFor");
+  }
+  const explained = analysed.filter((c) => !controlFor.includes(c));
+  if (explained.length === 0) {
+    throw new RunInputError(
+      `Control for: ${analysed.length === 1 ? `"${analysed[0]}" is the run's only indicator` : "every indicator of the run is also a covariate"}, so nothing would be explained. Choose covariates other than the indicators you analyse.`,
+      "controlFor",
+    );
+  }
+  return controlFor;
+}
+
+/**
+ * Refuses (422, field "controlFor") covariates the boundaries have too few
+ * regions for: the regression needs at least two regions more than its
+ * coefficients (intercept and covariates) for its residual variance and
+ * residual Moran's I.
+ */
+async function requireEnoughRegions(version: PanelVersionRow, params: ResolvedRunParams, regionCount: number): Promise<void> {
+  const covariates = params.controlFor?.length ?? 0;
+  if (covariates === 0) return;
+  const needed = covariates + 3;
+  if (regionCount < needed) {
+    throw new RunInputError(
+      `Control for: boundaries "${version.boundary_set_name}" v${version.boundary_version} have ${regionCount} regions; an intercept and ${covariates} covariate(s) need at least ${needed}.`,
+      "controlFor",
+    );
+  }
 }
 
 /**
@@ -125,6 +170,7 @@ async function requireBuildableWeights(version: PanelVersionRow, params: Resolve
     build: () => weightsFromTopology(boundary.topology, params.weights, { object: boundary.objectName, idProperty: boundary.idProperty }),
   });
   if (problem) throw new RunInputError(problem, "weights");
+  await requireEnoughRegions(version, params, boundary.regionCodes.length);
 }
 
 function dedupe(values: readonly string[]): string[] {
@@ -156,7 +202,7 @@ interface RunActor {
 }
 
 /** The trail names a run as every screen does (lib/runs/label). */
-function runTarget(number: number, version: PanelVersionRow, params: Pick<ResolvedRunParams, "weights" | "transform" | "permutations">): string {
+function runTarget(number: number, version: PanelVersionRow, params: Pick<ResolvedRunParams, "weights" | "transform" | "permutations" | "controlFor">): string {
   return runLabel({ number, panelName: version.panel_name, panelVersion: version.version, params });
 }
 
@@ -176,6 +222,7 @@ function paramsSummary(params: ResolvedRunParams): Record<string, unknown> {
     seed: params.seed,
     local: params.local,
     ...(params.sequentialExtremes === undefined ? {} : { sequentialExtremes: params.sequentialExtremes }),
+    ...(params.controlFor === undefined ? {} : { controlFor: params.controlFor }),
   };
 }
 

@@ -71,9 +71,13 @@ export const RESULT_COLUMNS = [
   "local_counts",
   "local",
   "gi_star",
+  "regression",
+  "residual_i",
+  "residual_p",
+  "model_suggestion",
 ] as const;
 
-const JSON_COLUMNS = new Set(["exclusions", "weights", "local_counts", "local", "gi_star"]);
+const JSON_COLUMNS = new Set(["exclusions", "weights", "local_counts", "local", "gi_star", "regression"]);
 
 /** A finite number or null (NaN and ±Infinity are not stored as numbers). */
 function num(value: number | null | undefined): number | null {
@@ -133,6 +137,10 @@ export function resultRowValues(runId: number, periodIndex: number, row: PeriodR
     local_counts: row.local?.counts ?? null,
     local: row.local,
     gi_star: row.giStar,
+    regression: row.regression ?? null,
+    residual_i: num(row.regression?.moran?.I),
+    residual_p: num(row.regression?.moran?.pTwoSided),
+    model_suggestion: row.regression?.suggestion ?? null,
   };
   return RESULT_COLUMNS.map((c) => (JSON_COLUMNS.has(c) && values[c] !== null ? JSON.stringify(values[c]) : values[c]));
 }

@@ -176,6 +176,8 @@ export interface PeriodResult {
   readonly local: LocalFields | null;
   /** Local Gi* (computed whenever local results are; null otherwise). */
   readonly giStar: GiStarFields | null;
+  /** OLS on the run's covariates and its residual diagnostics; null (or absent) when the run controls for nothing or this indicator is a covariate. */
+  readonly regression?: RegressionFields | null;
   /** I of this period minus I of the previous period of the run (null when either is missing). */
   readonly deltaI: number | null;
 }
@@ -188,4 +190,61 @@ export interface RowSignificance {
   readonly decidingP: number | null;
   readonly adjustedP: number | null;
   readonly significance: SignificanceClass | null;
+}
+
+/** The model the Lagrange multiplier tests point to (lib/spatial/regression suggestModel). */
+export type ModelSuggestionWord = "error" | "lag" | "both" | "neither";
+
+export const MODEL_SUGGESTION_LABELS: Record<ModelSuggestionWord, string> = {
+  error: "spatial error",
+  lag: "spatial lag",
+  both: "both (lag and error)",
+  neither: "neither",
+};
+
+/** One Lagrange multiplier test as stored (statistic, degrees of freedom, p). */
+export interface StoredLagrangeTest {
+  readonly statistic: number | null;
+  readonly df: number;
+  readonly p: number | null;
+}
+
+/**
+ * The regression of one indicator-period on the run's covariates ("control
+ * for") and the spatial diagnostics of its residuals. Stored as one jsonb
+ * value (run_results.regression); null for runs without covariates and for
+ * the covariates' own rows. When the regression could not be fitted (a
+ * singular design, too few regions) only `covariates`, `n`, `excluded` and
+ * `message` are set.
+ */
+export interface RegressionFields {
+  /** The covariates, in the run's order. */
+  readonly covariates: readonly string[];
+  /** Regions in the regression (a value of the indicator and of every covariate, after the island policy). */
+  readonly n: number;
+  /** Regions with a value of the indicator left out because a covariate has none. */
+  readonly excluded: number;
+  /** Why the regression was not fitted in this period (names the covariates); null when it was. */
+  readonly message: string | null;
+  readonly coefficients: readonly { name: string; estimate: number | null; standardError: number | null; t: number | null; p: number | null }[] | null;
+  readonly rSquared: number | null;
+  readonly adjustedRSquared: number | null;
+  readonly sigma2: number | null;
+  /** Moran's I of the OLS residuals, with its moments under the regression null (normal approximation). */
+  readonly moran: {
+    readonly I: number | null;
+    readonly expectedI: number | null;
+    readonly variance: number | null;
+    readonly z: number | null;
+    readonly pTwoSided: number | null;
+    readonly pGreater: number | null;
+  } | null;
+  readonly lagrange: {
+    readonly error: StoredLagrangeTest;
+    readonly lag: StoredLagrangeTest;
+    readonly robustError: StoredLagrangeTest;
+    readonly robustLag: StoredLagrangeTest;
+    readonly combined: StoredLagrangeTest;
+  } | null;
+  readonly suggestion: ModelSuggestionWord | null;
 }

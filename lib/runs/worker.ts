@@ -59,7 +59,9 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
   const { params } = start;
   try {
     const geometry = await geometryFor(params);
-    const matrix = await loadPanelMatrix(params.panelVersionId, { indicators: [indicator], periods: params.periods });
+    // A run that controls for covariates regresses every indicator that is not itself one of them on them (compute.ts computeRegression).
+    const covariateCodes = params.controlFor && !params.controlFor.includes(indicator) ? params.controlFor : [];
+    const matrix = await loadPanelMatrix(params.panelVersionId, { indicators: [indicator, ...covariateCodes], periods: params.periods });
     const byPeriod = matrix.values.get(indicator);
     if (!byPeriod) throw new Error(`panel version ${params.panelVersionId} returned no values for indicator "${indicator}"`);
     const rows: Omit<PeriodResult, "deltaI">[] = [];
@@ -68,7 +70,12 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
       const period = params.periods[index];
       const values = byPeriod.get(period);
       if (!values) throw new Error(`panel version ${params.panelVersionId} returned no values for indicator "${indicator}" in period "${period}"`);
-      rows.push(computePeriod(geometry, params, indicator, period, values));
+      const covariates = covariateCodes.map((code) => {
+        const covariateValues = matrix.values.get(code)?.get(period);
+        if (!covariateValues) throw new Error(`panel version ${params.panelVersionId} returned no values for covariate "${code}" in period "${period}"`);
+        return { code, values: covariateValues };
+      });
+      rows.push(computePeriod(geometry, params, indicator, period, values, covariates));
       // Progress (and a look for cancellation) at most every 250 ms, and after the last period.
       const now = Date.now();
       if (now - lastReport > 250 || index === params.periods.length - 1) {

@@ -9,6 +9,8 @@
  *   districts, id property `code`). Planar kilometres (x east, y north), far from
  *   the origin so the coordinates cannot be mistaken for longitude/latitude.
  * - veldmark-panel.csv: long form region,period,indicator,value (2008–2024),
+ *   the share of jobs in heavy industry among them (a covariate for runs that
+ *   control for it),
  *   after a `# rate:` line declaring business closures per 1,000 working-age
  *   residents (the file carries the two counts; intake derives the rate).
  * - indicators.json: code, label, unit, description, source, higherIsBetter
@@ -24,6 +26,7 @@ import { buildMap, type District } from "./veldmark/map";
 import { districtName, provinceName } from "./veldmark/names";
 import { SeededRandom } from "./veldmark/random";
 import { generateIndicators, INDICATORS, YEARS } from "./veldmark/indicators";
+import { generateHeavyIndustry, HEAVY_INDUSTRY, HEAVY_INDUSTRY_META } from "./veldmark/industry";
 import { CLOSURE_INDICATORS, CLOSURE_RATE, CLOSURE_RATE_DECLARATION, CLOSURES, WORKING_AGE, generateClosures } from "./veldmark/closures";
 import type { Point } from "./veldmark/geometry";
 
@@ -213,6 +216,13 @@ export function generateVeldmark(options: GenerateOptions = {}): VeldmarkOutput 
     ordered.map((d) => d.landmass !== "mainland"),
   );
 
+  // The covariate (share of jobs in heavy industry) from a third stream of its own.
+  const heavyIndustry = generateHeavyIndustry(new SeededRandom((options.seed ?? DEFAULT_SEED) + 2), {
+    neighbours: neighbourLists,
+    capital: closeness(map.capital, 90),
+    shipyard: closeness(map.shipyard, 75),
+  });
+
   const years = YEARS.slice(0, options.years ?? YEARS.length);
   const { events, population, multiplier } = CLOSURE_RATE_DECLARATION;
   const lines = [`# rate: ${CLOSURE_RATE} = ${events} / ${population} * ${multiplier}`, "region,period,indicator,value"];
@@ -226,6 +236,7 @@ export function generateVeldmark(options: GenerateOptions = {}): VeldmarkOutput 
       });
     }
   }
+  for (const year of years) heavyIndustry[year].forEach((value, i) => lines.push(`${codes[i]},${year},${HEAVY_INDUSTRY},${value.toFixed(1)}`));
   for (const [code, values] of [
     [CLOSURES, counts.closures],
     [WORKING_AGE, counts.population],
@@ -237,7 +248,7 @@ export function generateVeldmark(options: GenerateOptions = {}): VeldmarkOutput 
     files: {
       "veldmark.topojson": `${JSON.stringify(topology)}\n`,
       "veldmark-panel.csv": `${lines.join("\n")}\n`,
-      "indicators.json": `${JSON.stringify([...INDICATORS, ...CLOSURE_INDICATORS], null, 2)}\n`,
+      "indicators.json": `${JSON.stringify([...INDICATORS, HEAVY_INDUSTRY_META, ...CLOSURE_INDICATORS], null, 2)}\n`,
     },
     summary: {
       districts: ordered.length,

@@ -23,6 +23,8 @@ import { closeS3 } from "@/lib/storage/s3";
 
 /** The demo run's seed: fixed, so every fresh start shows the same numbers. */
 export const DEMO_SEED = 20_240_101;
+/** The demo run's covariates (scripts/demo/veldmark/industry.ts). */
+export const DEMO_CONTROL_FOR = ["heavy_industry_share"];
 const TAG = "[demo-analysis]";
 const log = (message: string) => console.log(`${TAG} ${message}`);
 
@@ -54,7 +56,9 @@ async function main(): Promise<void> {
   // Every indicator but the counts behind a declared rate (business closures and the working-age population): the rate is what is compared across districts.
   const counts = new Set((await rateDeclarationsOf(workspace.id)).flatMap((d) => [d.events, d.population]));
   const indicators = (await panelDimensions(version.panelVersionId)).indicators.filter((code) => !counts.has(code));
-  const params = await resolveRunParams(workspace.id, version.panelVersionId, runParamsInputSchema.parse({ seed: DEMO_SEED, indicators }));
+  // Controls for the invented heavy-industry share when the panel has it, so the timeline shows the clustering that remains after it.
+  const controlFor = DEMO_CONTROL_FOR.filter((code) => indicators.includes(code));
+  const params = await resolveRunParams(workspace.id, version.panelVersionId, runParamsInputSchema.parse({ seed: DEMO_SEED, indicators, controlFor }));
   const runId = await insertRun({ workspaceId: workspace.id, params, createdBy: null, origin: "demo" });
   log(`run ${runId}: ${params.indicators.length} indicators × ${params.periods.length} periods of "${version.panelName}" v${version.version}, ${params.permutations} permutations, seed ${params.seed}`);
   for (const indicator of params.indicators) {

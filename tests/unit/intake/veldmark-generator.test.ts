@@ -65,7 +65,7 @@ describe("Veldmark demo generator", () => {
     });
     expect(report.ok).toBe(true);
     expect(report.warnings).toEqual([]);
-    expect(report.rows).toBe(ids.length * 17 * 9);
+    expect(report.rows).toBe(ids.length * 17 * 10);
     expect(report.periods).toEqual(Array.from({ length: 17 }, (_, i) => String(2008 + i)));
     expect(report.indicators).toEqual([
       "unemployment_rate",
@@ -75,6 +75,7 @@ describe("Veldmark demo generator", () => {
       "business_births_per_1000",
       "broadband_coverage",
       "population_change",
+      "heavy_industry_share",
       "business_closures",
       "working_age_population",
       "business_closures_per_1000",

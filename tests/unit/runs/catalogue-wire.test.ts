@@ -19,6 +19,9 @@ const tuple = (indicator: string, period: string, I: number | null): CatalogueTu
   0.8,
   0.02,
   I === null ? null : 49,
+  I === null ? null : I / 3,
+  I === null ? null : 0.2,
+  I === null ? null : "error",
 ];
 
 describe("catalogue wire format", () => {
@@ -34,7 +37,7 @@ describe("catalogue wire format", () => {
     expect(rows).toHaveLength(2);
     // Every field name maps to the tuple position it names.
     rows.forEach((row, r) => CATALOGUE_FIELDS.forEach((field, k) => expect(row[field]).toEqual(answer.rows[r][k])));
-    expect(rows[0]).toMatchObject({ indicatorLabel: "Jobless rate", unit: "%", I: 0.31, z: 3.1, significance: "clustering" });
+    expect(rows[0]).toMatchObject({ indicatorLabel: "Jobless rate", unit: "%", I: 0.31, z: 3.1, significance: "clustering", residualI: 0.31 / 3, residualP: 0.2, modelSuggestion: "error" });
     expect(rows[1]).toMatchObject({ status: "not-computed", I: null, note: "The indicator is constant" });
   });
 

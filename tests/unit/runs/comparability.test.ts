@@ -29,6 +29,8 @@ const run = (id: number, params: Record<string, unknown> = {}, panelId = 1): Com
 describe("comparability key", () => {
   it("ignores the seed, the chosen indicators and periods, and which version of the panel", () => {
     expect(comparable(run(1), run(2, { seed: 99, indicators: ["u", "b"], periods: ["2014"], panelVersionId: 11, boundaryVersionId: 4 }))).toBe(true);
+    // Covariates add a regression beside each row and change none of the numbers compared.
+    expect(comparable(run(1), run(2, { controlFor: ["heavy_industry_share"] }))).toBe(true);
   });
 
   it.each([

@@ -52,6 +52,7 @@ describe("run parameters", () => {
       from: "2012",
       to: null,
       q: null,
+      suggestion: [],
     });
     expect(catalogueQuerySchema.safeParse({ class: "maybe" }).success).toBe(false);
   });

@@ -11,7 +11,7 @@ export const GET = memberRoute({ capability: "results.view" }, async ({ member, 
   const f = search.value;
   try {
     // JSON text assembled from PostgreSQL's own tuple text (lib/runs/catalogue-wire), never parsed here.
-    const text = await catalogueText(member.workspace.id, { runId: f.run, classes: f.class, periodFrom: f.from, periodTo: f.to, text: f.q });
+    const text = await catalogueText(member.workspace.id, { runId: f.run, classes: f.class, suggestions: f.suggestion, periodFrom: f.from, periodTo: f.to, text: f.q });
     return new Response(text, { headers: { "content-type": "application/json" } });
   } catch (error) {
     return errorResponse(error);

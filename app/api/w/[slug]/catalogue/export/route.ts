@@ -3,7 +3,7 @@ import { parseSearch } from "@/lib/http/params";
 import { toCsv } from "@/lib/runs/csv";
 import { catalogueRows } from "@/lib/runs/queries";
 import { catalogueQuerySchema } from "@/lib/runs/schemas";
-import { SIGNIFICANCE_LABELS } from "@/lib/runs/types";
+import { MODEL_SUGGESTION_LABELS, SIGNIFICANCE_LABELS } from "@/lib/runs/types";
 
 export const dynamic = "force-dynamic";
 
@@ -13,9 +13,9 @@ export const GET = memberRoute({ capability: "runs.manage" }, async ({ member, r
   if (!search.ok) return search.response;
   const f = search.value;
   try {
-    const rows = await catalogueRows(member.workspace.id, { runId: f.run, classes: f.class, periodFrom: f.from, periodTo: f.to, text: f.q });
+    const rows = await catalogueRows(member.workspace.id, { runId: f.run, classes: f.class, suggestions: f.suggestion, periodFrom: f.from, periodTo: f.to, text: f.q });
     const csv = toCsv(
-      ["run", "indicator", "indicator_label", "period", "n", "moran_i", "expected_i", "z_randomisation", "p_randomisation", "pseudo_p", "adjusted_p", "significance", "delta_i", "geary_c", "general_g", "note"],
+      ["run", "indicator", "indicator_label", "period", "n", "moran_i", "expected_i", "z_randomisation", "p_randomisation", "pseudo_p", "adjusted_p", "significance", "delta_i", "geary_c", "general_g", "residual_moran_i", "residual_p", "suggested_model", "note"],
       rows.map((r) => [
         r.runId,
         r.indicator,
@@ -32,6 +32,9 @@ export const GET = memberRoute({ capability: "runs.manage" }, async ({ member, r
         r.deltaI,
         r.gearyC,
         r.generalG,
+        r.residualI,
+        r.residualP,
+        r.modelSuggestion ? MODEL_SUGGESTION_LABELS[r.modelSuggestion] : null,
         r.note,
       ]),
     );
