@@ -200,7 +200,8 @@ type RunRow = {
 };
 /** The label's parameters out of stored run params (JSON). */
 function labelParams(params: Record<string, unknown>) {
-  return { weights: String(params.weights ?? ""), transform: String(params.transform ?? ""), permutations: Number(params.permutations ?? 0) };
+  const eb = Array.isArray(params.empiricalBayes) ? params.empiricalBayes.map((d: unknown) => ({ indicator: String((d as { indicator?: unknown })?.indicator ?? "") })) : undefined;
+  return { weights: String(params.weights ?? ""), transform: String(params.transform ?? ""), permutations: Number(params.permutations ?? 0), ...(eb ? { empiricalBayes: eb } : {}) };
 }
 
 const toRun = (r: RunRow): RunRef => ({

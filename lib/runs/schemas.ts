@@ -22,6 +22,10 @@ export const TRANSFORMS = ["row-standardised", "binary"] as const;
 /** Most permutations a run may use (the start form and the stored parameters). */
 export const MAX_RUN_PERMUTATIONS = 99_999;
 export const ISLAND_POLICIES = ["exclude", "keep", "attach"] as const;
+/** How a run treats indicators declared as rates (events / population). */
+export const RATE_TREATMENTS = ["raw", "empirical-bayes"] as const;
+export type RateTreatment = (typeof RATE_TREATMENTS)[number];
+
 export const CORRECTIONS = ["none", "bonferroni", "fdr"] as const;
 
 export const CORRECTION_LABELS: Record<(typeof CORRECTIONS)[number], string> = {
@@ -78,6 +82,13 @@ export const runParamsInputSchema = z.object({
    * each tail are as extreme as its own. Off by default.
    */
   sequential: z.boolean().default(false),
+  /**
+   * "empirical-bayes": Moran's I (global and local) of every declared rate
+   * indicator of the run is computed on empirical-Bayes standardised rates
+   * (Assunção & Reis 1999) from the rate's events and population; other
+   * indicators are computed as before. Raw by default.
+   */
+  rates: z.enum(RATE_TREATMENTS).default("raw"),
 });
 export type RunParamsInput = z.input<typeof runParamsInputSchema>;
 export type RunParamsChoice = z.output<typeof runParamsInputSchema>;
@@ -106,6 +117,15 @@ export const resolvedRunParamsSchema = z.object({
    * means every region used all the permutations.
    */
   sequentialExtremes: z.number().int().min(1).max(99_999).optional(),
+  /**
+   * Present only when the run asked for empirical-Bayes standardisation of
+   * rates: the rate indicators of the run so treated, each with the events and
+   * population indicators it was standardised from (frozen at the start, so a
+   * later change to the declaration does not change what the run means).
+   * Absent (runs before the option, or with raw rates) means every indicator
+   * was analysed on its own values.
+   */
+  empiricalBayes: z.array(z.object({ indicator: code, events: code, population: code })).min(1).optional(),
   panelVersionId: z.number().int().positive(),
   boundaryVersionId: z.number().int().positive(),
   /**

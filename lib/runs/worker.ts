@@ -59,7 +59,10 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
   const { params } = start;
   try {
     const geometry = await geometryFor(params);
-    const matrix = await loadPanelMatrix(params.panelVersionId, { indicators: [indicator], periods: params.periods });
+    // A rate the run standardises also needs its events and population (the same period's values).
+    const rate = params.empiricalBayes?.find((d) => d.indicator === indicator) ?? null;
+    const codes = rate ? [indicator, rate.events, rate.population] : [indicator];
+    const matrix = await loadPanelMatrix(params.panelVersionId, { indicators: codes, periods: params.periods });
     const byPeriod = matrix.values.get(indicator);
     if (!byPeriod) throw new Error(`panel version ${params.panelVersionId} returned no values for indicator "${indicator}"`);
     const rows: Omit<PeriodResult, "deltaI">[] = [];
@@ -68,7 +71,15 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
       const period = params.periods[index];
       const values = byPeriod.get(period);
       if (!values) throw new Error(`panel version ${params.panelVersionId} returned no values for indicator "${indicator}" in period "${period}"`);
-      rows.push(computePeriod(geometry, params, indicator, period, values));
+      const rateInputs = rate
+        ? {
+            events: rate.events,
+            population: rate.population,
+            eventValues: matrix.values.get(rate.events)?.get(period) ?? new Map<string, number | null>(),
+            populationValues: matrix.values.get(rate.population)?.get(period) ?? new Map<string, number | null>(),
+          }
+        : undefined;
+      rows.push(computePeriod(geometry, params, indicator, period, values, rateInputs));
       // Progress (and a look for cancellation) at most every 250 ms, and after the last period.
       const now = Date.now();
       if (now - lastReport > 250 || index === params.periods.length - 1) {
