@@ -48,16 +48,16 @@ export function rateOf(region: RegionRates | null | undefined, layer: RateLayer)
 
 export function RateLayerSwitch({ value, onChange }: { value: RateLayer; onChange: (layer: RateLayer) => void }) {
   return (
-    <div className="flex flex-wrap items-center gap-2" role="group" aria-label="Rate layer" data-testid="rate-layer-switch">
-      <span className="text-xs font-semibold uppercase tracking-wider text-ink-400">Rate layer</span>
+    <div role="radiogroup" aria-label="Rate layer" className="inline-flex rounded-md border border-ink-200 bg-white p-0.5 text-sm" data-testid="rate-layer-switch">
       {RATE_LAYERS.map((layer) => (
         <button
           key={layer}
           type="button"
-          aria-pressed={value === layer}
-          data-testid={`rate-layer-${layer}`}
+          role="radio"
+          aria-checked={value === layer}
           onClick={() => onChange(layer)}
-          className={`rounded-md px-3 py-1 text-sm ring-1 ring-ink-100 ${value === layer ? "bg-ochre-500 text-white" : "bg-white text-ink-700 hover:bg-ochre-50"}`}
+          data-layer={layer}
+          className={`rounded px-3 py-1 ${value === layer ? "bg-ochre-600 text-white" : "text-ink-600 hover:bg-ochre-50"}`}
         >
           {RATE_LAYER_NAMES[layer]}
         </button>

@@ -36,7 +36,7 @@ function lattice(size = 7): SpatialWeights {
   }
   ids.push("isle");
   lists.push([]);
-  return weightsFromNeighbourLists(ids, lists, { symmetric: true });
+  return weightsFromNeighbourLists(ids, lists, { rule: "rook", transform: "binary" });
 }
 
 const geometry: RunGeometry = { baseWeights: lattice() };
