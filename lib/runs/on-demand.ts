@@ -152,12 +152,22 @@ export async function robustness(run: RunSummary, indicator: string, period: str
   const key = `${run.id}|${indicator}|${period}`;
   const cached = robustnessCache.get(key);
   if (cached) return cached;
+  const eb = run.params.empiricalBayes?.find((d) => d.indicator === indicator) ?? null;
   const [boundary, matrix] = await Promise.all([
     loadBoundaryTopology(run.params.boundaryVersionId),
-    loadPanelMatrix(run.params.panelVersionId, { indicators: [indicator], periods: [period] }),
+    loadPanelMatrix(run.params.panelVersionId, { indicators: eb ? [indicator, eb.events, eb.population] : [indicator], periods: [period] }),
   ]);
-  const values = matrix.values.get(indicator)?.get(period) ?? new Map<string, number | null>();
-  const entries = robustnessStrip(boundary.topology, { object: boundary.objectName, idProperty: boundary.idProperty }, run.params, values);
+  const empty = new Map<string, number | null>();
+  const values = matrix.values.get(indicator)?.get(period) ?? empty;
+  const rate = eb
+    ? {
+        events: eb.events,
+        population: eb.population,
+        eventValues: matrix.values.get(eb.events)?.get(period) ?? empty,
+        populationValues: matrix.values.get(eb.population)?.get(period) ?? empty,
+      }
+    : undefined;
+  const entries = robustnessStrip(boundary.topology, { object: boundary.objectName, idProperty: boundary.idProperty }, run.params, values, rate);
   robustnessCache.set(key, entries);
   if (robustnessCache.size > 200) robustnessCache.delete(robustnessCache.keys().next().value as string);
   return entries;

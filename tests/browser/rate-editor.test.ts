@@ -58,12 +58,14 @@ it("a steward declares a rate in the indicator editor, sees it saved, and takes 
   await signIn(page, steward.email, steward.password);
   await page.goto(`/w/${slug}/intake`);
   const item = page.getByTestId("indicators").locator("li", { hasText: CODE });
+  // Only one indicator is edited at a time; its form replaces the line that named the code.
+  const form = page.getByTestId("indicators").locator("form");
   await item.getByRole("button", { name: "Edit" }).click();
-  await item.getByLabel("This indicator is a rate").check();
-  await item.getByLabel("Events").selectOption(EVENTS);
-  await item.getByLabel("Population").selectOption(POPULATION);
-  await item.getByLabel("Multiplier").selectOption("1000");
-  await item.getByRole("button", { name: "Save" }).click();
+  await form.getByLabel("This indicator is a rate").check();
+  await form.getByLabel("Events").selectOption(EVENTS);
+  await form.getByLabel("Population").selectOption(POPULATION);
+  await form.getByLabel("Multiplier").selectOption("1000");
+  await form.getByRole("button", { name: "Save" }).click();
 
   const line = page.getByTestId(`rate-${CODE}`);
   await expect(line.innerText()).resolves.toBe(`Rate: ${EVENTS} / ${POPULATION} × 1,000 (per 1,000)`);
@@ -75,8 +77,8 @@ it("a steward declares a rate in the indicator editor, sees it saved, and takes 
 
   // Taken back: the line goes, and so does the stored declaration.
   await item.getByRole("button", { name: "Edit" }).click();
-  await item.getByLabel("This indicator is a rate").uncheck();
-  await item.getByRole("button", { name: "Save" }).click();
+  await form.getByLabel("This indicator is a rate").uncheck();
+  await form.getByRole("button", { name: "Save" }).click();
   await page.getByTestId(`rate-${CODE}`).waitFor({ state: "detached" });
   expect((await storedRate()).events).toBeNull();
 });

@@ -1,6 +1,8 @@
 import { QueryTypes } from "sequelize";
 import { GET as getRates } from "@/app/api/w/[slug]/map/rates/route";
 import { GET as getMap } from "@/app/api/w/[slug]/map/route";
+import { GET as getRobustness } from "@/app/api/w/[slug]/timeline/robustness/route";
+import type { RobustnessEntry } from "@/lib/runs/compare";
 import { getSessionUser, type SessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
@@ -94,6 +96,17 @@ describe("a run with empirical-Bayes standardised rates", () => {
     expect(rate.map.note).toMatch(/^EB-standardised: /);
     const other = (await (await getMap(get(`indicator=${OTHER}&period=2014&run=${runId}`), ctx(slug))).json()) as { map: MapPeriod };
     expect(other.map.note ?? "").not.toMatch(/EB-standardised/);
+  });
+
+  it("checks the rate's robustness to the weights on the same standardised values: the run's own rule gives the stored I", async () => {
+    signedInAs(reader);
+    const rate = (await (await getMap(get(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx(slug))).json()) as { map: MapPeriod };
+    const response = await getRobustness(get(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx(slug));
+    expect(response.status).toBe(200);
+    const { entries } = (await response.json()) as { entries: RobustnessEntry[] };
+    const queen = entries.find((e) => e.rule === "queen");
+    expect(queen?.I).toBeCloseTo(rate.map.I ?? Number.NaN, 12);
+    expect(queen?.pseudoP).toBe(rate.map.pseudoP);
   });
 
   it("is refused (422, field rates) when no chosen indicator is a declared rate", async () => {
