@@ -61,10 +61,11 @@ it("a steward declares a rate in the indicator editor, sees it saved, and takes 
   // Only one indicator is edited at a time; its form replaces the line that named the code.
   const form = page.getByTestId("indicators").locator("form");
   await item.getByRole("button", { name: "Edit" }).click();
-  await form.getByLabel("This indicator is a rate").check();
-  await form.getByLabel("Events").selectOption(EVENTS);
-  await form.getByLabel("Population").selectOption(POPULATION);
-  await form.getByLabel("Multiplier").selectOption("1000");
+  await form.getByRole("checkbox", { name: /^This indicator is a rate/ }).check();
+  // Each select sits inside its label, so its name starts with the label's word.
+  await form.getByRole("combobox", { name: /^Events/ }).selectOption(EVENTS);
+  await form.getByRole("combobox", { name: /^Population/ }).selectOption(POPULATION);
+  await form.getByRole("combobox", { name: /^Multiplier/ }).selectOption("1000");
   await form.getByRole("button", { name: "Save" }).click();
 
   const line = page.getByTestId(`rate-${CODE}`);
@@ -77,7 +78,7 @@ it("a steward declares a rate in the indicator editor, sees it saved, and takes 
 
   // Taken back: the line goes, and so does the stored declaration.
   await item.getByRole("button", { name: "Edit" }).click();
-  await form.getByLabel("This indicator is a rate").uncheck();
+  await form.getByRole("checkbox", { name: /^This indicator is a rate/ }).uncheck();
   await form.getByRole("button", { name: "Save" }).click();
   await page.getByTestId(`rate-${CODE}`).waitFor({ state: "detached" });
   expect((await storedRate()).events).toBeNull();

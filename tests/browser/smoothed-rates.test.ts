@@ -101,4 +101,9 @@ it("the demo run standardises the closures rate, and its map switches between ra
   await layers.getByRole("radio", { name: "Raw rate" }).click();
   await page.getByRole("img", { name: `Raw rate map, ${a}`, exact: true }).waitFor();
   expect(await valueOf()).toBe(raw);
+
+  // The queue lists which indicators the run standardised.
+  await page.goto(`/w/${slug}/runs`);
+  await expect(page.getByTestId(`run-${runId}-rates`).innerText()).resolves.toMatch(new RegExp(`EB-standardised \\(${INDICATOR}\\)`));
+  await expect(page.locator(`[data-testid="run-${runId}"] [data-testid="run-label"]`).innerText()).resolves.toMatch(/· EB-standardised$/);
 });
