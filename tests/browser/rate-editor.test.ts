@@ -80,6 +80,9 @@ it("a steward declares a rate in the indicator editor, sees it saved, and takes 
   await item.getByRole("button", { name: "Edit" }).click();
   await form.getByRole("checkbox", { name: /^This indicator is a rate/ }).uncheck();
   await form.getByRole("button", { name: "Save" }).click();
-  await page.getByTestId(`rate-${CODE}`).waitFor({ state: "detached" });
+  // Saved when the form closes and the indicator's line is back, without its rate.
+  await form.waitFor({ state: "detached" });
+  await item.getByRole("button", { name: "Edit" }).waitFor();
+  expect(await page.getByTestId(`rate-${CODE}`).count()).toBe(0);
   expect((await storedRate()).events).toBeNull();
 });
