@@ -134,9 +134,9 @@ export function RateChoropleth({
         <div className="mt-3">
           <div className="h-2.5 w-full rounded-sm" style={{ background: `linear-gradient(to right, ${RAMP.join(",")})` }} />
           <div className="mt-1 flex justify-between text-xs tabular-nums text-ink-500" data-testid={`${testId}-legend`}>
-            <span>{fmt(scale.domain[0])}</span>
-            <span>overall {fmt(rates.overallRate)}</span>
-            <span>{fmt(scale.domain[1])}</span>
+            <span>{formatValue(scale.domain[0])}</span>
+            <span>overall rate {fmt(rates.overallRate)}</span>
+            <span>{formatValue(scale.domain[1])}</span>
           </div>
         </div>
       ) : null}

@@ -213,7 +213,7 @@ export async function mapRates(run: RunSummary, workspaceId: number, indicator: 
   requirePeriod(run, period);
   const declared = (await rateDeclarationsOf(workspaceId)).find((d) => d.indicator === indicator) ?? null;
   const frozen = run.params.empiricalBayes?.find((d) => d.indicator === indicator) ?? null;
-  const rate = frozen ? { events: frozen.events, population: frozen.population, multiplier: declared?.multiplier ?? 1 } : declared;
+  const rate = frozen ?? declared;
   const empty: MapRates = { period, rate: null, overallRate: null, regions: {}, problem: null };
   if (!rate) return empty;
   const spec = { events: rate.events, population: rate.population, multiplier: rate.multiplier };

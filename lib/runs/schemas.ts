@@ -120,12 +120,12 @@ export const resolvedRunParamsSchema = z.object({
   /**
    * Present only when the run asked for empirical-Bayes standardisation of
    * rates: the rate indicators of the run so treated, each with the events and
-   * population indicators it was standardised from (frozen at the start, so a
+   * population indicators it was standardised from and its multiplier (frozen at the start, so a
    * later change to the declaration does not change what the run means).
    * Absent (runs before the option, or with raw rates) means every indicator
    * was analysed on its own values.
    */
-  empiricalBayes: z.array(z.object({ indicator: code, events: code, population: code })).min(1).optional(),
+  empiricalBayes: z.array(z.object({ indicator: code, events: code, population: code, multiplier: z.number().positive() })).min(1).optional(),
   panelVersionId: z.number().int().positive(),
   boundaryVersionId: z.number().int().positive(),
   /**

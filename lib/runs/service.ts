@@ -92,12 +92,12 @@ export async function resolveRunParams(workspaceId: number, panelVersionId: numb
     throw new RunInputError(`Panel "${version.panel_name}" version ${version.version} has no observations to analyse.`, "panelVersionId");
   }
   const sortedIndicators = [...indicators].sort();
-  let empiricalBayes: { indicator: string; events: string; population: string }[] | undefined;
+  let empiricalBayes: { indicator: string; events: string; population: string; multiplier: number }[] | undefined;
   if (choice.rates === "empirical-bayes") {
     // The run's rate indicators whose events and population are both in this version.
     empiricalBayes = (await rateDeclarationsOf(workspaceId))
       .filter((d) => sortedIndicators.includes(d.indicator) && dims.indicators.includes(d.events) && dims.indicators.includes(d.population))
-      .map((d) => ({ indicator: d.indicator, events: d.events, population: d.population }))
+      .map((d) => ({ indicator: d.indicator, events: d.events, population: d.population, multiplier: d.multiplier }))
       .sort((x, y) => (x.indicator < y.indicator ? -1 : x.indicator > y.indicator ? 1 : 0));
     if (empiricalBayes.length === 0) {
       throw new RunInputError(

@@ -61,7 +61,7 @@ async function islandCounts(period: string): Promise<{ events: number; populatio
 }
 
 it("the demo run standardises the closures rate, and its map switches between raw, global and local EB rates", async () => {
-  expect(params.empiricalBayes).toEqual([{ indicator: INDICATOR, events: EVENTS, population: POPULATION }]);
+  expect(params.empiricalBayes).toEqual([{ indicator: INDICATOR, events: EVENTS, population: POPULATION, multiplier: 1000 }]);
   const a = params.periods[0];
   const b = params.periods[params.periods.length - 1];
   const { events, population } = await islandCounts(a);

@@ -86,7 +86,7 @@ afterAll(async () => {
 describe("a run with empirical-Bayes standardised rates", () => {
   it("records the standardised rate with its events and population, and only that indicator", async () => {
     const [run] = await db().query<{ params: { empiricalBayes?: unknown } }>("SELECT params FROM runs WHERE id = $1", { bind: [runId], type: QueryTypes.SELECT });
-    expect(run.params.empiricalBayes).toEqual([{ indicator: RATE.indicator, events: RATE.events, population: RATE.population }]);
+    expect(run.params.empiricalBayes).toEqual([{ indicator: RATE.indicator, events: RATE.events, population: RATE.population, multiplier: RATE.multiplier }]);
   });
 
   it("says so beside the rate's results and not beside the other indicator's", async () => {

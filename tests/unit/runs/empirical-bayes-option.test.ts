@@ -104,7 +104,7 @@ describe("run parameter rates", () => {
   });
 
   it("stores the standardised rates with their events and population, never an empty list", () => {
-    const eb = [{ indicator: "closures_per_1000", events: "closures", population: "working_age" }];
+    const eb = [{ indicator: "closures_per_1000", events: "closures", population: "working_age", multiplier: 1000 }];
     expect(resolvedRunParamsSchema.parse({ ...stored, empiricalBayes: eb }).empiricalBayes).toEqual(eb);
     expect(resolvedRunParamsSchema.safeParse({ ...stored, empiricalBayes: [] }).success).toBe(false);
   });
