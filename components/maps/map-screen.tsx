@@ -12,7 +12,7 @@ import { EChart, INK, MUTED } from "@/components/charts/echart";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
 import { fmt, fmtP, Notice, Panel, SignificanceBadge } from "@/components/runs/format";
 import { CLUSTER_CLASS_COLOURS, CLUSTER_CLASS_NAMES, CLUSTER_CLASS_ORDER, clusterClassLegendSentence } from "@/lib/runs/cluster-classes";
-import { compareQuery, geometryQuery, mapQuery } from "@/components/runs/query-options";
+import { compareQuery, geometryQuery, mapQuery, mapRatesQuery } from "@/components/runs/query-options";
 import { LocalInferenceNote } from "@/components/runs/reachability-note";
 import type { ClusterClass, IndependenceTest } from "@/lib/spatial";
 import type { MapPeriod } from "@/lib/runs/on-demand";
@@ -24,6 +24,7 @@ import { RegressionPanel } from "@/components/runs/regression-panel";
 import { PanelTransitions } from "./panel-transitions";
 import { RegionMap, useRegionFeatures } from "./region-map";
 import { GiStarDetailRows, GiStarPanel, LocalMapViewSwitch } from "./gi-star-map";
+import { RateChoropleth, RateLayerSwitch, rateScale, type RateLayer } from "./rate-layers";
 import type { LocalMapView } from "@/lib/runs/gi-star-classes";
 
 const CLASSES = CLUSTER_CLASS_ORDER;
@@ -42,6 +43,12 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
   const [localView, setLocalView] = useState<LocalMapView>("clusters");
   const active = hovered ?? selected;
   const unit = mapA.data?.indicator.unit ?? "";
+  // A declared rate gets three layers: raw, global and local empirical-Bayes rates.
+  const isRate = Boolean(mapA.data?.indicator.rate);
+  const ratesA = useQuery(mapRatesQuery(slug, indicator, runId, a, isRate));
+  const ratesB = useQuery(mapRatesQuery(slug, indicator, runId, b, isRate));
+  const [rateLayer, setRateLayer] = useState<RateLayer>("raw");
+  const ratesScale = useMemo(() => rateScale([ratesA.data, ratesB.data]), [ratesA.data, ratesB.data]);
 
   // One colour scale for both periods, so the same colour means the same value.
   const scale = useMemo(() => {
@@ -137,6 +144,28 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
               ),
             )}
           </div>
+          {isRate ? <RateLayerSwitch value={rateLayer} onChange={setRateLayer} /> : null}
+          {isRate ? (
+            <div className="grid gap-6 lg:grid-cols-2">
+              {[ratesA, ratesB].map((r, k) => (
+                <RateChoropleth
+                  key={`rate-${k}`}
+                  rates={r.data}
+                  layer={rateLayer}
+                  scale={ratesScale}
+                  title={`${mapA.data.indicator.label}, ${k === 0 ? a : b}`}
+                  unit={unit}
+                  features={features}
+                  coordinates={geometry.data.coordinates}
+                  names={names}
+                  activeId={active}
+                  onHover={setHovered}
+                  onSelect={setSelected}
+                  testId={`rate-map-${k === 0 ? "a" : "b"}`}
+                />
+              ))}
+            </div>
+          ) : (
           <div className="grid gap-6 lg:grid-cols-2">
             {[mapA.data.map, mapB.data.map].map((m, k) => (
               <Panel
@@ -162,6 +191,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
               </Panel>
             ))}
           </div>
+          )}
           {[mapA.data, mapB.data].map((d, k) =>
             d.map.regression && (k === 0 || d.map.period !== mapA.data.map.period) ? (
               <RegressionPanel

@@ -43,6 +43,7 @@ export function RegionMap({
   testId,
   regionClass,
   regionTitle,
+  regionValue,
 }: {
   features: RegionFeature[];
   coordinates: "planar" | "lonlat";
@@ -55,6 +56,8 @@ export function RegionMap({
   testId?: string;
   regionClass?: (id: string) => string;
   regionTitle?: (id: string) => string;
+  /** The value the fill shows, put on the path as `data-value` (tests and assistive tools read it). */
+  regionValue?: (id: string) => string | undefined;
 }) {
   const paths = useMemo(() => {
     const fc: FeatureCollection = { type: "FeatureCollection", features };
@@ -80,6 +83,7 @@ export function RegionMap({
           strokeWidth={0.6}
           data-region={p.id}
           data-class={regionClass?.(p.id)}
+          data-value={regionValue?.(p.id)}
           onMouseEnter={() => onHover(p.id)}
           onClick={() => onSelect(p.id)}
           className="cursor-pointer"

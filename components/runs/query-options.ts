@@ -1,7 +1,7 @@
 import { queryOptions } from "@tanstack/react-query";
 import { apiFetch } from "@/lib/client/api-fetch";
 import type { DeskSummary, RunOption, RunPieceRow, RunSummary, Timeline } from "@/lib/runs/queries";
-import type { Comparison, MapGeometry, MapPeriod } from "@/lib/runs/on-demand";
+import type { Comparison, MapGeometry, MapPeriod, MapRates } from "@/lib/runs/on-demand";
 import type { RobustnessEntry } from "@/lib/runs/compare";
 import type { PanelTransitions } from "@/lib/runs/panel-transitions";
 import type { IndicatorMeta } from "@/lib/intake/published-panel";
@@ -20,6 +20,7 @@ export const runsKeys = {
   timeline: (slug: string, indicator: string, run: number | null) => ["analyses", slug, "timeline", indicator, run] as const,
   robustness: (slug: string, indicator: string, run: number | null, period: string) => ["analyses", slug, "robustness", indicator, run, period] as const,
   map: (slug: string, indicator: string, run: number | null, period: string) => ["analyses", slug, "map", indicator, run, period] as const,
+  mapRates: (slug: string, indicator: string, run: number | null, period: string) => ["analyses", slug, "map-rates", indicator, run, period] as const,
   geometry: (slug: string, run: number) => ["analyses", slug, "geometry", run] as const,
   compare: (slug: string, indicator: string, run: number | null, a: string, b: string) => ["analyses", slug, "compare", indicator, run, a, b] as const,
   panelTransitions: (slug: string, indicator: string, run: number | null, classes: number) => ["analyses", slug, "panel-transitions", indicator, run, classes] as const,
@@ -97,6 +98,16 @@ export function mapQuery(slug: string, indicator: string, run: number | null, pe
     queryFn: () =>
       apiFetch<{ run: RunSummary; indicator: IndicatorMeta; map: MapPeriod; reachability: ReachabilityWarning | null }>(`${base(slug)}/map?${qs({ indicator, run, period })}`),
     enabled: indicator !== "" && period !== "",
+    staleTime: 5 * 60_000,
+  });
+}
+
+/** The rate layers of a rate indicator's map (raw, global and local empirical-Bayes rates); only asked for rate indicators. */
+export function mapRatesQuery(slug: string, indicator: string, run: number | null, period: string, enabled: boolean) {
+  return queryOptions({
+    queryKey: runsKeys.mapRates(slug, indicator, run, period),
+    queryFn: () => apiFetch<{ runId: number; indicator: string; rates: MapRates }>(`${base(slug)}/map/rates?${qs({ indicator, run, period })}`).then((r) => r.rates),
+    enabled: enabled && indicator !== "" && period !== "",
     staleTime: 5 * 60_000,
   });
 }

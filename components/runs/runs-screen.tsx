@@ -8,6 +8,7 @@ import { dangerButton, inputClass, labelClass, primaryButton, secondaryButton } 
 import { startFormReachability } from "@/lib/runs/reachability";
 import { CORRECTION_LABELS, CORRECTIONS, ISLAND_POLICIES, ISLAND_POLICY_LABELS, MAX_CONTROL_FOR, runParamsInputSchema, SEQUENTIAL_EXTREMES, WEIGHTS_CHOICES } from "@/lib/runs/schemas";
 import type { RunSummary } from "@/lib/runs/queries";
+import { EB_LABEL } from "@/lib/runs/label";
 import { Notice, Panel, runLabel, runName, StateBadge, weightsLabel } from "./format";
 import { StartFormReachability } from "./reachability-note";
 import { runOptionsQuery, runsApi, runsKeys, runsQuery } from "./query-options";
@@ -135,6 +136,14 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
                     <dd className="inline text-ink-700">{run.params.controlFor.join(", ")}</dd>
                   </div>
                 ) : null}
+                {run.params.empiricalBayes ? (
+                  <div className="col-span-2" data-testid={`run-${run.id}-rates`}>
+                    <dt className="inline text-ink-400">Rates </dt>
+                    <dd className="inline text-ink-700">
+                      {EB_LABEL} ({run.params.empiricalBayes.map((d) => d.indicator).join(", ")})
+                    </dd>
+                  </div>
+                ) : null}
                 <div className="col-span-2">
                   <dt className="inline text-ink-400">Islands </dt>
                   <dd className="inline text-ink-700">{ISLAND_POLICY_LABELS[run.params.islandPolicy]}</dd>
@@ -172,6 +181,7 @@ function StartRunForm({ slug }: { slug: string }) {
   const [local, setLocal] = useState(true);
   const [sequential, setSequential] = useState(false);
   const [controlFor, setControlFor] = useState<string[]>([]);
+  const [empiricalBayes, setEmpiricalBayes] = useState(false);
   const [error, setError] = useState<{ field: string | null; message: string } | null>(null);
   const [started, setStarted] = useState<{ id: number; number: number } | null>(null);
 
@@ -182,6 +192,9 @@ function StartRunForm({ slug }: { slug: string }) {
   const periods = version?.periods ?? [];
   const indicators = version?.indicators ?? [];
   const selected = chosen ?? indicators.map((i) => i.code);
+  // Offered only when the version has a declared rate; sent only when a chosen indicator is one.
+  const rateIndicators = indicators.filter((i) => i.rate);
+  const ebApplies = empiricalBayes && rateIndicators.some((i) => selected.includes(i.code));
 
   // Warned before start: can the smallest permutation p pass the correction? (Only for a choice the schema accepts.)
   const fromAt = from ? periods.indexOf(from) : 0;
@@ -229,6 +242,7 @@ function StartRunForm({ slug }: { slug: string }) {
       local,
       sequential: local && sequential,
       controlFor: controlFor.length ? controlFor : undefined,
+      rates: ebApplies ? "empirical-bayes" : "raw",
     };
     const parsed = runParamsInputSchema.safeParse(choice);
     if (!parsed.success) {
@@ -422,6 +436,24 @@ function StartRunForm({ slug }: { slug: string }) {
               </span>
             </span>
           </label>
+          {rateIndicators.length > 0 ? (
+            <label className="flex items-start gap-2 text-sm text-ink-700">
+              <input
+                type="checkbox"
+                className="mt-0.5 accent-ochre-500"
+                checked={empiricalBayes}
+                onChange={(e) => setEmpiricalBayes(e.target.checked)}
+                data-testid="run-empirical-bayes"
+              />
+              <span>
+                Empirical-Bayes standardised rates
+                <span className="block text-xs text-ink-500">
+                  Moran&apos;s I of {rateIndicators.map((i) => i.label).join(", ")} on rates standardised by their population (Assunção &amp; Reis 1999), so
+                  regions with few residents do not dominate; other indicators are unchanged.
+                </span>
+              </span>
+            </label>
+          ) : null}
           <StartFormReachability warnings={reachability} />
           {error && !["weights", "permutations", "seed", "alpha", "indicators", "periods", "controlFor"].includes(error.field ?? "") ? <Notice tone="error">{error.message}</Notice> : null}
           {started ? (

@@ -31,7 +31,7 @@ const CAUTIONS: Record<CautionKey, { title: string; body: string }> = {
   },
   "small-rates": {
     title: "Rates on small populations",
-    body: "Rates on small bases are noisy, and the noise of small regions can dominate Moran's I. Runs do not yet smooth rates (empirical Bayes): read results on such rates with care.",
+    body: "Rates on small bases are noisy, and the noise of small regions can dominate Moran's I. A run can standardise declared rates by their population (EB-standardised, empirical Bayes), and the region map shows raw, global and local empirical-Bayes rates side by side; results on raw rates still deserve care.",
   },
   "ols-assumptions": {
     title: "The regression assumes more than it shows",

@@ -201,7 +201,14 @@ type RunRow = {
 /** The label's parameters out of stored run params (JSON). */
 function labelParams(params: Record<string, unknown>) {
   const controlFor = Array.isArray(params.controlFor) ? params.controlFor.map(String) : undefined;
-  return { weights: String(params.weights ?? ""), transform: String(params.transform ?? ""), permutations: Number(params.permutations ?? 0), ...(controlFor ? { controlFor } : {}) };
+  const eb = Array.isArray(params.empiricalBayes) ? params.empiricalBayes.map((d: unknown) => ({ indicator: String((d as { indicator?: unknown })?.indicator ?? "") })) : undefined;
+  return {
+    weights: String(params.weights ?? ""),
+    transform: String(params.transform ?? ""),
+    permutations: Number(params.permutations ?? 0),
+    ...(controlFor ? { controlFor } : {}),
+    ...(eb ? { empiricalBayes: eb } : {}),
+  };
 }
 
 const toRun = (r: RunRow): RunRef => ({

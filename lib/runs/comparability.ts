@@ -40,6 +40,7 @@ const NAMED: readonly (readonly [field: string, label: string])[] = [
   ["correction", "correction"],
   ["local", "local clusters"],
   ["sequentialExtremes", "sequential p-values"],
+  ["empiricalBayes", "empirical-Bayes rates"],
   ["method", "computation"],
 ];
 
@@ -76,7 +77,7 @@ function keyValue(field: string, value: unknown): KeyValue | null {
   if (value === undefined || value === null || value === false) return null;
   if (field === "weights" && typeof value === "string") return canonicalWeights(value);
   if (typeof value === "string" || typeof value === "number" || typeof value === "boolean") return value;
-  // Structured parameters (none today) compare by their JSON text.
+  // Structured parameters (the empirical-Bayes rate list) compare by their JSON text.
   return JSON.stringify(value);
 }
 

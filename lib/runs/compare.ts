@@ -18,7 +18,7 @@ import {
   type IndependenceTest,
   type RegionValues,
 } from "@/lib/spatial";
-import { buildRunGeometry, messageOf, statisticSeed, type RunGeometry, type TopologyLayout } from "./compute";
+import { buildRunGeometry, messageOf, rateValuesOf, standardisePrepared, statisticSeed, type RateInputs, type RunGeometry, type TopologyLayout } from "./compute";
 import { distanceMeasureOf, ruleMeasuresDistance, type DistanceMeasure } from "./distances";
 import type { ResolvedRunParams } from "./schemas";
 import type { LocalFields } from "./types";
@@ -192,7 +192,7 @@ export interface RobustnessEntry {
  * Moran's I of one indicator-period under each weights rule of the strip,
  * with the run's transform, island policy, permutations and seed.
  */
-export function robustnessStrip(topology: Topology, layout: TopologyLayout, params: CompareParams, values: RegionValues): RobustnessEntry[] {
+export function robustnessStrip(topology: Topology, layout: TopologyLayout, params: CompareParams, values: RegionValues, rate?: RateInputs): RobustnessEntry[] {
   let system: DistanceMeasure | null = null;
   try {
     // Detected as weightsFromTopology detects it for knn and band weights (bounding box of the decoded coordinates).
@@ -204,7 +204,13 @@ export function robustnessStrip(topology: Topology, layout: TopologyLayout, para
     const distances = ruleMeasuresDistance(rule) ? system : null;
     try {
       const geometry = buildRunGeometry(topology, layout, { weights: rule, islandPolicy: params.islandPolicy });
-      const prepared = prepareAnalysis(geometry.baseWeights, values, { islandPolicy: params.islandPolicy, transform: params.transform, points: geometry.points });
+      const analysed = prepareAnalysis(geometry.baseWeights, rate ? rateValuesOf(geometry.baseWeights.ids, rate) : values, {
+        islandPolicy: params.islandPolicy,
+        transform: params.transform,
+        points: geometry.points,
+      });
+      // A run that standardised this rate is checked on the same standardised values, over the regions each rule keeps.
+      const prepared = rate ? standardisePrepared(analysed, rate).prepared : analysed;
       const result = globalMoran(prepared.values, prepared.weights, {
         permutations: params.permutations,
         random: createRandomSource(statisticSeed(params.seed, "moran")),

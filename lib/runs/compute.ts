@@ -17,6 +17,7 @@
 import type { Topology } from "topojson-specification";
 import {
   createRandomSource,
+  empiricalBayesStandardise,
   globalStatistics,
   localGetisOrd,
   localMoran,
@@ -107,9 +108,65 @@ export type PeriodParams = Pick<
 >;
 
 /**
+ * The inputs of a rate indicator in one period, for runs that standardise
+ * rates (params.empiricalBayes): its events and population per region.
+ */
+export interface RateInputs {
+  readonly events: string;
+  readonly population: string;
+  readonly eventValues: RegionValues;
+  readonly populationValues: RegionValues;
+}
+
+/**
+ * Raw rates events / population per region of the weights, null where either
+ * is missing, the events are negative or the population is not positive (such
+ * regions are left out and counted as missing, like a missing value).
+ */
+export function rateValuesOf(ids: readonly string[], rate: Pick<RateInputs, "eventValues" | "populationValues">): Map<string, number | null> {
+  const out = new Map<string, number | null>();
+  ids.forEach((id, index) => {
+    const o = valueAt(rate.eventValues, id, index);
+    const p = valueAt(rate.populationValues, id, index);
+    out.set(id, o !== null && p !== null && o >= 0 && p > 0 ? o / p : null);
+  });
+  return out;
+}
+
+function valueAt(values: RegionValues, id: string, index: number): number | null {
+  const v =
+    values instanceof Map
+      ? values.get(id)
+      : Array.isArray(values) || ArrayBuffer.isView(values)
+        ? (values as ArrayLike<number | null | undefined>)[index]
+        : (values as Readonly<Record<string, number | null | undefined>>)[id];
+  return typeof v === "number" && Number.isFinite(v) ? v : null;
+}
+
+/**
+ * Empirical-Bayes standardisation (Assunção & Reis 1999; lib/spatial
+ * empiricalBayesStandardise) of the regions an analysis kept: the prepared
+ * values become z_i = (r_i − b) / sqrt(a + b / P_i) from the events and
+ * population of the same regions, so Moran's I of the result is
+ * empiricalBayesMoran's I on the same regions and weights.
+ */
+export function standardisePrepared(prepared: PreparedAnalysis, rate: RateInputs): { prepared: PreparedAnalysis; globalRate: number; betweenVariance: number } {
+  const events = prepared.ids.map((id, i) => valueAt(rate.eventValues, id, i) ?? Number.NaN);
+  const populations = prepared.ids.map((id, i) => valueAt(rate.populationValues, id, i) ?? Number.NaN);
+  const eb = empiricalBayesStandardise(events, populations);
+  return { prepared: { ...prepared, values: eb.standardised }, globalRate: eb.globalRate, betweenVariance: eb.betweenVariance };
+}
+
+/**
  * All statistics of one indicator-period. Never throws for bad data: a
  * constant indicator, too few regions, no links or an engine error give a
  * row with status "not-computed" and a note saying why.
+ *
+ * With `rate` (a run that standardises rates), the values analysed are the
+ * empirical-Bayes standardised rates of `rate`'s events and population
+ * instead of `values`: global Moran's I with its permutation test, Geary's C,
+ * local Moran and local Gi* are computed on them; General G is not (the
+ * standardised values are signed).
  */
 export function computePeriod(
   geometry: RunGeometry,
@@ -117,11 +174,12 @@ export function computePeriod(
   indicator: string,
   period: string,
   values: RegionValues,
-  covariates: readonly CovariateValues[] = [],
+  extras: { readonly rate?: RateInputs; readonly covariates?: readonly CovariateValues[] } = {},
 ): Omit<PeriodResult, "deltaI"> {
-  // The regression on the covariates stands on its own (its own regions, its own messages); only runs with covariates carry the key.
+  // The regression on the covariates stands on its own (its own regions, the published values, its own messages); only runs with covariates carry the key.
+  const covariates = extras.covariates ?? [];
   const regression = covariates.length ? { regression: computeRegression(geometry, params, period, values, covariates) } : {};
-  return { ...computeStatistics(geometry, params, indicator, period, values), ...regression };
+  return { ...computeStatistics(geometry, params, indicator, period, values, extras.rate), ...regression };
 }
 
 function computeStatistics(
@@ -130,12 +188,13 @@ function computeStatistics(
   indicator: string,
   period: string,
   values: RegionValues,
+  rate?: RateInputs,
 ): Omit<PeriodResult, "deltaI"> {
   const notes: string[] = [];
   const base = { indicator, period };
   let prepared: PreparedAnalysis;
   try {
-    prepared = prepareAnalysis(geometry.baseWeights, values, {
+    prepared = prepareAnalysis(geometry.baseWeights, rate ? rateValuesOf(geometry.baseWeights.ids, rate) : values, {
       islandPolicy: params.islandPolicy,
       transform: params.transform,
       points: geometry.points,
@@ -178,6 +237,24 @@ function computeStatistics(
   if (weights.links === 0) {
     notes.unshift(`No two of the ${n} regions with a value are neighbours under "${params.weights}" weights, so no statistic can be computed.`);
     return notComputed(base, "no-links", notes.join(" "), n, exclusions, weights);
+  }
+  if (rate) {
+    try {
+      const eb = standardisePrepared(prepared, rate);
+      prepared = eb.prepared;
+      notes.unshift(
+        `EB-standardised: the ${n} regions' rates ${rate.events} / ${rate.population} were empirical-Bayes standardised (Assunção & Reis 1999) around the overall rate ` +
+          `${formatValue(eb.globalRate)} before every statistic; the normality and randomisation p-values treat the standardised values as ordinary data, so read the permutation p-value.`,
+      );
+    } catch (error) {
+      notes.unshift(`The rates could not be empirical-Bayes standardised in ${period}: ${messageOf(error)}`);
+      return notComputed(base, "error", notes.join(" "), n, exclusions, weights);
+    }
+    const standardisedConstant = constantValue(prepared.values);
+    if (standardisedConstant !== null) {
+      notes.unshift(`The standardised rates are constant in ${period}, so spatial autocorrelation is undefined.`);
+      return notComputed(base, "constant", notes.join(" "), n, exclusions, weights);
+    }
   }
 
   let statistics: GlobalStatisticsResult;
@@ -233,6 +310,8 @@ function computeStatistics(
       p: statistics.generalG.randomisation.pTwoSided,
       pseudoP: statistics.generalG.permutation?.pTwoSided ?? null,
     };
+  } else if (rate) {
+    notes.push("General G was not computed: it needs values of one sign, and standardised rates are negative wherever a region's rate is below the overall rate.");
   } else {
     notes.push(`General G was not computed: ${statistics.generalGProblem ?? "it is undefined for these values."}`);
   }
@@ -295,8 +374,8 @@ export function computeRegression(
   const combined = new Map<string, number | null>();
   let excluded = 0;
   for (let i = 0; i < ids.length; i++) {
-    const y = usable(valueAt(values, ids[i], i));
-    const all = y !== null && covariates.every((c) => usable(valueAt(c.values, ids[i], i)) !== null);
+    const y = valueAt(values, ids[i], i);
+    const all = y !== null && covariates.every((c) => valueAt(c.values, ids[i], i) !== null);
     if (y !== null && !all) excluded++;
     combined.set(ids[i], all ? y : null);
   }
@@ -323,7 +402,7 @@ export function computeRegression(
   const indexOf = new Map(ids.map((id, i) => [id, i]));
   const design = covariates.map((c) => ({
     name: c.code,
-    values: Float64Array.from(prepared.ids, (id) => Number(valueAt(c.values, id, indexOf.get(id) ?? -1))),
+    values: Float64Array.from(prepared.ids, (id) => valueAt(c.values, id, indexOf.get(id) ?? -1) ?? Number.NaN),
   }));
   try {
     const d = regressionDiagnostics(prepared.values, design, prepared.weights, { alpha: params.alpha });
@@ -372,15 +451,6 @@ export function computeRegression(
   }
 }
 
-function valueAt(values: RegionValues, id: string, index: number): unknown {
-  if (values instanceof Map) return values.get(id);
-  if (Array.isArray(values) || ArrayBuffer.isView(values)) return (values as ArrayLike<unknown>)[index];
-  return Object.prototype.hasOwnProperty.call(values, id) ? (values as Record<string, unknown>)[id] : undefined;
-}
-
-function usable(v: unknown): number | null {
-  return typeof v === "number" && Number.isFinite(v) ? v : null;
-}
 
 function finite(v: number): number | null {
   return Number.isFinite(v) ? v : null;
@@ -491,6 +561,8 @@ export function computeGiStar(
 export interface IndicatorPeriodValues {
   readonly period: string;
   readonly values: RegionValues;
+  /** The rate's events and population in this period, when the run standardises this indicator. */
+  readonly rate?: RateInputs;
 }
 
 /**
@@ -503,7 +575,7 @@ export function computeIndicator(
   indicator: string,
   periods: readonly (IndicatorPeriodValues & { readonly covariates?: readonly CovariateValues[] })[],
 ): PeriodResult[] {
-  return withChanges(periods.map(({ period, values, covariates }) => computePeriod(geometry, params, indicator, period, values, covariates)));
+  return withChanges(periods.map(({ period, values, rate, covariates }) => computePeriod(geometry, params, indicator, period, values, { rate, covariates })));
 }
 
 /**

@@ -4,7 +4,9 @@
  * authorise first and pass a run of the member's workspace.
  */
 import { loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
-import { loadPanelMatrix } from "@/lib/intake/published-panel";
+import { loadPanelMatrix, rateDeclarationsOf } from "@/lib/intake/published-panel";
+import { globalEmpiricalBayesRates, localEmpiricalBayesRates, prepareAnalysis } from "@/lib/spatial";
+import { rateValuesOf } from "./compute";
 import { NotFoundError } from "@/lib/http/errors";
 import { clusterTransitionTable, comparePeriods, robustnessStrip, type ClusterTransitionTable, type PeriodComparison, type RobustnessEntry } from "./compare";
 import { panelTransitions, type PanelTransitions } from "./panel-transitions";
@@ -153,13 +155,106 @@ export async function robustness(run: RunSummary, indicator: string, period: str
   const key = `${run.id}|${indicator}|${period}`;
   const cached = robustnessCache.get(key);
   if (cached) return cached;
+  const eb = run.params.empiricalBayes?.find((d) => d.indicator === indicator) ?? null;
   const [boundary, matrix] = await Promise.all([
     loadBoundaryTopology(run.params.boundaryVersionId),
-    loadPanelMatrix(run.params.panelVersionId, { indicators: [indicator], periods: [period] }),
+    loadPanelMatrix(run.params.panelVersionId, { indicators: eb ? [indicator, eb.events, eb.population] : [indicator], periods: [period] }),
   ]);
-  const values = matrix.values.get(indicator)?.get(period) ?? new Map<string, number | null>();
-  const entries = robustnessStrip(boundary.topology, { object: boundary.objectName, idProperty: boundary.idProperty }, run.params, values);
+  const empty = new Map<string, number | null>();
+  const values = matrix.values.get(indicator)?.get(period) ?? empty;
+  const rate = eb
+    ? {
+        events: eb.events,
+        population: eb.population,
+        eventValues: matrix.values.get(eb.events)?.get(period) ?? empty,
+        populationValues: matrix.values.get(eb.population)?.get(period) ?? empty,
+      }
+    : undefined;
+  const entries = robustnessStrip(boundary.topology, { object: boundary.objectName, idProperty: boundary.idProperty }, run.params, values, rate);
   robustnessCache.set(key, entries);
   if (robustnessCache.size > 200) robustnessCache.delete(robustnessCache.keys().next().value as string);
   return entries;
+}
+
+/** One region of the map's rate layers: raw and smoothed rates (× the rate's multiplier). */
+export interface RegionRates {
+  events: number;
+  population: number;
+  raw: number;
+  /** Global empirical-Bayes rate (Marshall 1991): shrunk towards the overall rate. */
+  global: number;
+  /** Local empirical-Bayes rate (Marshall 1991): shrunk towards the rate of the region and its neighbours under the run's weights. */
+  local: number;
+  /** Regions in the local neighbourhood, the region itself included (1: no neighbours, the local rate is the raw rate). */
+  neighbourhood: number;
+}
+
+export interface MapRates {
+  period: string;
+  /** The rate's declaration; null when the indicator is not a declared rate (no rate layers). */
+  rate: { events: string; population: string; multiplier: number } | null;
+  /** Overall rate Σ events / Σ population × multiplier of the regions with both. */
+  overallRate: number | null;
+  /** Per region code; null where the events or the population are missing (or the population is not positive). */
+  regions: Record<string, RegionRates | null>;
+  /** Why no layer could be computed (too few regions with data, say); null when computed. */
+  problem: string | null;
+}
+
+/**
+ * The map's rate layers for a rate indicator in one period of a run: raw
+ * rates, global and local empirical-Bayes rates (lib/spatial
+ * globalEmpiricalBayesRates, localEmpiricalBayesRates) from the panel
+ * version's events and population of that period, the local neighbourhoods
+ * from the run's weights rule (island policy "exclude" read as "keep": a
+ * region without neighbours keeps its raw rate as its local rate). The
+ * declaration is the one the run froze (empirical-Bayes runs) or else the
+ * workspace's current one.
+ */
+export async function mapRates(run: RunSummary, workspaceId: number, indicator: string, period: string): Promise<MapRates> {
+  requireIndicator(run, indicator);
+  requirePeriod(run, period);
+  const declared = (await rateDeclarationsOf(workspaceId)).find((d) => d.indicator === indicator) ?? null;
+  const frozen = run.params.empiricalBayes?.find((d) => d.indicator === indicator) ?? null;
+  const rate = frozen ?? declared;
+  const empty: MapRates = { period, rate: null, overallRate: null, regions: {}, problem: null };
+  if (!rate) return empty;
+  const spec = { events: rate.events, population: rate.population, multiplier: rate.multiplier };
+  let matrix;
+  try {
+    matrix = await loadPanelMatrix(run.params.panelVersionId, { indicators: [rate.events, rate.population], periods: [period] });
+  } catch {
+    return { ...empty, rate: spec, problem: `The run's panel version has no indicator "${rate.events}" or "${rate.population}", which the rate divides.` };
+  }
+  const geometry = await geometryFor(run.params);
+  const rateInputs = {
+    eventValues: matrix.values.get(rate.events)?.get(period) ?? new Map<string, number | null>(),
+    populationValues: matrix.values.get(rate.population)?.get(period) ?? new Map<string, number | null>(),
+  };
+  const regions: Record<string, RegionRates | null> = Object.fromEntries(geometry.baseWeights.ids.map((id) => [id, null]));
+  try {
+    const prepared = prepareAnalysis(geometry.baseWeights, rateValuesOf(geometry.baseWeights.ids, rateInputs), {
+      islandPolicy: run.params.islandPolicy === "attach" ? "attach" : "keep",
+      transform: "binary",
+      points: geometry.points,
+    });
+    const events = prepared.ids.map((id) => rateInputs.eventValues.get(id) as number);
+    const populations = prepared.ids.map((id) => rateInputs.populationValues.get(id) as number);
+    const global = globalEmpiricalBayesRates(events, populations);
+    const local = localEmpiricalBayesRates(events, populations, prepared.weights);
+    const k = rate.multiplier;
+    prepared.ids.forEach((id, i) => {
+      regions[id] = {
+        events: events[i],
+        population: populations[i],
+        raw: global.raw[i] * k,
+        global: global.smoothed[i] * k,
+        local: local.smoothed[i] * k,
+        neighbourhood: local.neighbourhoodSizes[i],
+      };
+    });
+    return { period, rate: spec, overallRate: global.globalRate * k, regions, problem: null };
+  } catch (error) {
+    return { ...empty, rate: spec, regions, problem: `The rate layers could not be computed in ${period}: ${error instanceof Error ? error.message : String(error)}` };
+  }
 }

@@ -132,7 +132,8 @@ export interface RunOption {
   panelVersionId: number;
   panelName: string;
   version: number;
-  indicators: { code: string; label: string }[];
+  /** `rate`: a declared rate whose events and population are both in this version (the start form offers empirical-Bayes standardisation for it). */
+  indicators: { code: string; label: string; rate: boolean }[];
   periods: string[];
   /**
    * Regions of the version's boundaries: the most local tests a period can
@@ -146,6 +147,7 @@ export async function runOptions(workspaceId: number): Promise<RunOption[]> {
   // Every indicator of a published version is visible to every role.
   const meta = await indicatorMetadata(workspaceId, "published");
   const labels = new Map(meta.map((m) => [m.code, m.label]));
+  const rates = new Map(meta.flatMap((m) => (m.rate ? [[m.code, m.rate] as const] : [])));
   const boundaryIds = [...new Set(versions.map((v) => v.boundaryVersionId))];
   const regionRows = boundaryIds.length
     ? await db().query<{ id: number; region_count: number | null }>("SELECT id, region_count FROM boundary_versions WHERE id = ANY($1::int[])", {
@@ -161,7 +163,10 @@ export async function runOptions(workspaceId: number): Promise<RunOption[]> {
       panelVersionId: v.panelVersionId,
       panelName: v.panelName,
       version: v.version,
-      indicators: dims.indicators.map((code) => ({ code, label: labels.get(code) ?? code })),
+      indicators: dims.indicators.map((code) => {
+        const rate = rates.get(code);
+        return { code, label: labels.get(code) ?? code, rate: rate !== undefined && dims.indicators.includes(rate.events) && dims.indicators.includes(rate.population) };
+      }),
       periods: dims.periods.map((p) => p.key),
       regions: regionsOf.get(v.boundaryVersionId) ?? 0,
     });

@@ -22,6 +22,10 @@ export const TRANSFORMS = ["row-standardised", "binary"] as const;
 /** Most permutations a run may use (the start form and the stored parameters). */
 export const MAX_RUN_PERMUTATIONS = 99_999;
 export const ISLAND_POLICIES = ["exclude", "keep", "attach"] as const;
+/** How a run treats indicators declared as rates (events / population). */
+export const RATE_TREATMENTS = ["raw", "empirical-bayes"] as const;
+export type RateTreatment = (typeof RATE_TREATMENTS)[number];
+
 export const CORRECTIONS = ["none", "bonferroni", "fdr"] as const;
 
 export const CORRECTION_LABELS: Record<(typeof CORRECTIONS)[number], string> = {
@@ -99,6 +103,13 @@ export const runParamsInputSchema = z.object({
    * none.
    */
   controlFor: controlForSchema.optional(),
+  /**
+   * "empirical-bayes": Moran's I (global and local) of every declared rate
+   * indicator of the run is computed on empirical-Bayes standardised rates
+   * (Assunção & Reis 1999) from the rate's events and population; other
+   * indicators are computed as before. Raw by default.
+   */
+  rates: z.enum(RATE_TREATMENTS).default("raw"),
 });
 export type RunParamsInput = z.input<typeof runParamsInputSchema>;
 export type RunParamsChoice = z.output<typeof runParamsInputSchema>;
@@ -133,6 +144,15 @@ export const resolvedRunParamsSchema = z.object({
    * (runs before the option, or without covariates) means none.
    */
   controlFor: controlForSchema.min(1).optional(),
+  /**
+   * Present only when the run asked for empirical-Bayes standardisation of
+   * rates: the rate indicators of the run so treated, each with the events and
+   * population indicators it was standardised from and its multiplier (frozen at the start, so a
+   * later change to the declaration does not change what the run means).
+   * Absent (runs before the option, or with raw rates) means every indicator
+   * was analysed on its own values.
+   */
+  empiricalBayes: z.array(z.object({ indicator: code, events: code, population: code, multiplier: z.number().positive() })).min(1).optional(),
   panelVersionId: z.number().int().positive(),
   boundaryVersionId: z.number().int().positive(),
   /**

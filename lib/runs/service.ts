@@ -8,7 +8,7 @@ import { ConflictError, InputError, NotFoundError } from "@/lib/http/errors";
 import { getBoss } from "@/lib/jobs/boss";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { loadBoundaryTopology } from "@/lib/geometry/boundary-topology";
-import { panelDimensions } from "@/lib/intake/published-panel";
+import { panelDimensions, rateDeclarationsOf } from "@/lib/intake/published-panel";
 import { weightsFromTopology } from "@/lib/spatial";
 import { db } from "@/lib/db";
 import { QueryTypes, type Transaction } from "sequelize";
@@ -92,6 +92,21 @@ export async function resolveRunParams(workspaceId: number, panelVersionId: numb
     throw new RunInputError(`Panel "${version.panel_name}" version ${version.version} has no observations to analyse.`, "panelVersionId");
   }
   const controlFor = controlForOf(version, dims.indicators, indicators, choice.controlFor ?? []);
+  const sortedIndicators = [...indicators].sort();
+  let empiricalBayes: { indicator: string; events: string; population: string; multiplier: number }[] | undefined;
+  if (choice.rates === "empirical-bayes") {
+    // The run's rate indicators whose events and population are both in this version.
+    empiricalBayes = (await rateDeclarationsOf(workspaceId))
+      .filter((d) => sortedIndicators.includes(d.indicator) && dims.indicators.includes(d.events) && dims.indicators.includes(d.population))
+      .map((d) => ({ indicator: d.indicator, events: d.events, population: d.population, multiplier: d.multiplier }))
+      .sort((x, y) => (x.indicator < y.indicator ? -1 : x.indicator > y.indicator ? 1 : 0));
+    if (empiricalBayes.length === 0) {
+      throw new RunInputError(
+        `None of the chosen indicators of panel "${version.panel_name}" version ${version.version} is a declared rate whose events and population are in the panel, so there is nothing to standardise; choose raw rates.`,
+        "rates",
+      );
+    }
+  }
   return resolvedRunParamsSchema.parse({
     weights: choice.weights,
     transform: choice.transform,
@@ -100,13 +115,15 @@ export async function resolveRunParams(workspaceId: number, panelVersionId: numb
     seed: choice.seed ?? freshSeed(),
     alpha: choice.alpha,
     correction: choice.correction,
-    indicators: [...indicators].sort(),
+    indicators: sortedIndicators,
     periods,
     local: choice.local,
     // Only with local statistics, and only when asked: a run without it stores exactly the parameters it always did.
     ...(choice.local && choice.sequential ? { sequentialExtremes: SEQUENTIAL_EXTREMES } : {}),
     // Only when asked: a run without covariates stores exactly the parameters it always did.
     ...(controlFor.length ? { controlFor } : {}),
+    // Likewise only when asked: raw-rate runs store the parameters they always did.
+    ...(empiricalBayes ? { empiricalBayes } : {}),
     panelVersionId,
     boundaryVersionId: version.boundary_version_id,
     method: RUN_METHOD,
@@ -202,7 +219,7 @@ interface RunActor {
 }
 
 /** The trail names a run as every screen does (lib/runs/label). */
-function runTarget(number: number, version: PanelVersionRow, params: Pick<ResolvedRunParams, "weights" | "transform" | "permutations" | "controlFor">): string {
+function runTarget(number: number, version: PanelVersionRow, params: Pick<ResolvedRunParams, "weights" | "transform" | "permutations" | "controlFor" | "empiricalBayes">): string {
   return runLabel({ number, panelName: version.panel_name, panelVersion: version.version, params });
 }
 
@@ -223,6 +240,7 @@ function paramsSummary(params: ResolvedRunParams): Record<string, unknown> {
     local: params.local,
     ...(params.sequentialExtremes === undefined ? {} : { sequentialExtremes: params.sequentialExtremes }),
     ...(params.controlFor === undefined ? {} : { controlFor: params.controlFor }),
+    ...(params.empiricalBayes === undefined ? {} : { empiricalBayes: params.empiricalBayes.map((d) => d.indicator) }),
   };
 }
 

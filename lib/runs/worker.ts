@@ -61,7 +61,10 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
     const geometry = await geometryFor(params);
     // A run that controls for covariates regresses every indicator that is not itself one of them on them (compute.ts computeRegression).
     const covariateCodes = params.controlFor && !params.controlFor.includes(indicator) ? params.controlFor : [];
-    const matrix = await loadPanelMatrix(params.panelVersionId, { indicators: [indicator, ...covariateCodes], periods: params.periods });
+    // A rate the run standardises also needs its events and population (the same period's values).
+    const rate = params.empiricalBayes?.find((d) => d.indicator === indicator) ?? null;
+    const codes = [...new Set([indicator, ...(rate ? [rate.events, rate.population] : []), ...covariateCodes])];
+    const matrix = await loadPanelMatrix(params.panelVersionId, { indicators: codes, periods: params.periods });
     const byPeriod = matrix.values.get(indicator);
     if (!byPeriod) throw new Error(`panel version ${params.panelVersionId} returned no values for indicator "${indicator}"`);
     const rows: Omit<PeriodResult, "deltaI">[] = [];
@@ -75,7 +78,15 @@ export async function runPiece(runId: number, indicator: string, log: (message: 
         if (!covariateValues) throw new Error(`panel version ${params.panelVersionId} returned no values for covariate "${code}" in period "${period}"`);
         return { code, values: covariateValues };
       });
-      rows.push(computePeriod(geometry, params, indicator, period, values, covariates));
+      const rateInputs = rate
+        ? {
+            events: rate.events,
+            population: rate.population,
+            eventValues: matrix.values.get(rate.events)?.get(period) ?? new Map<string, number | null>(),
+            populationValues: matrix.values.get(rate.population)?.get(period) ?? new Map<string, number | null>(),
+          }
+        : undefined;
+      rows.push(computePeriod(geometry, params, indicator, period, values, { rate: rateInputs, covariates }));
       // Progress (and a look for cancellation) at most every 250 ms, and after the last period.
       const now = Date.now();
       if (now - lastReport > 250 || index === params.periods.length - 1) {

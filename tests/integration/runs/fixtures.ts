@@ -22,6 +22,9 @@ export interface LoadedPanel {
   regions: string[];
 }
 
+/** The Veldmark panel's declared rate (its file's `# rate:` line). */
+export const RATE = { indicator: "business_closures_per_1000", events: "business_closures", population: "working_age_population", multiplier: 1000 } as const;
+
 function tag(): string {
   return `${Date.now().toString(36)}-${randomBytes(3).toString("hex")}`;
 }
@@ -38,6 +41,12 @@ export async function loadVeldmarkPanel(
     indicators?: readonly string[];
     periods?: readonly string[];
     mutate?: (indicator: string, period: string, region: string, value: number | null) => number | null;
+    /**
+     * Also load the declared rate the file's `# rate:` line names (business
+     * closures per 1,000 working-age residents), derived from its two counts
+     * as intake derives it, and record the declaration on its indicator.
+     */
+    withRate?: boolean;
   } = {},
 ): Promise<LoadedPanel> {
   const sequelize = db();
@@ -64,6 +73,14 @@ export async function loadVeldmarkPanel(
     const value = raw === "" ? null : Number(raw);
     rows.push({ region, period, indicator, value: options.mutate ? options.mutate(indicator, period, region, value) : value });
   }
+  if (options.withRate) {
+    const key = (r: { region: string; period: string }) => `${r.region}|${r.period}`;
+    const population = new Map(rows.filter((r) => r.indicator === RATE.population).map((r) => [key(r), r.value]));
+    for (const r of rows.filter((x) => x.indicator === RATE.events)) {
+      const p = population.get(key(r));
+      rows.push({ region: r.region, period: r.period, indicator: RATE.indicator, value: r.value === null || p === null || p === undefined ? null : (RATE.multiplier * r.value) / p });
+    }
+  }
   const state = options.state ?? "published";
   const t = tag();
   const sha = createHash("sha256").update(topologyText).digest("hex");
@@ -77,6 +94,12 @@ export async function loadVeldmarkPanel(
         `INSERT INTO indicators (workspace_id, code, label, unit, description, source, higher_is_better, created_at, updated_at)
          VALUES ($1,$2,$3,$4,$5,$6,$7,now(),now()) ON CONFLICT (workspace_id, code) DO NOTHING`,
         { bind: [workspaceId, m.code, m.label, m.unit, m.description, m.source, m.higherIsBetter], transaction },
+      );
+    }
+    if (options.withRate) {
+      await sequelize.query(
+        `UPDATE indicators SET rate_events_code = $2, rate_population_code = $3, rate_multiplier = $4 WHERE workspace_id = $1 AND code = $5`,
+        { bind: [workspaceId, RATE.events, RATE.population, RATE.multiplier, RATE.indicator], transaction },
       );
     }
     const [set] = await q<{ id: number }>(

@@ -185,6 +185,7 @@ const QUERY_SCHEMAS: Record<string, z.ZodObject> = {
   "app/api/w/[slug]/map/geometry/route.ts": geometryQuerySchema,
   "app/api/w/[slug]/compare/route.ts": compareQuerySchema,
   "app/api/w/[slug]/map/transitions/route.ts": panelTransitionsQuerySchema,
+  "app/api/w/[slug]/map/rates/route.ts": periodQuerySchema,
 };
 
 // ——— body fields

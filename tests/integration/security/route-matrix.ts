@@ -491,6 +491,16 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
     prepare: async (w) => ({ params: ws(w), search: `indicator=${w.indicator}&run=${w.runId}` }),
     invalidQuery: { search: (w) => `indicator=${w.indicator}&run=${w.runId}&classes=9`, field: "classes" },
   },
+  {
+    kind: "workspace",
+    route: `${W}/map/rates/route.ts`,
+    method: "GET",
+    capability: "results.view",
+    ok: 200,
+    does: "raw, global and local empirical-Bayes rates of a rate indicator in one period of a run",
+    prepare: async (w) => ({ params: ws(w), search: `indicator=${w.indicator}&period=2013&run=${w.runId}` }),
+    invalidQuery: { search: (w) => `indicator=${w.indicator}&run=${w.runId}`, field: "period" },
+  },
 
   // ——— digests: every member manages their own subscription; managers see the subscribers
   {

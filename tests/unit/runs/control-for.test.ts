@@ -148,7 +148,7 @@ describe("computePeriod with covariates", () => {
   it("adds the regression beside the unchanged statistics, and a run without covariates stores exactly what it did before", () => {
     const plain = computePeriod(geometry, params, "unemployment_rate", "2020", unemployment);
     expect("regression" in plain).toBe(false);
-    const withCovariates = computePeriod(geometry, params, "unemployment_rate", "2020", unemployment, [{ code: "heavy_industry_share", values: industry }]);
+    const withCovariates = computePeriod(geometry, params, "unemployment_rate", "2020", unemployment, { covariates: [{ code: "heavy_industry_share", values: industry }] });
     const { regression, ...rest } = withCovariates;
     expect(rest).toEqual(plain);
     expect(regression).toEqual(computeRegression(geometry, params, "2020", unemployment, [{ code: "heavy_industry_share", values: industry }]));

@@ -11,6 +11,7 @@ describe("run parameters", () => {
       correction: "fdr",
       local: true,
       sequential: false,
+      rates: "raw",
     });
   });
 
