@@ -41,6 +41,12 @@ export function CompareScreen({ slug, indicators }: { slug: string; indicators: 
       </div>
       {a === b && a ? <Notice>Choose two different periods.</Notice> : null}
       {data.error ? <Notice tone="error">{data.error.message}</Notice> : null}
+      {c && timeline.data?.run.params.empiricalBayes?.some((d) => d.indicator === indicator) ? (
+        <Notice>
+          This run analysed {label.toLowerCase()} as empirical-Bayes standardised rates: the two periods&apos; Moran&apos;s I are on the standardised values,
+          while the change between the periods and the bivariate statistic below use the published rates.
+        </Notice>
+      ) : null}
       {data.isPending && a !== b ? <p className="text-sm text-ink-500">Computing the comparison…</p> : null}
       {c ? (
         <>

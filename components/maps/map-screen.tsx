@@ -227,7 +227,12 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
               )}
             </Panel>
           </div>
-          <PanelTransitions slug={slug} indicator={indicator} runId={runId} />
+          <PanelTransitions
+            slug={slug}
+            indicator={indicator}
+            runId={runId}
+            standardisedInRun={mapA.data.run.params.empiricalBayes?.some((d) => d.indicator === indicator) ?? false}
+          />
           <div className="grid gap-6 lg:grid-cols-2">
             {[mapA.data.map, mapB.data.map].map((m, k) => (
               <ScatterPanel key={`scatter-${k}`} map={m} unit={unit} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} />

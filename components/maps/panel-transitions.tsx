@@ -14,7 +14,18 @@ const SHARE: Record<number, string> = { 3: "third", 4: "quarter", 5: "fifth" };
  * Spatial Markov tables of one indicator over all periods of a run, each
  * period to the next, with the test of homogeneity (GET …/map/transitions).
  */
-export function PanelTransitions({ slug, indicator, runId }: { slug: string; indicator: string; runId: number | null }) {
+export function PanelTransitions({
+  slug,
+  indicator,
+  runId,
+  standardisedInRun = false,
+}: {
+  slug: string;
+  indicator: string;
+  runId: number | null;
+  /** The run analysed this rate empirical-Bayes standardised; the tables class the published rates, so say so. */
+  standardisedInRun?: boolean;
+}) {
   const [classes, setClasses] = useState<number>(5);
   const query = useQuery(panelTransitionsQuery(slug, indicator, runId, classes));
   const t = query.data?.transitions;
@@ -46,6 +57,9 @@ export function PanelTransitions({ slug, indicator, runId }: { slug: string; ind
         </>
       }
     >
+      {standardisedInRun ? (
+        <Notice>The run analysed this rate empirical-Bayes standardised; these tables class the published rates, whose small-population noise moves regions between classes.</Notice>
+      ) : null}
       {query.error ? <Notice tone="error">{query.error.message}</Notice> : null}
       {query.isPending ? <p className="text-sm text-ink-500">Counting moves over every pair of periods…</p> : null}
       {t ? <Tables t={t} /> : null}

@@ -75,7 +75,7 @@ it("the demo run standardises the closures rate, and its map switches between ra
   await island.waitFor();
 
   // The run is named as EB-standardised wherever it is picked.
-  await expect(page.locator("#map-run option:checked").innerText()).resolves.toMatch(/· EB-standardised$/);
+  await expect(page.locator("#map-run option:checked").innerText()).resolves.toMatch(/· EB-standardised( · controls for .+)?$/);
 
   const layers = page.getByRole("radiogroup", { name: "Rate layer" });
   expect(await layers.getByRole("radio", { name: "Raw rate" }).getAttribute("aria-checked")).toBe("true");
@@ -105,5 +105,5 @@ it("the demo run standardises the closures rate, and its map switches between ra
   // The queue lists which indicators the run standardised.
   await page.goto(`/w/${slug}/runs`);
   await expect(page.getByTestId(`run-${runId}-rates`).innerText()).resolves.toMatch(new RegExp(`EB-standardised \\(${INDICATOR}\\)`));
-  await expect(page.locator(`[data-testid="run-${runId}"] [data-testid="run-label"]`).innerText()).resolves.toMatch(/· EB-standardised$/);
+  await expect(page.locator(`[data-testid="run-${runId}"] [data-testid="run-label"]`).innerText()).resolves.toMatch(/· EB-standardised( · controls for .+)?$/);
 });
