@@ -101,6 +101,8 @@ it("the demo run standardises the closures rate, and its map switches between ra
   await layers.getByRole("radio", { name: "Raw rate" }).click();
   await page.getByRole("img", { name: `Raw rate map, ${a}`, exact: true }).waitFor();
   expect(await valueOf()).toBe(raw);
+  // The whole-panel transition tables class the published rates, and say so for a run that standardised them.
+  await page.getByText("these tables class the published rates").waitFor();
 
   // The queue lists which indicators the run standardised.
   await page.goto(`/w/${slug}/runs`);
