@@ -78,10 +78,12 @@ it("an economist runs the demo panel, filters the catalogue, opens the unemploym
   const veldmark = panelLabels.find((label) => label.startsWith(panelPrefix));
   if (!veldmark) throw new Error(`No Veldmark panel among the published versions: ${panelLabels.join("; ")}`);
   await panelSelect.selectOption({ label: veldmark });
-  await form.getByRole("checkbox", { name: "Unemployment rate", exact: true }).waitFor();
-  for (const label of await form.locator("fieldset label").allInnerTexts()) {
+  // The indicators to analyse (the "Control for" list below offers the same names as covariates).
+  const chosen = form.getByRole("group", { name: "Indicators" });
+  await chosen.getByRole("checkbox", { name: "Unemployment rate", exact: true }).waitFor();
+  for (const label of await chosen.locator("label").allInnerTexts()) {
     const keep = /^(Unemployment rate|Broadband coverage)$/.test(label.trim());
-    const box = form.getByRole("checkbox", { name: label.trim(), exact: true });
+    const box = chosen.getByRole("checkbox", { name: label.trim(), exact: true });
     if ((await box.isChecked()) !== keep) await box.click();
   }
   await page.getByLabel("Seed").fill("20260101");
