@@ -53,6 +53,8 @@ export interface DerivedCrosswalk {
 
 /** Overlaps below this share of their source region are dropped as slivers. */
 export const SLIVER_SHARE = 0.001;
+/** Overlaps below this share are floating-point noise along a shared border, not slivers. */
+const ROUNDING_SHARE = 1e-9;
 
 type Ring = [number, number][];
 interface RegionShape {
@@ -205,6 +207,8 @@ export function deriveCrosswalk(from: TopologyInput, to: TopologyInput): Derived
       const overlap = overlapArea(s, t);
       if (overlap <= 0) continue;
       const share = Math.min(1, overlap / s.area);
+      // Rounding noise of borders the two versions share exactly: no overlap at all.
+      if (share < ROUNDING_SHARE) continue;
       if (share < SLIVER_SHARE) {
         droppedSlivers.push({ from: s.code, to: t.code, share });
         continue;
