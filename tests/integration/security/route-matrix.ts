@@ -320,7 +320,7 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
-    route: `${INTAKE}/harmonise/route.ts`,
+    route: `${INTAKE}/harmonise/defaults/route.ts`,
     method: "GET",
     capability: "data.view-unpublished",
     ok: 200,
