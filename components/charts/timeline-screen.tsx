@@ -13,7 +13,56 @@ import { CLUSTER_CLASS_COLOURS } from "@/lib/runs/cluster-classes";
 import { distanceSentence } from "@/lib/runs/distances";
 import { robustnessQuery } from "@/components/runs/query-options";
 import type { Timeline } from "@/lib/runs/queries";
-import { EChart, INK, MUTED, OCHRE } from "./echart";
+import type { HarmonisationView } from "@/lib/intake/harmonisation";
+import { carriedSentence, crosswalkLabel, methodLabel, reformMarkLabel } from "@/lib/reforms/describe";
+import { Cautions } from "@/components/ui/cautions";
+import { EChart, INK, MUTED, OCHRE, REFORM_MARK, REFORM_SHADE } from "./echart";
+
+/** The reform mark of a harmonised run's charts: a line at the first period on the new boundaries, the carried periods shaded. */
+function reformMarks(harmonisation: HarmonisationView | null, periods: readonly string[]) {
+  if (!harmonisation) return {};
+  const label = reformMarkLabel(harmonisation);
+  const carried = periods.filter((p) => harmonisation.carriedPeriods.includes(p));
+  return {
+    ...(label && periods.includes(harmonisation.firstPeriodOnTarget ?? "")
+      ? {
+          markLine: {
+            symbol: "none",
+            silent: true,
+            lineStyle: { color: REFORM_MARK, type: "solid" as const, width: 1.5 },
+            label: { formatter: label, position: "insideEndTop" as const, color: REFORM_MARK, fontSize: 11 },
+            data: [{ xAxis: harmonisation.firstPeriodOnTarget as string }],
+          },
+        }
+      : {}),
+    ...(carried.length
+      ? { markArea: { silent: true, itemStyle: { color: REFORM_SHADE }, data: [[{ xAxis: carried[0] }, { xAxis: carried[carried.length - 1] }]] as [{ xAxis: string }, { xAxis: string }][] } }
+      : {}),
+  };
+}
+
+/** Above the charts of a harmonised run: what was carried, how, and the areal-weighting caution. */
+function ReformNote({ harmonisation, indicator }: { harmonisation: HarmonisationView; indicator: string }) {
+  return (
+    <div className="grid gap-4 lg:grid-cols-[minmax(0,1fr)_minmax(0,22rem)]" data-testid="timeline-reform">
+      <div className="rounded-lg border border-ink-100 bg-white p-4 text-sm text-ink-700">
+        <h2 className="text-xs font-semibold uppercase tracking-wider text-ink-500">Harmonised across a boundary reform</h2>
+        <p className="mt-2">{carriedSentence(harmonisation)}</p>
+        <p className="mt-1 text-ink-500">
+          This indicator was carried as {methodLabel(harmonisation.methods[indicator])}
+          {harmonisation.source ? (
+            <>
+              {" "}
+              from &apos;{harmonisation.source.panelName}&apos; v{harmonisation.source.version}
+            </>
+          ) : null}
+          . The shaded periods were carried; the line marks the first period on the new boundaries.
+        </p>
+      </div>
+      <Cautions items={["areal-weighting"]} headingId="reform-cautions-heading" heading="Carried values" />
+    </div>
+  );
+}
 
 export function TimelineScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
   const { params, setParams: set, router, indicator, run, timeline: data, periods } = useIndicatorTimeline(slug, indicators);
@@ -45,6 +94,7 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
       {data.data ? (
         <>
           {data.data.indicator.description ? <p className="max-w-3xl text-sm text-ink-600">{data.data.indicator.description}</p> : null}
+          {data.data.harmonisation ? <ReformNote harmonisation={data.data.harmonisation} indicator={data.data.indicator.code} /> : null}
           <MoranChart timeline={data.data} onPeriod={openMap} />
           <ZChart timeline={data.data} onPeriod={openMap} />
           <RobustnessStrip slug={slug} indicator={indicator} run={data.data.run.id} period={strip} periods={periods} onPeriod={(p) => set({ period: p })} />
@@ -57,6 +107,7 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
 
 function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period: string) => void }) {
   const pts = timeline.points;
+  const reform = timeline.harmonisation;
   const periods = pts.map((p) => p.period);
   const significant = pts.map((p) => (p.significance === "clustering" || p.significance === "dispersion" ? p.I : null));
   const option: EChartsOption = {
@@ -65,6 +116,19 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
     tooltip: {
       trigger: "axis",
       valueFormatter: (v) => (typeof v === "number" ? v.toFixed(3) : String(v ?? "—")),
+      ...(reform
+        ? {
+            formatter: (raw: unknown) => {
+              const items = (Array.isArray(raw) ? raw : [raw]) as { axisValue?: string; seriesName?: string; value?: unknown; marker?: string }[];
+              const period = items[0]?.axisValue ?? "";
+              const lines = items
+                .filter((i) => i.seriesName && !i.seriesName.startsWith("band") && !i.seriesName.startsWith("95 %"))
+                .map((i) => `${i.marker ?? ""}${i.seriesName}: ${typeof i.value === "number" ? i.value.toFixed(3) : "—"}`);
+              const where = reform.carriedPeriods.includes(period) ? `Carried across the reform through ${crosswalkLabel(reform)}` : "Observed on the new boundaries";
+              return [period, ...lines, where].join("<br/>");
+            },
+          }
+        : {}),
     },
     xAxis: { type: "category", data: periods, name: "Period (year)", nameLocation: "middle", nameGap: 30, axisLine: { lineStyle: { color: MUTED } }, axisLabel: { color: INK } },
     yAxis: { type: "value", name: "Moran's I (unitless)", nameLocation: "middle", nameGap: 48, axisLabel: { color: INK }, splitLine: { lineStyle: { color: "#eef1f6" } } },
@@ -84,7 +148,7 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
         tooltip: { show: false },
       },
       { name: "E[I]", type: "line", data: pts.map((p) => p.expectedI), lineStyle: { type: "dashed", color: MUTED, width: 1.5 }, itemStyle: { color: MUTED }, symbol: "none" },
-      { name: "Moran's I", type: "line", data: pts.map((p) => p.I), lineStyle: { color: INK, width: 2.5 }, itemStyle: { color: INK }, symbolSize: 6, connectNulls: false },
+      { name: "Moran's I", type: "line", data: pts.map((p) => p.I), lineStyle: { color: INK, width: 2.5 }, itemStyle: { color: INK }, symbolSize: 6, connectNulls: false, ...reformMarks(reform, periods) },
       { name: "Significant after correction", type: "scatter", data: significant, itemStyle: { color: OCHRE, borderColor: "#fff", borderWidth: 1.5 }, symbolSize: 12, z: 5 },
     ],
   };
@@ -96,6 +160,7 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
           The grey band holds the middle 95 % (2.5 %–97.5 % quantiles) of I under the null of no spatial pattern, from{" "}
           {timeline.run.params.permutations.toLocaleString("en-GB")} random relabellings of the values (the same draws in every period). The dashed line is
           E[I] = −1/(n−1). Ochre points are periods significant after the run&apos;s correction. Click a period to open its map.
+          {reform ? <span data-testid="timeline-reform-caption"> {carriedSentence(reform)} Shaded periods were carried; I there is computed on values spread across the new boundaries, not observed on them.</span> : null}
         </>
       }
     >
@@ -128,6 +193,8 @@ function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period:
           data: [{ yAxis: 1.96 }, { yAxis: -1.96 }],
         },
       },
+      // The reform's line and shading on an empty series of their own (the bars carry the ±1.96 lines).
+      ...(timeline.harmonisation ? [{ name: "reform", type: "line" as const, data: [] as number[], ...reformMarks(timeline.harmonisation, pts.map((p) => p.period)) }] : []),
     ],
   };
   return (

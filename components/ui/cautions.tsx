@@ -1,7 +1,11 @@
 // The cautions of docs/statistics.md: shown beside every result. Items can be narrowed to the
 // ones a particular result needs (e.g. leave out "small n" for a large panel).
 
-export type CautionKey = "causation" | "maup" | "multiple" | "small-n" | "small-rates";
+export type CautionKey = "causation" | "maup" | "multiple" | "small-n" | "small-rates" | "areal-weighting";
+
+/** Shown beside results of harmonised panel versions (the harmonise form, a harmonised version, the timeline of a run on one). */
+export const AREAL_WEIGHTING_CAUTION =
+  "Areal weighting assumes that values are spread evenly within each old region. Where people or firms cluster, shares by area misplace them; a population-weighted crosswalk (for example from the statistics office) is better where one exists.";
 
 const CAUTIONS: Record<CautionKey, { title: string; body: string }> = {
   causation: {
@@ -24,22 +28,37 @@ const CAUTIONS: Record<CautionKey, { title: string; body: string }> = {
     title: "Rates on small populations",
     body: "Rates on small bases are noisy, and the noise of small regions can dominate Moran's I. Runs do not yet smooth rates (empirical Bayes): read results on such rates with care.",
   },
+  "areal-weighting": {
+    title: "Carried across a boundary reform",
+    body: AREAL_WEIGHTING_CAUTION,
+  },
 };
 
 const ALL: CautionKey[] = ["causation", "maup", "multiple", "small-n", "small-rates"];
 
-export function Cautions({ items = ALL, className = "" }: { items?: CautionKey[]; className?: string }) {
+export function Cautions({
+  items = ALL,
+  className = "",
+  headingId = "cautions-heading",
+  heading = "Read results with care",
+}: {
+  items?: CautionKey[];
+  className?: string;
+  /** A second box on one page needs its own heading id. */
+  headingId?: string;
+  heading?: string;
+}) {
   return (
     <aside
-      aria-labelledby="cautions-heading"
+      aria-labelledby={headingId}
       className={`rounded-lg border border-ochre-200 bg-ochre-50 p-5 text-sm text-ink-700 ${className}`}
     >
-      <h2 id="cautions-heading" className="flex items-center gap-2 text-xs font-semibold uppercase tracking-wider text-ochre-800">
+      <h2 id={headingId} className="flex items-center gap-2 text-xs font-semibold uppercase tracking-wider text-ochre-800">
         <svg viewBox="0 0 20 20" className="h-4 w-4" aria-hidden="true">
           <path d="M10 2 19 18H1L10 2Z" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinejoin="round" />
           <path d="M10 8v4.5M10 14.8v.2" stroke="currentColor" strokeWidth="1.8" strokeLinecap="round" />
         </svg>
-        Read results with care
+        {heading}
       </h2>
       <ul className="mt-3 space-y-2.5">
         {items.map((key) => (

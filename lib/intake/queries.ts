@@ -9,6 +9,7 @@ import { QueryTypes } from "sequelize";
 import { db } from "@/lib/db";
 import type { VersionState } from "@/models/intake-types";
 import { indicatorMetadata, type IndicatorMeta } from "./published-panel";
+import { harmonisationView, type HarmonisationView } from "./harmonisation";
 
 export interface VersionSummary {
   id: number;
@@ -177,8 +178,8 @@ export interface VersionDetail extends VersionSummary {
   /** Panels: layout, decimal separator and mapping; boundaries: object and properties. */
   settings: Record<string, unknown>;
   boundaryVersionId: number | null;
-  /** Panels made by harmonising another version through a crosswalk (lib/reforms): how; null for uploads and boundaries. */
-  harmonisation?: import("@/models/intake-types").HarmonisationProvenance | null;
+  /** Panels made by harmonising another version through a crosswalk (lib/reforms): how, with the names of what it names; null for uploads and boundaries. */
+  harmonisation?: HarmonisationView | null;
 }
 
 /**
@@ -231,6 +232,6 @@ export async function versionDetail(workspaceId: number, kind: "boundaries" | "p
     diff: row.diff,
     settings: { layout: row.layout, decimal: row.decimal_separator, mapping: row.mapping },
     boundaryVersionId: row.boundary_version_id,
-    harmonisation: row.harmonisation,
+    harmonisation: row.harmonisation ? await harmonisationView(workspaceId, row.harmonisation) : null,
   };
 }
