@@ -8,7 +8,8 @@ import { closeConnections } from "@/tests/helpers/teardown";
 import { buildWorld, memberOf, type World } from "@/tests/integration/security/fixtures-world";
 import { authorizeMember } from "@/lib/auth/guard";
 import { db } from "@/lib/db";
-import { completeUpload, createBoundaryVersion, createUpload, publishVersion } from "@/lib/intake/service";
+import { completeUpload, createBoundaryVersion, createPanelVersion, createUpload, publishVersion } from "@/lib/intake/service";
+import { versionDetail } from "@/lib/intake/queries";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";
 import { putObject } from "@/lib/storage/s3";
@@ -19,7 +20,7 @@ const DATA = path.join(__dirname, "..", "..", "..", "seeders", "data", "veldmark
 let world: World;
 let reformVersionId: number;
 
-async function upload(kind: "boundaries" | "crosswalk", fileName: string, content: string): Promise<string> {
+async function upload(kind: "boundaries" | "crosswalk" | "panel", fileName: string, content: string): Promise<string> {
   const member = await memberOf(world, "steward");
   const ticket = await createUpload(member, { kind, fileName, size: Buffer.byteLength(content), sha256: createHash("sha256").update(content).digest("hex") });
   const row = await db().query<{ s3_key: string }>("SELECT s3_key FROM uploads WHERE id = $1", { bind: [ticket.uploadId], type: QueryTypes.SELECT });
@@ -100,6 +101,47 @@ describe("boundary reforms", () => {
     const merged = value(rows, "VM-M01");
     expect(merged).toBeGreaterThanOrEqual(Math.min(value(source, "VM-033"), value(source, "VM-040")) - 1e-9);
     expect(merged).toBeLessThanOrEqual(Math.max(value(source, "VM-033"), value(source, "VM-040")) + 1e-9);
+  }, 120_000);
+
+  it("takes a continuation's periods as observed and carries only the others, naming them in the version detail", async () => {
+    const steward = await authorizeMember(world.users.steward.id, world.workspace.slug, "data.curate");
+    const { id: crosswalkId } = await deriveCrosswalkFor(steward, { fromBoundaryVersionId: world.panel.boundaryVersionId, toBoundaryVersionId: reformVersionId });
+    // The last period observed on the reformed districts: every region a value of its own.
+    const last = world.periods[world.periods.length - 1];
+    const regions = await db().query<{ code: string }>("SELECT code FROM regions WHERE boundary_version_id = $1 ORDER BY code", { bind: [reformVersionId], type: QueryTypes.SELECT });
+    const observed = new Map(regions.map((r, i) => [r.code, 3 + (i % 11) / 2]));
+    const lines = ["region,period,indicator,value", ...[...observed].map(([code, value]) => `${code},${last},unemployment_rate,${value}`)];
+    const uploadId = await upload("panel", `observed-${Date.now()}.csv`, `${lines.join("\n")}\n`);
+    const panelName = `On the reformed districts ${Date.now()}`;
+    const set = await db().query<{ boundary_set_id: number }>("SELECT boundary_set_id FROM boundary_versions WHERE id = $1", { bind: [reformVersionId], type: QueryTypes.SELECT });
+    const continuation = await createPanelVersion(
+      steward,
+      { uploadId, panelName, boundarySetId: set[0].boundary_set_id, boundaryVersionId: reformVersionId, decimal: ".", mapping: { layout: "long", region: "region", period: "period", indicator: "indicator", value: "value" }, remember: false },
+      { enqueueJob: false },
+    );
+    expect((await ingestPanelVersion(continuation.id)).state).toBe("validated");
+
+    const made = await harmonisePanel(steward, { panelVersionId: world.panel.panelVersionId, crosswalkId, panelName, continuationPanelVersionId: continuation.id }, { enqueueJob: false });
+    expect(made.version).toBe(2);
+    expect(made.provenance.carriedPeriods).toEqual(world.periods.slice(0, -1));
+    expect(made.provenance.firstPeriodOnTarget).toBe(last);
+    expect((await ingestPanelVersion(made.id)).state).toBe("validated");
+    const rows = await db().query<{ region_code: string; value: number }>(
+      "SELECT region_code, value FROM observations WHERE panel_version_id = $1 AND indicator_code = 'unemployment_rate' AND period_key = $2",
+      { bind: [made.id, last], type: QueryTypes.SELECT },
+    );
+    expect(rows.length).toBe(observed.size);
+    for (const r of rows) expect(Number(r.value)).toBe(observed.get(r.region_code));
+
+    const detail = await versionDetail(world.workspace.id, "panel", made.id, true);
+    expect(detail?.harmonisation).toMatchObject({
+      carriedPeriods: world.periods.slice(0, -1),
+      firstPeriodOnTarget: last,
+      source: { panelVersionId: world.panel.panelVersionId },
+      crosswalk: { id: crosswalkId, origin: "derived" },
+      continuation: { panelVersionId: continuation.id, panelName, version: 1 },
+    });
+    expect(detail?.harmonisation?.toBoundary?.version).toBeGreaterThan(0);
   }, 120_000);
 
   it("refuses viewers and other workspaces", async () => {
