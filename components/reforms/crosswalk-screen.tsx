@@ -191,7 +191,12 @@ function HarmoniseForm({ slug, detail }: { slug: string; detail: CrosswalkDetail
   const candidates = (overview.data?.panels ?? []).flatMap((p) =>
     p.versions.filter((v) => (v.state === "validated" || v.state === "published") && p.boundarySetName === detail.from.setName && v.boundaryVersion === detail.from.version).map((v) => ({ id: v.id, label: `${p.name} v${v.version} (${v.state})` })),
   );
+  // Versions already on the new boundaries: their periods are taken as observed there, the source's other periods carried.
+  const continuations = (overview.data?.panels ?? []).flatMap((p) =>
+    p.versions.filter((v) => (v.state === "validated" || v.state === "published") && p.boundarySetName === detail.to.setName && v.boundaryVersion === detail.to.version).map((v) => ({ id: v.id, label: `${p.name} v${v.version} (${v.state})` })),
+  );
   const [panelVersionId, setPanelVersionId] = useState("");
+  const [continuationId, setContinuationId] = useState("");
   const [chosen, setChosen] = useState<Record<string, ChosenMethod>>({});
   const defaults = useQuery({
     queryKey: ["reforms", slug, "defaults", panelVersionId],
@@ -199,7 +204,13 @@ function HarmoniseForm({ slug, detail }: { slug: string; detail: CrosswalkDetail
     enabled: panelVersionId !== "",
   });
   const harmonise = useMutation({
-    mutationFn: () => apiFetch<HarmonisedVersion>(`${intakeBase(slug)}/harmonise`, { method: "POST", body: JSON.stringify({ panelVersionId: Number(panelVersionId), crosswalkId: detail.id, methods: chosen }) }),
+    mutationFn: () => apiFetch<HarmonisedVersion>(`${intakeBase(slug)}/harmonise`, { method: "POST", body: JSON.stringify({
+          panelVersionId: Number(panelVersionId),
+          crosswalkId: detail.id,
+          methods: chosen,
+          ...(continuationId ? { continuationPanelVersionId: Number(continuationId) } : {}),
+        }),
+      }),
   });
   const counts = Object.entries(defaults.data?.methods ?? {}).filter(([, m]) => m.kind === "extensive").map(([code]) => code);
   return (
@@ -217,6 +228,20 @@ function HarmoniseForm({ slug, detail }: { slug: string; detail: CrosswalkDetail
             </option>
           ))}
         </select>
+      </label>
+      <label className={`${labelClass} mt-4`}>
+        Observed on {detail.to.setName} v{detail.to.version} (optional)
+        <select className={`${inputClass} mt-1`} value={continuationId} onChange={(e) => setContinuationId(e.target.value)} data-testid="harmonise-continuation">
+          <option value="">None: carry every period</option>
+          {continuations.map((c) => (
+            <option key={c.id} value={c.id}>
+              {c.label}
+            </option>
+          ))}
+        </select>
+        <span className="mt-1 block text-xs font-normal text-ink-500">
+          A version already on the new boundaries: its periods are kept as observed, the others are carried across, and its first period is recorded as the first on the new boundaries.
+        </span>
       </label>
       {defaults.data ? (
         <table className="mt-4 w-full text-left text-sm" data-testid="harmonise-methods">

@@ -27,14 +27,12 @@ import { ingestPanelVersion } from "@/lib/intake/ingest-panel";
 import { deriveCrosswalkFor, harmonisePanel } from "@/lib/reforms/service";
 import { closeS3 } from "@/lib/storage/s3";
 import { models } from "@/lib/models";
-import { buildReform, continuationPanel, REFORM_YEAR } from "./veldmark/reform";
+import { buildReform, continuationPanel, REFORM_BOUNDARY_SET, REFORM_PANEL, REFORM_YEAR } from "./veldmark/reform";
 
 const ROOT = path.resolve(__dirname, "..", "..");
 const ACCOUNTS = path.join(ROOT, "seeders", "demo-accounts.json");
 const BASE = path.join(ROOT, "seeders", "data", "veldmark", "veldmark.topojson");
 const DEMO_PANEL_FILE = path.join(ROOT, "seeders", "data", "veldmark", "veldmark-panel.csv");
-export const REFORM_BOUNDARY_SET = "Veldmark districts (2019 reform)";
-export const REFORM_PANEL = "Veldmark indicators on the 2019 districts";
 const DEMO_PANEL = "Veldmark district indicators 2008–2024";
 
 const log = (message: string) => console.log(`[seed-demo-reform] ${message}`);

@@ -11,6 +11,10 @@ import type { Feature, FeatureCollection, MultiPolygon, Polygon, Position } from
 import type { GeometryCollection, GeometryObject, Topology } from "topojson-specification";
 import { SeededRandom } from "./random";
 
+/** The demo workspace's names for the reformed districts and the panel on them (scripts/demo/seed-demo-reform.ts). */
+export const REFORM_BOUNDARY_SET = "Veldmark districts (2019 reform)";
+export const REFORM_PANEL = "Veldmark indicators on the 2019 districts";
+
 /** The districts that merge with their lowest-numbered free mainland neighbour, and the one that splits. */
 export const REFORM_MERGE_SEEDS = ["VM-040", "VM-120", "VM-160"] as const;
 export const REFORM_SPLIT = "VM-200";
