@@ -19,7 +19,7 @@ import { Cautions } from "@/components/ui/cautions";
 import { EChart, INK, MUTED, OCHRE, REFORM_MARK, REFORM_SHADE } from "./echart";
 
 /** The reform mark of a harmonised run's charts: a line at the first period on the new boundaries, the carried periods shaded. */
-function reformMarks(harmonisation: HarmonisationView | null, periods: readonly string[]) {
+function reformMarks(harmonisation: HarmonisationView | null, periods: readonly string[], withLabel = true) {
   if (!harmonisation) return {};
   const label = reformMarkLabel(harmonisation);
   const carried = periods.filter((p) => harmonisation.carriedPeriods.includes(p));
@@ -30,7 +30,9 @@ function reformMarks(harmonisation: HarmonisationView | null, periods: readonly 
             symbol: "none",
             silent: true,
             lineStyle: { color: REFORM_MARK, type: "solid" as const, width: 1.5 },
-            label: { formatter: label, position: "insideEndTop" as const, color: REFORM_MARK, fontSize: 11 },
+            label: withLabel
+              ? { formatter: label, position: "insideEndTop" as const, color: REFORM_MARK, fontSize: 11, backgroundColor: "rgba(255,255,255,0.85)", padding: [1, 3] }
+              : { show: false },
             data: [{ xAxis: harmonisation.firstPeriodOnTarget as string }],
           },
         }
@@ -194,7 +196,7 @@ function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period:
         },
       },
       // The reform's line and shading on an empty series of their own (the bars carry the ±1.96 lines).
-      ...(timeline.harmonisation ? [{ name: "reform", type: "line" as const, data: [] as number[], ...reformMarks(timeline.harmonisation, pts.map((p) => p.period)) }] : []),
+      ...(timeline.harmonisation ? [{ name: "reform", type: "line" as const, data: [] as number[], ...reformMarks(timeline.harmonisation, pts.map((p) => p.period), false) }] : []),
     ],
   };
   return (
