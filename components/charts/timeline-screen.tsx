@@ -18,6 +18,11 @@ import { carriedSentence, crosswalkLabel, methodLabel, reformMarkLabel } from "@
 import { Cautions } from "@/components/ui/cautions";
 import { EChart, INK, MUTED, OCHRE, REFORM_MARK, REFORM_SHADE } from "./echart";
 
+/** Tooltips built by hand are HTML: period keys, names and labels come from uploads and are escaped. */
+function escapeHtml(text: string): string {
+  return text.replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c] as string);
+}
+
 /** The reform mark of a harmonised run's charts: a line at the first period on the new boundaries, the carried periods shaded. */
 function reformMarks(harmonisation: HarmonisationView | null, periods: readonly string[], withLabel = true) {
   if (!harmonisation) return {};
@@ -125,9 +130,10 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
               const period = items[0]?.axisValue ?? "";
               const lines = items
                 .filter((i) => i.seriesName && !i.seriesName.startsWith("band") && !i.seriesName.startsWith("95 %"))
-                .map((i) => `${i.marker ?? ""}${i.seriesName}: ${typeof i.value === "number" ? i.value.toFixed(3) : "—"}`);
+                // marker is ECharts' own coloured dot (HTML it builds from the palette).
+                .map((i) => `${i.marker ?? ""}${escapeHtml(i.seriesName ?? "")}: ${typeof i.value === "number" ? i.value.toFixed(3) : "—"}`);
               const where = reform.carriedPeriods.includes(period) ? `Carried across the reform through ${crosswalkLabel(reform)}` : "Observed on the new boundaries";
-              return [period, ...lines, where].join("<br/>");
+              return [escapeHtml(period), ...lines, escapeHtml(where)].join("<br/>");
             },
           }
         : {}),
