@@ -15,6 +15,8 @@ export type AuditAction =
   | "version.published"
   | "version.archived"
   | "indicator.updated"
+  | "crosswalk.created"
+  | "panel.harmonised"
   | "run.started"
   | "run.rerun"
   | "run.cancelled"

@@ -6,7 +6,7 @@
 export const VERSION_STATES = ["uploaded", "validated", "rejected", "published", "archived"] as const;
 export type VersionState = (typeof VERSION_STATES)[number];
 
-export const UPLOAD_KINDS = ["boundaries", "panel"] as const;
+export const UPLOAD_KINDS = ["boundaries", "panel", "crosswalk"] as const;
 export type UploadKind = (typeof UPLOAD_KINDS)[number];
 export const UPLOAD_STATES = ["pending", "received", "failed"] as const;
 export type UploadState = (typeof UPLOAD_STATES)[number];
@@ -27,4 +27,20 @@ export interface VersionDiff {
   changedValues?: number;
   /** Up to 20 examples of changed values. */
   changedExamples?: { indicator: string; period: string; region: string; before: number | null; after: number | null }[];
+}
+
+/** How a harmonised panel version was made (migrations/20261213000200-boundary-reforms.js); lib/reforms writes it. */
+export interface HarmonisationProvenance {
+  sourcePanelVersionId: number;
+  crosswalkId: number;
+  fromBoundaryVersionId: number;
+  toBoundaryVersionId: number;
+  /** Per indicator: extensive (share-weighted sums), intensive (overlap-weighted means), intensive-by (weighted by a denominator indicator) or rate (re-derived from harmonised events and population). */
+  methods: Record<string, { kind: "extensive" } | { kind: "intensive" } | { kind: "intensive-by"; denominator: string } | { kind: "rate"; events: string; population: string }>;
+  /** Periods whose values were carried across the reform from the source geography (all periods of the source version). */
+  carriedPeriods: string[];
+  /** The first period observed on the target geography, when known (the reform's effective period); null when every period was carried. */
+  firstPeriodOnTarget: string | null;
+  /** The version on the target boundaries whose periods were taken as observed there, if any. */
+  continuationPanelVersionId?: number;
 }

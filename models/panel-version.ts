@@ -1,5 +1,5 @@
 import { Model, type CreationOptional, type InferAttributes, type InferCreationAttributes } from "sequelize";
-import type { VersionState, PanelLayoutName, DecimalSeparatorName, VersionDiff } from "./intake-types";
+import type { VersionState, PanelLayoutName, DecimalSeparatorName, VersionDiff, HarmonisationProvenance } from "./intake-types";
 
 export class PanelVersion extends Model<InferAttributes<PanelVersion>, InferCreationAttributes<PanelVersion>> {
   declare id: CreationOptional<number>;
@@ -22,6 +22,10 @@ export class PanelVersion extends Model<InferAttributes<PanelVersion>, InferCrea
   /** The boundary version whose region codes the panel was matched against. */
   declare boundaryVersionId: number;
   declare rowCount: number | null;
+  /** For a harmonised version: the panel version it was made from, the crosswalk, and how (null for uploads). */
+  declare sourcePanelVersionId: CreationOptional<number | null>;
+  declare crosswalkId: CreationOptional<number | null>;
+  declare harmonisation: CreationOptional<HarmonisationProvenance | null>;
   /** A lib/intake PanelReport (plus `stage` on a rejection outside the validator). */
   declare report: Record<string, unknown> | null;
   declare diff: VersionDiff | null;

@@ -8,6 +8,9 @@ import type { EChartsOption } from "echarts";
 export const INK = "#1e2a44";
 export const OCHRE = "#c98a1b";
 export const MUTED = "#94a1bd";
+/** The boundary-reform mark on timelines (ink-500) and the shading of carried periods (ink-50). */
+export const REFORM_MARK = "#45557b";
+export const REFORM_SHADE = "rgba(195,203,219,0.22)";
 
 export function EChart({
   option,

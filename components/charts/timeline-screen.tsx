@@ -14,7 +14,59 @@ import { distanceSentence } from "@/lib/runs/distances";
 import { robustnessQuery } from "@/components/runs/query-options";
 import type { Timeline } from "@/lib/runs/queries";
 import { MODEL_SUGGESTION_LABELS } from "@/lib/runs/types";
-import { EChart, INK, MUTED, OCHRE } from "./echart";
+import type { HarmonisationView } from "@/lib/intake/harmonisation";
+import { carriedSentence, crosswalkLabel, methodLabel, reformMarkLabel } from "@/lib/reforms/describe";
+import { Cautions } from "@/components/ui/cautions";
+import { escapeHtml } from "@/lib/security/html";
+import { EChart, INK, MUTED, OCHRE, REFORM_MARK, REFORM_SHADE } from "./echart";
+
+/** The reform mark of a harmonised run's charts: a line at the first period on the new boundaries, the carried periods shaded. */
+function reformMarks(harmonisation: HarmonisationView | null, periods: readonly string[], withLabel = true) {
+  if (!harmonisation) return {};
+  const label = reformMarkLabel(harmonisation);
+  const carried = periods.filter((p) => harmonisation.carriedPeriods.includes(p));
+  return {
+    ...(label && periods.includes(harmonisation.firstPeriodOnTarget ?? "")
+      ? {
+          markLine: {
+            symbol: "none",
+            silent: true,
+            lineStyle: { color: REFORM_MARK, type: "solid" as const, width: 1.5 },
+            label: withLabel
+              ? { formatter: label, position: "insideEndTop" as const, color: REFORM_MARK, fontSize: 11, backgroundColor: "rgba(255,255,255,0.85)", padding: [1, 3] }
+              : { show: false },
+            data: [{ xAxis: harmonisation.firstPeriodOnTarget as string }],
+          },
+        }
+      : {}),
+    ...(carried.length
+      ? { markArea: { silent: true, itemStyle: { color: REFORM_SHADE }, data: [[{ xAxis: carried[0] }, { xAxis: carried[carried.length - 1] }]] as [{ xAxis: string }, { xAxis: string }][] } }
+      : {}),
+  };
+}
+
+/** Above the charts of a harmonised run: what was carried, how, and the areal-weighting caution. */
+function ReformNote({ harmonisation, indicator }: { harmonisation: HarmonisationView; indicator: string }) {
+  return (
+    <div className="grid gap-4 lg:grid-cols-[minmax(0,1fr)_minmax(0,22rem)]" data-testid="timeline-reform">
+      <div className="rounded-lg border border-ink-100 bg-white p-4 text-sm text-ink-700">
+        <h2 className="text-xs font-semibold uppercase tracking-wider text-ink-500">Harmonised across a boundary reform</h2>
+        <p className="mt-2">{carriedSentence(harmonisation)}</p>
+        <p className="mt-1 text-ink-500">
+          This indicator was carried as {methodLabel(harmonisation.methods[indicator])}
+          {harmonisation.source ? (
+            <>
+              {" "}
+              from &apos;{harmonisation.source.panelName}&apos; v{harmonisation.source.version}
+            </>
+          ) : null}
+          . The shaded periods were carried; the line marks the first period on the new boundaries.
+        </p>
+      </div>
+      <Cautions items={["areal-weighting"]} headingId="reform-cautions-heading" heading="Carried values" />
+    </div>
+  );
+}
 
 /** The residual line: ochre-700 of the palette, dotted with diamonds so it reads apart from the solid I and the round significance marks. */
 const RESIDUAL = "#865214";
@@ -50,6 +102,7 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
       {data.data ? (
         <>
           {data.data.indicator.description ? <p className="max-w-3xl text-sm text-ink-600">{data.data.indicator.description}</p> : null}
+          {data.data.harmonisation ? <ReformNote harmonisation={data.data.harmonisation} indicator={data.data.indicator.code} /> : null}
           <MoranChart timeline={data.data} onPeriod={openMap} />
           <ZChart timeline={data.data} onPeriod={openMap} />
           <RobustnessStrip slug={slug} indicator={indicator} run={data.data.run.id} period={strip} periods={periods} onPeriod={(p) => set({ period: p })} />
@@ -62,6 +115,7 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
 
 function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period: string) => void }) {
   const pts = timeline.points;
+  const reform = timeline.harmonisation;
   const periods = pts.map((p) => p.period);
   const significant = pts.map((p) => (p.significance === "clustering" || p.significance === "dispersion" ? p.I : null));
   const controlFor = timeline.run.params.controlFor ?? [];
@@ -79,6 +133,20 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
     tooltip: {
       trigger: "axis",
       valueFormatter: (v) => (typeof v === "number" ? v.toFixed(3) : String(v ?? "—")),
+      ...(reform
+        ? {
+            formatter: (raw: unknown) => {
+              const items = (Array.isArray(raw) ? raw : [raw]) as { axisValue?: string; seriesName?: string; value?: unknown; marker?: string }[];
+              const period = items[0]?.axisValue ?? "";
+              const lines = items
+                .filter((i) => i.seriesName && !i.seriesName.startsWith("band") && !i.seriesName.startsWith("95 %"))
+                // marker is ECharts' own coloured dot (HTML it builds from the palette).
+                .map((i) => `${i.marker ?? ""}${escapeHtml(i.seriesName ?? "")}: ${typeof i.value === "number" ? i.value.toFixed(3) : "—"}`);
+              const where = reform.carriedPeriods.includes(period) ? `Carried across the reform through ${crosswalkLabel(reform)}` : "Observed on the new boundaries";
+              return [escapeHtml(period), ...lines, escapeHtml(where)].join("<br/>");
+            },
+          }
+        : {}),
     },
     xAxis: { type: "category", data: periods, name: "Period (year)", nameLocation: "middle", nameGap: 30, axisLine: { lineStyle: { color: MUTED } }, axisLabel: { color: INK } },
     yAxis: { type: "value", name: "Moran's I (unitless)", nameLocation: "middle", nameGap: 48, axisLabel: { color: INK }, splitLine: { lineStyle: { color: "#eef1f6" } } },
@@ -98,7 +166,7 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
         tooltip: { show: false },
       },
       { name: "E[I]", type: "line", data: pts.map((p) => p.expectedI), lineStyle: { type: "dashed", color: MUTED, width: 1.5 }, itemStyle: { color: MUTED }, symbol: "none" },
-      { name: "Moran's I", type: "line", data: pts.map((p) => p.I), lineStyle: { color: INK, width: 2.5 }, itemStyle: { color: INK }, symbolSize: 6, connectNulls: false },
+      { name: "Moran's I", type: "line", data: pts.map((p) => p.I), lineStyle: { color: INK, width: 2.5 }, itemStyle: { color: INK }, symbolSize: 6, connectNulls: false, ...reformMarks(reform, periods) },
       ...(residual
         ? [
             {
@@ -132,6 +200,7 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
               residual dependence is slightly negative and differs by period; the period view gives it with the regression.
             </span>
           ) : null}
+          {reform ? <span data-testid="timeline-reform-caption"> {carriedSentence(reform)} Shaded periods were carried; I there is computed on values spread across the new boundaries, not observed on them.</span> : null}
         </>
       }
     >
@@ -164,6 +233,8 @@ function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period:
           data: [{ yAxis: 1.96 }, { yAxis: -1.96 }],
         },
       },
+      // The reform's line and shading on an empty series of their own (the bars carry the ±1.96 lines).
+      ...(timeline.harmonisation ? [{ name: "reform", type: "line" as const, data: [] as number[], ...reformMarks(timeline.harmonisation, pts.map((p) => p.period), false) }] : []),
     ],
   };
   return (

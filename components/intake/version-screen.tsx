@@ -15,6 +15,9 @@ import { BoundaryMap } from "./boundary-map";
 import { Notice, Panel, StateBadge, formatDate } from "./format";
 import { intakeApi, intakeKeys, versionQuery } from "./query-options";
 import { formatBytes } from "./upload-file";
+import type { HarmonisationView } from "@/lib/intake/harmonisation";
+import { carriedSentence, crosswalkLabel, methodLabel, periodSpan } from "@/lib/reforms/describe";
+import { Cautions } from "@/components/ui/cautions";
 
 type Kind = "boundaries" | "panel";
 
@@ -46,9 +49,72 @@ export function VersionScreen({ slug, kind, versionId, canCurate, workspaceName 
         </div>
       </div>
       {v.state === "uploaded" ? <Notice>Validation is running in the background; this page updates when it finishes.</Notice> : null}
+      {v.harmonisation ? <HarmonisationPanel slug={slug} view={v.harmonisation} /> : null}
       {v.diff ? <DiffView diff={v.diff} kind={kind} /> : null}
       {v.report ? kind === "panel" ? <PanelReportView report={v.report as unknown as PanelReport | FailureLike} /> : <BoundaryReportView report={v.report as unknown as BoundaryReport} /> : null}
       {kind === "boundaries" && (v.state === "validated" || v.state === "published" || v.state === "archived") ? <BoundaryMap slug={slug} versionId={v.id} /> : null}
+    </div>
+  );
+}
+
+/** How a harmonised version was made: source version, crosswalk, method per indicator, carried periods. */
+function HarmonisationPanel({ slug, view }: { slug: string; view: HarmonisationView }) {
+  const versionLink = (ref: { panelVersionId: number; panelName: string; version: number } | null, id: number | undefined) =>
+    ref ? (
+      <Link className="text-ochre-700 hover:underline" href={`/w/${slug}/intake/panels/${ref.panelVersionId}`}>
+        {ref.panelName} v{ref.version}
+      </Link>
+    ) : (
+      <span>version {id} (not in this workspace)</span>
+    );
+  const methods = Object.entries(view.methods).sort(([a], [b]) => a.localeCompare(b));
+  return (
+    <div className="grid gap-4 lg:grid-cols-[minmax(0,1fr)_minmax(0,20rem)]">
+      <Panel title="Harmonised across a boundary reform" caption={carriedSentence(view)}>
+        <dl className="grid grid-cols-[max-content_1fr] gap-x-6 gap-y-2 text-sm" data-testid="harmonisation-provenance">
+          <dt className="text-ink-500">Source version</dt>
+          <dd>{versionLink(view.source, view.sourcePanelVersionId)}</dd>
+          <dt className="text-ink-500">Crosswalk</dt>
+          <dd>
+            <Link className="text-ochre-700 hover:underline" href={`/w/${slug}/intake/reforms/${view.crosswalkId}`}>
+              {crosswalkLabel(view)}
+            </Link>
+            {view.fromBoundary && view.toBoundary ? (
+              <span className="text-ink-500">
+                {" "}
+                · {view.fromBoundary.setName} v{view.fromBoundary.version} → {view.toBoundary.setName} v{view.toBoundary.version}
+              </span>
+            ) : null}
+          </dd>
+          <dt className="text-ink-500">Carried periods</dt>
+          <dd data-testid="harmonisation-carried">{periodSpan(view.carriedPeriods)}</dd>
+          <dt className="text-ink-500">First period on the new boundaries</dt>
+          <dd data-testid="harmonisation-first">{view.firstPeriodOnTarget ?? "none: every period was carried"}</dd>
+          {view.continuationPanelVersionId !== undefined ? (
+            <>
+              <dt className="text-ink-500">Observed from</dt>
+              <dd>{versionLink(view.continuation, view.continuationPanelVersionId)}</dd>
+            </>
+          ) : null}
+        </dl>
+        <table className="mt-4 w-full text-sm" data-testid="harmonisation-methods">
+          <thead className="text-left text-xs uppercase tracking-wider text-ink-400">
+            <tr>
+              <th className="py-1.5 pr-3">Indicator</th>
+              <th className="py-1.5 pr-3">Method</th>
+            </tr>
+          </thead>
+          <tbody className="divide-y divide-ink-50">
+            {methods.map(([code, method]) => (
+              <tr key={code}>
+                <td className="py-1.5 pr-3 font-mono text-xs">{code}</td>
+                <td className="py-1.5 pr-3">{methodLabel(method)}</td>
+              </tr>
+            ))}
+          </tbody>
+        </table>
+      </Panel>
+      <Cautions items={["areal-weighting"]} headingId="reform-cautions-heading" heading="Carried values" className="h-fit" />
     </div>
   );
 }

@@ -10,7 +10,12 @@ export type CautionKey =
   | "ols-assumptions"
   | "collinear-covariates"
   | "few-regions-covariates"
-  | "suggests-not-fits";
+  | "suggests-not-fits"
+  | "areal-weighting";
+
+/** Shown beside results of harmonised panel versions (the harmonise form, a harmonised version, the timeline of a run on one). */
+export const AREAL_WEIGHTING_CAUTION =
+  "Areal weighting assumes that values are spread evenly within each old region. Where people or firms cluster, shares by area misplace them; a population-weighted crosswalk (for example from the statistics office) is better where one exists.";
 
 const CAUTIONS: Record<CautionKey, { title: string; body: string }> = {
   causation: {
@@ -49,6 +54,10 @@ const CAUTIONS: Record<CautionKey, { title: string; body: string }> = {
     title: "A suggestion, not a fitted model",
     body: "The Lagrange multiplier tests point to a spatial lag or a spatial error model; Tessera does not fit either. The coefficients shown are the ordinary least squares ones.",
   },
+  "areal-weighting": {
+    title: "Carried across a boundary reform",
+    body: AREAL_WEIGHTING_CAUTION,
+  },
 };
 
 const ALL: CautionKey[] = ["causation", "maup", "multiple", "small-n", "small-rates"];
@@ -56,7 +65,20 @@ const ALL: CautionKey[] = ["causation", "maup", "multiple", "small-n", "small-ra
 /** The cautions beside a regression on covariates and its residual diagnostics. */
 export const REGRESSION_CAUTIONS: CautionKey[] = ["ols-assumptions", "collinear-covariates", "few-regions-covariates", "suggests-not-fits"];
 
-export function Cautions({ items = ALL, className = "", headingId = "cautions-heading", testId }: { items?: CautionKey[]; className?: string; headingId?: string; testId?: string }) {
+export function Cautions({
+  items = ALL,
+  className = "",
+  headingId = "cautions-heading",
+  heading = "Read results with care",
+  testId,
+}: {
+  items?: CautionKey[];
+  className?: string;
+  /** A second box on one page needs its own heading id. */
+  headingId?: string;
+  heading?: string;
+  testId?: string;
+}) {
   return (
     <aside
       aria-labelledby={headingId}
@@ -68,7 +90,7 @@ export function Cautions({ items = ALL, className = "", headingId = "cautions-he
           <path d="M10 2 19 18H1L10 2Z" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinejoin="round" />
           <path d="M10 8v4.5M10 14.8v.2" stroke="currentColor" strokeWidth="1.8" strokeLinecap="round" />
         </svg>
-        Read results with care
+        {heading}
       </h2>
       <ul className="mt-3 space-y-2.5">
         {items.map((key) => (

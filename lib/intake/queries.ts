@@ -9,6 +9,7 @@ import { QueryTypes } from "sequelize";
 import { db } from "@/lib/db";
 import type { VersionState } from "@/models/intake-types";
 import { indicatorMetadata, type IndicatorMeta } from "./published-panel";
+import { harmonisationView, type HarmonisationView } from "./harmonisation";
 
 export interface VersionSummary {
   id: number;
@@ -177,6 +178,8 @@ export interface VersionDetail extends VersionSummary {
   /** Panels: layout, decimal separator and mapping; boundaries: object and properties. */
   settings: Record<string, unknown>;
   boundaryVersionId: number | null;
+  /** Panels made by harmonising another version through a crosswalk (lib/reforms): how, with the names of what it names; null for uploads and boundaries. */
+  harmonisation?: HarmonisationView | null;
 }
 
 /**
@@ -208,11 +211,11 @@ export async function versionDetail(workspaceId: number, kind: "boundaries" | "p
       boundaryVersionId: null,
     };
   }
-  const rows = await db().query<VersionRow & { parent_name: string; report: Record<string, unknown> | null; layout: string; decimal_separator: string; mapping: unknown; boundary_version_id: number }>(
+  const rows = await db().query<VersionRow & { parent_name: string; report: Record<string, unknown> | null; layout: string; decimal_separator: string; mapping: unknown; boundary_version_id: number; harmonisation: import("@/models/intake-types").HarmonisationProvenance | null }>(
     `SELECT v.id, v.panel_id AS parent_id, p.name AS parent_name, v.version, v.state, v.file_name, v.byte_size, v.sha256, v.created_at,
             u.name AS created_by_name, v.validated_at, v.published_at, v.archived_at, v.row_count AS count,
             (v.report->>'errorCount')::int AS error_count, (v.report->>'warningCount')::int AS warning_count, v.diff, v.report,
-            bv.version AS boundary_version, v.layout, v.decimal_separator, v.mapping, v.boundary_version_id
+            bv.version AS boundary_version, v.layout, v.decimal_separator, v.mapping, v.boundary_version_id, v.harmonisation
        FROM panel_versions v JOIN panels p ON p.id = v.panel_id LEFT JOIN users u ON u.id = v.created_by
        JOIN boundary_versions bv ON bv.id = v.boundary_version_id
       WHERE p.workspace_id = :workspaceId AND v.id = :versionId ${filter}`,
@@ -229,5 +232,6 @@ export async function versionDetail(workspaceId: number, kind: "boundaries" | "p
     diff: row.diff,
     settings: { layout: row.layout, decimal: row.decimal_separator, mapping: row.mapping },
     boundaryVersionId: row.boundary_version_id,
+    harmonisation: row.harmonisation ? await harmonisationView(workspaceId, row.harmonisation) : null,
   };
 }

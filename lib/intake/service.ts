@@ -60,7 +60,7 @@ const sha256Schema = z
   .regex(/^[0-9a-f]{64}$/, "must be the file's SHA-256 as 64 hexadecimal characters");
 
 export const createUploadSchema = z.object({
-  kind: z.enum(["boundaries", "panel"]),
+  kind: z.enum(["boundaries", "panel", "crosswalk"]),
   fileName: text({ min: 1, max: 255, empty: "the file needs a name", tooLong: "the file name is longer than 255 characters" }),
   size: z
     .number()
@@ -133,8 +133,8 @@ export type VersionKind = z.infer<typeof versionKindSchema>;
 
 // ---------------------------------------------------------------- uploads
 
-const CONTENT_TYPES: Record<UploadKind, string> = { boundaries: "application/json", panel: "text/csv" };
-const EXTENSIONS: Record<UploadKind, RegExp> = { boundaries: /\.(topojson|geojson|json)$/i, panel: /\.(csv|tsv|txt)$/i };
+const CONTENT_TYPES: Record<UploadKind, string> = { boundaries: "application/json", panel: "text/csv", crosswalk: "text/csv" };
+const EXTENSIONS: Record<UploadKind, RegExp> = { boundaries: /\.(topojson|geojson|json)$/i, panel: /\.(csv|tsv|txt)$/i, crosswalk: /\.(csv|tsv|txt)$/i };
 
 function safeFileName(name: string): string {
   const base = name.split(/[\\/]/).pop() ?? "file";
@@ -151,6 +151,14 @@ export interface UploadTicket {
 
 /** Duplicate of an earlier, non-rejected version of the same kind in the workspace, by checksum. */
 async function findDuplicate(workspaceId: number, kind: UploadKind, sha256: string): Promise<string | null> {
+  if (kind === "crosswalk") {
+    const rows = await db().query<{ id: number; status: string }>(
+      "SELECT id, status FROM crosswalks WHERE workspace_id = :workspaceId AND sha256 = :sha256 AND status <> 'rejected' ORDER BY id LIMIT 1",
+      { replacements: { workspaceId, sha256 }, type: QueryTypes.SELECT },
+    );
+    const r = rows[0];
+    return r ? `This file was already uploaded as crosswalk ${r.id} (${r.status}).` : null;
+  }
   if (kind === "panel") {
     const rows = await db().query<{ name: string; version: number; state: string }>(
       `SELECT p.name, pv.version, pv.state FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
@@ -177,8 +185,8 @@ async function findDuplicate(workspaceId: number, kind: UploadKind, sha256: stri
 export async function createUpload(member: MemberContext, input: CreateUploadInput, options: { quotaMb?: number } = {}): Promise<UploadTicket> {
   if (!EXTENSIONS[input.kind].test(input.fileName)) {
     throw new IntakeInputError(
-      input.kind === "panel"
-        ? `'${input.fileName}' does not look like a CSV file; panels are .csv (comma, semicolon or tab separated)`
+      input.kind !== "boundaries"
+        ? `'${input.fileName}' does not look like a CSV file; ${input.kind === "panel" ? "panels" : "crosswalks"} are .csv (comma, semicolon or tab separated)`
         : `'${input.fileName}' does not look like TopoJSON or GeoJSON; use a .topojson, .geojson or .json file`,
       "fileName",
     );
@@ -305,7 +313,7 @@ export async function completeUpload(member: MemberContext, uploadId: string): P
       member,
       {
         action: "upload.completed",
-        target: `${upload.kind === "panel" ? "panel" : "boundary"} file "${upload.fileName}"`,
+        target: `${upload.kind === "boundaries" ? "boundary" : upload.kind} file "${upload.fileName}"`,
         detail: { uploadId: upload.id, kind: upload.kind, fileName: upload.fileName, size: declared, sha256: upload.sha256 },
       },
       transaction,
@@ -315,9 +323,12 @@ export async function completeUpload(member: MemberContext, uploadId: string): P
   return uploadView(upload);
 }
 
-async function receivedUpload(member: MemberContext, uploadId: string, kind: UploadKind) {
+const KIND_NAMES: Record<UploadKind, string> = { boundaries: "boundaries", panel: "a panel", crosswalk: "a crosswalk" };
+
+/** A completed upload of this workspace of the given kind (404 for another workspace's, 409 when not received). */
+export async function receivedUpload(member: MemberContext, uploadId: string, kind: UploadKind) {
   const upload = await findUpload(member, uploadId);
-  if (upload.kind !== kind) throw new IntakeInputError(`upload ${uploadId} is a ${upload.kind} file, not ${kind === "panel" ? "a panel" : "boundaries"}`, "uploadId");
+  if (upload.kind !== kind) throw new IntakeInputError(`upload ${uploadId} is a ${upload.kind} file, not ${KIND_NAMES[kind]}`, "uploadId");
   if (upload.state !== "received") {
     throw new ConflictError(upload.state === "failed" ? `This upload failed (${upload.error ?? "unknown"}); upload the file again.` : "This upload has not been completed yet.");
   }

@@ -6,6 +6,7 @@
 import { QueryTypes } from "sequelize";
 import { db, selectTuples } from "@/lib/db";
 import { indicatorMetadata, publishedPanelVersions, panelDimensions, type IndicatorMeta } from "@/lib/intake/published-panel";
+import { harmonisationOfPanelVersion, type HarmonisationView } from "@/lib/intake/harmonisation";
 import { CATALOGUE_FIELDS, catalogueAnswerText, catalogueRowsOf, type CatalogueAnswer, type CatalogueRow, type CatalogueRun } from "./catalogue-wire";
 import { selectBaseline } from "./comparability";
 import type { ResolvedRunParams } from "./schemas";
@@ -367,6 +368,8 @@ export interface Timeline {
   run: RunSummary;
   indicator: IndicatorMeta;
   points: TimelinePoint[];
+  /** When the run's panel version was harmonised across a boundary reform: how (carried periods, crosswalk, methods); else null. */
+  harmonisation: HarmonisationView | null;
 }
 
 /** The run to show for an indicator: the given run, else the latest completed run that analysed it. */
@@ -432,9 +435,11 @@ export async function timeline(workspaceId: number, indicator: string, runId: nu
        FROM run_results WHERE run_id = $1 AND indicator_code = $2 ORDER BY period_index`,
     { bind: [run.id, indicator], type: QueryTypes.SELECT },
   );
+  const panelVersion = await db().query<{ panel_version_id: number }>("SELECT panel_version_id FROM runs WHERE id = $1", { bind: [run.id], type: QueryTypes.SELECT });
   return {
     run,
     indicator: await indicatorOf(workspaceId, indicator),
+    harmonisation: panelVersion[0] ? await harmonisationOfPanelVersion(workspaceId, panelVersion[0].panel_version_id) : null,
     points: rows.map((r) => ({
       period: r.period_key,
       status: r.status,

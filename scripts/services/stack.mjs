@@ -131,6 +131,8 @@ export async function seedDemoData(stack) {
   for (const [script, what] of [
     ["scripts/demo/seed-demo-data.ts", "demo boundaries and panel"],
     ["scripts/demo/run-demo-analysis.ts", "demo analysis run"],
+    // After the demo run, so the run keeps its panel: the invented 2019 district reform and the harmonised panel.
+    ["scripts/demo/seed-demo-reform.ts", "demo boundary reform"],
   ]) {
     try {
       await run(tsx, [path.join(ROOT, script)], { env });

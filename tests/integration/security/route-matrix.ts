@@ -19,6 +19,8 @@ import {
   type World,
 } from "./fixtures-world";
 import { PUBLIC_ROWS } from "./route-matrix-public";
+import { authorizeMember } from "@/lib/auth/guard";
+import { deriveCrosswalkFor } from "@/lib/reforms/service";
 
 // The access matrix: one row per (route file, exported HTTP method). The
 // test (access-matrix.test.ts) finds every app/**/route.ts and fails when a
@@ -87,6 +89,20 @@ const run = (w: World) => ({ ...ws(w), runId: String(w.runId) });
 const memberOf = (w: World, caller: Caller) => (caller === "outsider" || caller === "signed-out" ? null : w.users[caller]);
 const hex64 = () => randomBytes(32).toString("hex");
 const LONG_MAPPING = { layout: "long", region: "region", period: "period", indicator: "indicator", value: "value" };
+
+/** One derived crosswalk per world, from its published districts to a validated copy of them. */
+const crosswalks = new WeakMap<World, Promise<number>>();
+function worldCrosswalk(w: World): Promise<number> {
+  let made = crosswalks.get(w);
+  if (!made) {
+    made = (async () => {
+      const member = await authorizeMember(w.users.steward.id, w.workspace.slug, "data.curate");
+      return (await deriveCrosswalkFor(member, { fromBoundaryVersionId: w.panel.boundaryVersionId, toBoundaryVersionId: await validatedBoundaries(w) })).id;
+    })();
+    crosswalks.set(w, made);
+  }
+  return made;
+}
 
 const countIn = (table: string, column = "workspace_id") => (w: World) => scalar(`SELECT count(*)::int AS v FROM ${table} WHERE ${column} = $1`, [w.workspace.id]);
 
@@ -270,6 +286,58 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
     prepare: async (w, caller) => ({ params: { ...ws(w), code: w.indicator }, body: { label: `Unemployment rate (set by ${caller})`, unit: "%" } }),
     invalidBody: { body: { label: "" }, field: "label" },
     effect: (w) => scalar("SELECT label AS v FROM indicators WHERE workspace_id = $1 AND code = $2", [w.workspace.id, w.indicator]),
+  },
+
+  // ——— boundary reforms (lib/reforms): stewards and managers
+  {
+    kind: "workspace",
+    route: `${INTAKE}/crosswalks/route.ts`,
+    method: "GET",
+    capability: "data.view-unpublished",
+    ok: 200,
+    does: "the workspace's crosswalks between boundary versions",
+    prepare: async (w) => ({ params: ws(w) }),
+  },
+  {
+    kind: "workspace",
+    route: `${INTAKE}/crosswalks/route.ts`,
+    method: "POST",
+    capability: "data.curate",
+    ok: 201,
+    does: "derives an area-weighted crosswalk between two boundary versions (or stores an uploaded crosswalk CSV)",
+    prepare: async (w) => ({ params: ws(w), body: { fromBoundaryVersionId: w.panel.boundaryVersionId, toBoundaryVersionId: await validatedBoundaries(w) } }),
+    invalidBody: { body: { fromBoundaryVersionId: 0, toBoundaryVersionId: 1 }, field: "fromBoundaryVersionId" },
+    effect: countIn("crosswalks"),
+  },
+  {
+    kind: "workspace",
+    route: `${INTAKE}/crosswalks/[crosswalkId]/route.ts`,
+    method: "GET",
+    capability: "data.view-unpublished",
+    ok: 200,
+    does: "one crosswalk with its report and pairs",
+    prepare: async (w) => ({ params: { ...ws(w), crosswalkId: String(await worldCrosswalk(w)) } }),
+  },
+  {
+    kind: "workspace",
+    route: `${INTAKE}/harmonise/defaults/route.ts`,
+    method: "GET",
+    capability: "data.view-unpublished",
+    ok: 200,
+    does: "a panel version's indicators with their default harmonisation methods",
+    prepare: async (w) => ({ params: ws(w), search: `panelVersionId=${w.panel.panelVersionId}` }),
+    invalidQuery: { search: () => "panelVersionId=latest", field: "panelVersionId" },
+  },
+  {
+    kind: "workspace",
+    route: `${INTAKE}/harmonise/route.ts`,
+    method: "POST",
+    capability: "data.curate",
+    ok: 202,
+    does: "harmonises a panel version through a crosswalk into a new panel version on the target boundaries",
+    prepare: async (w) => ({ params: ws(w), body: { panelVersionId: w.panel.panelVersionId, crosswalkId: await worldCrosswalk(w) } }),
+    invalidBody: { body: { panelVersionId: 1, crosswalkId: 1, methods: { x: { kind: "sideways" } } }, field: "methods.x.kind" },
+    effect: (w) => scalar("SELECT count(*)::int AS v FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id WHERE p.workspace_id = $1 AND pv.crosswalk_id IS NOT NULL", [w.workspace.id]),
   },
 
   // ——— team: managers only

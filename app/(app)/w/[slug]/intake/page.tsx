@@ -1,4 +1,5 @@
 import type { Metadata } from "next";
+import Link from "next/link";
 import { IntakeScreen } from "@/components/intake/intake-screen";
 import { PageHeader } from "@/components/ui/page-header";
 import { requireMember } from "@/lib/auth/guard";
@@ -15,7 +16,11 @@ export default async function IntakePage({ params }: { params: Promise<{ slug: s
     <>
       <PageHeader title="Intake" eyebrow="Boundaries and panels">
         Upload boundaries and indicator panels, read the validation report, and publish the versions analyses may use. Every upload becomes an immutable
-        version.
+        version.{" "}
+        <Link className="underline" href={`/w/${slug}/intake/reforms`} data-testid="reforms-link">
+          Reforms
+        </Link>{" "}
+        carries a panel across changed boundaries.
       </PageHeader>
       <IntakeScreen slug={slug} />
     </>
