@@ -222,6 +222,30 @@ function regionsOf(layer: BoundaryLayer, role: "source" | "target"): Omit<Region
   });
 }
 
+/** Longitude/latitude or planar, from the regions' boxes (as the weights builder decides it). */
+function coordinatesOf(regions: readonly Omit<Region, "area">[]): CrosswalkCoordinates {
+  const xs: number[] = [];
+  const ys: number[] = [];
+  for (const r of regions) {
+    if (!Number.isFinite(r.bbox[0])) continue;
+    xs.push(r.bbox[0], r.bbox[2]);
+    ys.push(r.bbox[1], r.bbox[3]);
+  }
+  return xs.length === 0 ? "planar" : detectCoordinateSystem(xs, ys);
+}
+
+/**
+ * The area of every region of one boundary version, in the units
+ * {@link areaCrosswalk} uses (km² on the sphere for longitude/latitude,
+ * coordinate units² for planar): for turning the shares of an uploaded
+ * crosswalk back into overlap areas.
+ */
+export function regionAreas(layer: BoundaryLayer, coordinates?: CrosswalkCoordinates): { coordinates: CrosswalkCoordinates; areas: Map<string, number> } {
+  const regions = regionsOf(layer, "source");
+  const system = coordinates ?? coordinatesOf(regions);
+  return { coordinates: system, areas: new Map(regions.map((r) => [r.id, areaOf(r.polygons, system)])) };
+}
+
 /** A uniform grid over the targets' boxes: about one target per cell. */
 class BoxIndex {
   private readonly cells: number[][];
@@ -311,19 +335,8 @@ export function areaCrosswalk(from: BoundaryLayer, to: BoundaryLayer, options: A
   const sourcesRaw = regionsOf(from, "source");
   const targetsRaw = regionsOf(to, "target");
 
-  let coordinates = options.coordinates;
-  const coordinatesDetected = coordinates === undefined;
-  if (coordinates === undefined) {
-    const xs: number[] = [];
-    const ys: number[] = [];
-    for (const r of [...sourcesRaw, ...targetsRaw]) {
-      if (!Number.isFinite(r.bbox[0])) continue;
-      xs.push(r.bbox[0], r.bbox[2]);
-      ys.push(r.bbox[1], r.bbox[3]);
-    }
-    coordinates = xs.length === 0 ? "planar" : detectCoordinateSystem(xs, ys);
-  }
-  const system = coordinates;
+  const coordinatesDetected = options.coordinates === undefined;
+  const system = options.coordinates ?? coordinatesOf([...sourcesRaw, ...targetsRaw]);
   const withArea = (r: Omit<Region, "area">): Region => ({ ...r, area: areaOf(r.polygons, system) });
   const sources = sourcesRaw.map(withArea);
   const targets = targetsRaw.map(withArea);

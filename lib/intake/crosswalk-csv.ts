@@ -22,6 +22,7 @@
  *
  * Every message names the file line (row + 1, the header being line 1) and the code.
  */
+import { sniffDelimiter } from "./sniff";
 import Papa from "papaparse";
 import { parseNumber } from "./numbers";
 import { ROW_NUMBERING, type IntakeProblem } from "./report";
@@ -37,6 +38,23 @@ export interface CrosswalkCsvOptions {
   readonly tolerance?: number;
   /** At most this many errors and this many warnings are listed (all are counted); default 100. */
   readonly maxErrors?: number;
+}
+
+/** What kind of problem a crosswalk CSV has, for screens that group or count them. */
+export type CrosswalkProblemCode =
+  | "header"
+  | "unknown-from"
+  | "unknown-to"
+  | "bad-share"
+  | "duplicate-pair"
+  | "shares-sum"
+  | "unmatched-from"
+  | "uncovered-to"
+  | "csv";
+
+/** A located problem of a crosswalk CSV (row numbering as the panel report's) with its kind. */
+export interface CrosswalkCsvProblem extends IntakeProblem {
+  readonly code: CrosswalkProblemCode;
 }
 
 export interface CrosswalkCsvLink {
@@ -58,19 +76,23 @@ export interface CrosswalkCsvReport {
   readonly links: CrosswalkCsvLink[];
   readonly sources: number;
   readonly targets: number;
-  readonly errors: IntakeProblem[];
+  readonly errors: CrosswalkCsvProblem[];
   readonly errorCount: number;
-  readonly warnings: IntakeProblem[];
+  readonly warnings: CrosswalkCsvProblem[];
   readonly warningCount: number;
+  /** Source codes (of `fromIds`) with no row: their values reach no target. */
+  readonly unmatchedFrom: string[];
+  /** Target codes (of `toIds`) no row reaches. */
+  readonly uncoveredTo: string[];
 }
 
 class Problems {
-  readonly items: IntakeProblem[] = [];
+  readonly items: CrosswalkCsvProblem[] = [];
   count = 0;
   constructor(private readonly cap: number) {}
-  add(row: number | null, column: string | null, message: string): void {
+  add(code: CrosswalkProblemCode, row: number | null, column: string | null, message: string): void {
     this.count += 1;
-    if (this.items.length < this.cap) this.items.push({ row, column, message });
+    if (this.items.length < this.cap) this.items.push({ code, row, column, message });
   }
 }
 
@@ -95,7 +117,9 @@ export function validateCrosswalkCsv(text: string, options: CrosswalkCsvOptions 
   if (!Number.isFinite(tolerance) || tolerance < 0) throw new RangeError(`tolerance must be a non-negative number; got ${tolerance}`);
   const errors = new Problems(options.maxErrors ?? 100);
   const warnings = new Problems(options.maxErrors ?? 100);
-  const parsed = Papa.parse<string[]>(text.replace(/^\uFEFF/, ""), { delimiter: ",", skipEmptyLines: false });
+  const body = text.replace(/^\uFEFF/, "");
+  // Comma, semicolon or tab, guessed as for panel files (statistics offices publish all three).
+  const parsed = Papa.parse<string[]>(body, { delimiter: sniffDelimiter(body, true).delimiter, skipEmptyLines: false });
   const [headerRow = [], ...data] = parsed.data;
   const header = headerRow.map((h) => h.trim().toLowerCase());
   const column = (name: string) => header.indexOf(name);
@@ -104,8 +128,10 @@ export function validateCrosswalkCsv(text: string, options: CrosswalkCsvOptions 
 
   const links: CrosswalkCsvLink[] = [];
   let rows = 0;
+  let unmatchedFrom: string[] = [];
+  let uncoveredTo: string[] = [];
   if (absent.length > 0) {
-    errors.add(0, null, `line 1: the header must name the columns from, to and share; missing: ${absent.join(", ")} (header: ${headerRow.join(",") || "empty"})`);
+    errors.add("header", 0, null, `line 1: the header must name the columns from, to and share; missing: ${absent.join(", ")} (header: ${headerRow.join(",") || "empty"})`);
   } else {
     const fromSet = options.fromIds ? new Set(options.fromIds) : null;
     const toSet = options.toIds ? new Set(options.toIds) : null;
@@ -120,26 +146,26 @@ export function validateCrosswalkCsv(text: string, options: CrosswalkCsvOptions 
       const shareText = (cells[iShare] ?? "").trim();
       let bad = false;
       if (from === "") {
-        errors.add(row, "from", `line ${line}: empty source code`);
+        errors.add("unknown-from", row, "from", `line ${line}: empty source code`);
         bad = true;
       } else if (fromSet && !fromSet.has(from)) {
-        errors.add(row, "from", `line ${line}: source code '${from}' is not a region of the source boundaries`);
+        errors.add("unknown-from", row, "from", `line ${line}: source code '${from}' is not a region of the source boundaries`);
         bad = true;
       }
       if (to === "") {
-        errors.add(row, "to", `line ${line}: empty target code (source '${from}')`);
+        errors.add("unknown-to", row, "to", `line ${line}: empty target code (source '${from}')`);
         bad = true;
       } else if (toSet && !toSet.has(to)) {
-        errors.add(row, "to", `line ${line}: target code '${to}' is not a region of the target boundaries (source '${from}')`);
+        errors.add("unknown-to", row, "to", `line ${line}: target code '${to}' is not a region of the target boundaries (source '${from}')`);
         bad = true;
       }
       const number = parseNumber(shareText, ".");
       let share = NaN;
       if (number.kind !== "value" || number.groupedWithOtherMark || /[ ']/.test(shareText)) {
-        errors.add(row, "share", `line ${line}: share '${shareText}' of '${from}' → '${to}' is not a number`);
+        errors.add("bad-share", row, "share", `line ${line}: share '${shareText}' of '${from}' → '${to}' is not a number`);
         bad = true;
       } else if (number.value <= 0 || number.value > 1 + tolerance) {
-        errors.add(row, "share", `line ${line}: share ${shareText} of '${from}' → '${to}' is ${number.value < 0 ? "negative" : number.value === 0 ? "zero (leave the row out)" : `greater than 1 (beyond the tolerance ${tolerance})`}`);
+        errors.add("bad-share", row, "share", `line ${line}: share ${shareText} of '${from}' → '${to}' is ${number.value < 0 ? "negative" : number.value === 0 ? "zero (leave the row out)" : `greater than 1 (beyond the tolerance ${tolerance})`}`);
         bad = true;
       } else {
         share = number.value;
@@ -148,7 +174,7 @@ export function validateCrosswalkCsv(text: string, options: CrosswalkCsvOptions 
         const key = `${from}\u0000${to}`;
         const earlier = firstRowOfPair.get(key);
         if (earlier !== undefined) {
-          errors.add(row, null, `line ${line}: the pair '${from}' → '${to}' repeats line ${earlier + 1}`);
+          errors.add("duplicate-pair", row, null, `line ${line}: the pair '${from}' → '${to}' repeats line ${earlier + 1}`);
           return;
         }
         firstRowOfPair.set(key, row);
@@ -169,20 +195,22 @@ export function validateCrosswalkCsv(text: string, options: CrosswalkCsvOptions 
       if (Math.abs(sum - 1) > tolerance) {
         const rowsOf = group.map((l) => l.row);
         if (rowsOf.some((r) => faulty.has(r))) continue;
-        errors.add(rowsOf[0], "share", `source '${from}' (${lines(rowsOf)}): shares sum to ${Number(sum.toPrecision(12))}, not 1 (tolerance ${tolerance})`);
+        errors.add("shares-sum", rowsOf[0], "share", `source '${from}' (${lines(rowsOf)}): shares sum to ${Number(sum.toPrecision(12))}, not 1 (tolerance ${tolerance})`);
       }
     }
     const seenFrom = new Set(links.map((l) => l.from));
     const seenTo = new Set(links.map((l) => l.to));
     const noRowFrom = (options.fromIds ?? []).filter((id) => !seenFrom.has(id));
     const noRowTo = (options.toIds ?? []).filter((id) => !seenTo.has(id));
-    if (noRowFrom.length > 0) warnings.add(null, "from", `${noRowFrom.length} source code(s) have no row, so their values reach no target: ${listed(noRowFrom)}`);
-    if (noRowTo.length > 0) warnings.add(null, "to", `${noRowTo.length} target code(s) have no row, so nothing maps to them: ${listed(noRowTo)}`);
+    unmatchedFrom = noRowFrom;
+    uncoveredTo = noRowTo;
+    if (noRowFrom.length > 0) warnings.add("unmatched-from", null, "from", `${noRowFrom.length} source code(s) have no row, so their values reach no target: ${listed(noRowFrom)}`);
+    if (noRowTo.length > 0) warnings.add("uncovered-to", null, "to", `${noRowTo.length} target code(s) have no row, so nothing maps to them: ${listed(noRowTo)}`);
   }
   for (const e of parsed.errors) {
     if (e.code === "UndetectableDelimiter") continue;
     // papaparse counts rows from 0 = the header, which is this report's row numbering.
-    errors.add(e.row ?? null, null, `line ${e.row === undefined ? "?" : e.row + 1}: ${e.message}`);
+    errors.add("csv", e.row ?? null, null, `line ${e.row === undefined ? "?" : e.row + 1}: ${e.message}`);
   }
   return {
     ok: errors.count === 0,
@@ -196,5 +224,7 @@ export function validateCrosswalkCsv(text: string, options: CrosswalkCsvOptions 
     errorCount: errors.count,
     warnings: warnings.items,
     warningCount: warnings.count,
+    unmatchedFrom,
+    uncoveredTo,
   };
 }

@@ -301,8 +301,8 @@ export async function createUploadedCrosswalk(member: MemberContext, input: z.in
   const report: CrosswalkReport = {
     origin: "uploaded",
     ok,
-    unmatchedFrom: parsed.issues.filter((i) => i.code === "unmatched-from").map((i) => /'([^']*)'/.exec(i.message)?.[1] ?? ""),
-    uncoveredTo: parsed.issues.filter((i) => i.code === "uncovered-to").map((i) => /'([^']*)'/.exec(i.message)?.[1] ?? ""),
+    unmatchedFrom: parsed.unmatchedFrom,
+    uncoveredTo: parsed.uncoveredTo,
     droppedSlivers: [],
     issues: parsed.issues,
     errorCount: errors.length,

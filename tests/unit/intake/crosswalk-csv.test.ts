@@ -20,13 +20,13 @@ describe("validateCrosswalkCsv", () => {
     const report = validateCrosswalkCsv(text, codes);
     expect(report.ok).toBe(false);
     expect(report.errors).toEqual([
-      { row: 2, column: "from", message: "line 3: source code 'X9' is not a region of the source boundaries" },
-      { row: 3, column: "to", message: "line 4: target code 'N7' is not a region of the target boundaries (source 'D2')" },
-      { row: 4, column: "share", message: "line 5: share 'abc' of 'D2' → 'N1' is not a number" },
-      { row: 5, column: "share", message: "line 6: share -0.2 of 'D3' → 'N1' is negative" },
-      { row: 6, column: "share", message: "line 7: share 1.5 of 'D3' → 'N2' is greater than 1 (beyond the tolerance 0.0001)" },
-      { row: 7, column: null, message: "line 8: the pair 'D1' → 'N1' repeats line 2" },
-      { row: 8, column: "share", message: "line 9: share 0 of 'D2' → 'N2' is zero (leave the row out)" },
+      { code: "unknown-from", row: 2, column: "from", message: "line 3: source code 'X9' is not a region of the source boundaries" },
+      { code: "unknown-to", row: 3, column: "to", message: "line 4: target code 'N7' is not a region of the target boundaries (source 'D2')" },
+      { code: "bad-share", row: 4, column: "share", message: "line 5: share 'abc' of 'D2' → 'N1' is not a number" },
+      { code: "bad-share", row: 5, column: "share", message: "line 6: share -0.2 of 'D3' → 'N1' is negative" },
+      { code: "bad-share", row: 6, column: "share", message: "line 7: share 1.5 of 'D3' → 'N2' is greater than 1 (beyond the tolerance 0.0001)" },
+      { code: "duplicate-pair", row: 7, column: null, message: "line 8: the pair 'D1' → 'N1' repeats line 2" },
+      { code: "bad-share", row: 8, column: "share", message: "line 9: share 0 of 'D2' → 'N2' is zero (leave the row out)" },
     ]);
     expect(report.errorCount).toBe(7);
   });
@@ -35,7 +35,7 @@ describe("validateCrosswalkCsv", () => {
     const text = "from,to,share\nD1,N1,0.5\nD1,N2,0.4\nD2,N1,0.33333\nD2,N2,0.66666\nD3,N2,1\n";
     const report = validateCrosswalkCsv(text, codes);
     // D2 sums to 0.99999: inside the default tolerance of 1e-4.
-    expect(report.errors).toEqual([{ row: 1, column: "share", message: "source 'D1' (lines 2, 3): shares sum to 0.9, not 1 (tolerance 0.0001)" }]);
+    expect(report.errors).toEqual([{ code: "shares-sum", row: 1, column: "share", message: "source 'D1' (lines 2, 3): shares sum to 0.9, not 1 (tolerance 0.0001)" }]);
     const strict = validateCrosswalkCsv(text, { ...codes, tolerance: 1e-6 });
     expect(strict.errors.map((e) => e.message)).toEqual([
       "source 'D1' (lines 2, 3): shares sum to 0.9, not 1 (tolerance 0.000001)",
@@ -52,12 +52,25 @@ describe("validateCrosswalkCsv", () => {
     const report = validateCrosswalkCsv("from,to,share\nD1,N1,1\n", codes);
     expect(report.ok).toBe(true);
     expect(report.warnings).toEqual([
-      { row: null, column: "from", message: "2 source code(s) have no row, so their values reach no target: 'D2', 'D3'" },
-      { row: null, column: "to", message: "1 target code(s) have no row, so nothing maps to them: 'N2'" },
+      { code: "unmatched-from", row: null, column: "from", message: "2 source code(s) have no row, so their values reach no target: 'D2', 'D3'" },
+      { code: "uncovered-to", row: null, column: "to", message: "1 target code(s) have no row, so nothing maps to them: 'N2'" },
     ]);
+    expect(report.unmatchedFrom).toEqual(["D2", "D3"]);
+    expect(report.uncoveredTo).toEqual(["N2"]);
     const bad = validateCrosswalkCsv("old,new,weight\nD1,N1,1\n", codes);
     expect(bad.ok).toBe(false);
-    expect(bad.errors).toEqual([{ row: 0, column: null, message: "line 1: the header must name the columns from, to and share; missing: from, to, share (header: old,new,weight)" }]);
+    expect(bad.errors).toEqual([{ code: "header", row: 0, column: null, message: "line 1: the header must name the columns from, to and share; missing: from, to, share (header: old,new,weight)" }]);
+  });
+
+  test("a semicolon- or tab-separated file reads like a comma-separated one", () => {
+    for (const sep of [";", "\t"]) {
+      const report = validateCrosswalkCsv(["share", "to", "from"].join(sep) + "\n" + ["0.25", "N1", "D1"].join(sep) + "\n" + ["0.75", "N2", "D1"].join(sep) + "\n");
+      expect(report.errors).toEqual([]);
+      expect(report.links.map((l) => [l.from, l.to, l.share])).toEqual([
+        ["D1", "N1", 0.25],
+        ["D1", "N2", 0.75],
+      ]);
+    }
   });
 
   test("without code lists, codes are not checked but shares still are", () => {
