@@ -123,6 +123,12 @@ it("the run form offers Control for, the runs list names the demo run's covariat
   await page.goto(`/w/${slug}/runs`);
   const form = page.getByRole("form", { name: "Start a run" });
   await form.waitFor();
+  // Other tests publish panels of their own; the covariate belongs to the demo panel, so choose it by name.
+  const panelSelect = page.getByLabel("Panel version");
+  const demoPanel = (await panelSelect.locator("option").allInnerTexts()).find((label) => label.startsWith("Veldmark district indicators 2008–2024 — "));
+  if (!demoPanel) throw new Error("The demo panel is not among the published versions");
+  await panelSelect.selectOption({ label: demoPanel });
+  await page.getByTestId("run-control-for").getByText("Heavy industry employment share").waitFor();
   const choices = await page.getByTestId("run-control-for").locator("label").allInnerTexts();
   expect(choices.map((c) => c.trim())).toContain("Heavy industry employment share");
   expect(await page.getByTestId(`run-${demoRunId}-control-for`).textContent()).toContain("heavy_industry_share");
