@@ -15,8 +15,8 @@ import { robustnessQuery } from "@/components/runs/query-options";
 import type { Timeline } from "@/lib/runs/queries";
 import { MODEL_SUGGESTION_LABELS } from "@/lib/runs/types";
 import type { HarmonisationView } from "@/lib/intake/harmonisation";
-import { carriedSentence, crosswalkLabel, methodLabel, reformMarkLabel } from "@/lib/reforms/describe";
-import { Cautions } from "@/components/ui/cautions";
+import { carriedSentence, crosswalkLabel, reformMarkLabel } from "@/lib/reforms/describe";
+import { ReformNote } from "@/components/reforms/reform-note";
 import { escapeHtml } from "@/lib/security/html";
 import { EChart, INK, MUTED, OCHRE, REFORM_MARK, REFORM_SHADE } from "./echart";
 
@@ -45,28 +45,6 @@ function reformMarks(harmonisation: HarmonisationView | null, periods: readonly 
   };
 }
 
-/** Above the charts of a harmonised run: what was carried, how, and the areal-weighting caution. */
-function ReformNote({ harmonisation, indicator }: { harmonisation: HarmonisationView; indicator: string }) {
-  return (
-    <div className="grid gap-4 lg:grid-cols-[minmax(0,1fr)_minmax(0,22rem)]" data-testid="timeline-reform">
-      <div className="rounded-lg border border-ink-100 bg-white p-4 text-sm text-ink-700">
-        <h2 className="text-xs font-semibold uppercase tracking-wider text-ink-500">Harmonised across a boundary reform</h2>
-        <p className="mt-2">{carriedSentence(harmonisation)}</p>
-        <p className="mt-1 text-ink-500">
-          This indicator was carried as {methodLabel(harmonisation.methods[indicator])}
-          {harmonisation.source ? (
-            <>
-              {" "}
-              from &apos;{harmonisation.source.panelName}&apos; v{harmonisation.source.version}
-            </>
-          ) : null}
-          . The shaded periods were carried; the line marks the first period on the new boundaries.
-        </p>
-      </div>
-      <Cautions items={["areal-weighting"]} headingId="reform-cautions-heading" heading="Carried values" />
-    </div>
-  );
-}
 
 /** The residual line: ochre-700 of the palette, dotted with diamonds so it reads apart from the solid I and the round significance marks. */
 const RESIDUAL = "#865214";
@@ -102,7 +80,7 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
       {data.data ? (
         <>
           {data.data.indicator.description ? <p className="max-w-3xl text-sm text-ink-600">{data.data.indicator.description}</p> : null}
-          {data.data.harmonisation ? <ReformNote harmonisation={data.data.harmonisation} indicator={data.data.indicator.code} /> : null}
+          {data.data.harmonisation ? <ReformNote harmonisation={data.data.harmonisation} indicator={data.data.indicator.code} testId="timeline-reform" /> : null}
           <MoranChart timeline={data.data} onPeriod={openMap} />
           <ZChart timeline={data.data} onPeriod={openMap} />
           <RobustnessStrip slug={slug} indicator={indicator} run={data.data.run.id} period={strip} periods={periods} onPeriod={(p) => set({ period: p })} />

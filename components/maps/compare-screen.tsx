@@ -9,6 +9,7 @@ import { fmt, fmtP, fmtSigned, Notice, Panel, SignificanceBadge } from "@/compon
 import { compareQuery } from "@/components/runs/query-options";
 import { RunPicker } from "@/components/runs/run-picker";
 import { periodPair } from "@/lib/runs/period-order";
+import { ReformNote } from "@/components/reforms/reform-note";
 
 export function CompareScreen({ slug, indicators }: { slug: string; indicators: { code: string; label: string }[] }) {
   const { params, setParams: set, indicator, periods, runId, timeline } = useIndicatorTimeline(slug, indicators);
@@ -48,6 +49,7 @@ export function CompareScreen({ slug, indicators }: { slug: string; indicators: 
         </Notice>
       ) : null}
       {data.isPending && a !== b ? <p className="text-sm text-ink-500">Computing the comparison…</p> : null}
+      {timeline.data?.harmonisation && a !== b ? <ReformNote harmonisation={timeline.data.harmonisation} indicator={indicator} shown={[a, b]} testId="compare-reform" /> : null}
       {c ? (
         <>
           <div className="grid gap-6 md:grid-cols-2">

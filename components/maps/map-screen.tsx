@@ -22,6 +22,7 @@ import { formatTick, formatValue } from "@/lib/runs/number-format";
 import { RunPicker } from "@/components/runs/run-picker";
 import { RegressionPanel } from "@/components/runs/regression-panel";
 import { PanelTransitions } from "./panel-transitions";
+import { ReformNote } from "@/components/reforms/reform-note";
 import { RegionMap, useRegionFeatures } from "./region-map";
 import { GiStarDetailRows, GiStarPanel, LocalMapViewSwitch } from "./gi-star-map";
 import { RateChoropleth, RateLayerSwitch, rateScale, type RateLayer } from "./rate-layers";
@@ -97,6 +98,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
         </div>
       </div>
       {error ? <Notice tone="error">{error.message}</Notice> : null}
+      {timeline.data?.harmonisation ? <ReformNote harmonisation={timeline.data.harmonisation} indicator={indicator} shown={a === b ? [a] : [a, b]} testId="map-reform" /> : null}
       {loading && !error ? <p className="text-sm text-ink-500">Loading maps…</p> : null}
       {mapA.data && mapB.data && geometry.data ? (
         <>

@@ -167,4 +167,13 @@ it("a steward uploads a crosswalk, harmonises the demo panel onto the 2019 distr
   expect(note).toContain(AREAL_WEIGHTING_CAUTION);
   expect(await page.getByTestId("timeline-reform-caption").innerText()).toContain(`crosswalk ${crosswalkId}`);
   await screenshot(page, "reform-03-timeline");
+
+  // 7. The map of one carried and one observed period says which is which, with the same caution.
+  const carriedPeriod = carried[carried.length - 1];
+  await page.goto(`/w/${slug}/map?indicator=unemployment_rate&run=${runId}&a=${carriedPeriod}&b=${firstOnTarget}`);
+  const mapNote = page.getByTestId("map-reform");
+  await mapNote.waitFor();
+  const mapText = await mapNote.innerText();
+  expect(mapText).toContain(`On this screen, ${carriedPeriod} is a carried estimate, not observed on these regions.`);
+  expect(mapText).toContain(AREAL_WEIGHTING_CAUTION);
 });
