@@ -19,7 +19,7 @@ import { z } from "zod";
 import { db } from "@/lib/db";
 import { auditMember } from "@/lib/security/audit";
 import { ConflictError, InputError, NotFoundError } from "@/lib/http/errors";
-import { id } from "@/lib/http/params";
+import { id, idText } from "@/lib/http/params";
 import type { MemberContext } from "@/lib/auth/guard";
 import { enqueue } from "@/lib/jobs/enqueue";
 import { env } from "@/lib/config/env";
@@ -63,6 +63,8 @@ export const harmoniseSchema = z.object({
 });
 export type HarmoniseInput = z.input<typeof harmoniseSchema>;
 
+/** GET …/intake/harmonise/defaults?panelVersionId=. */
+export const harmoniseDefaultsQuerySchema = z.object({ panelVersionId: idText() });
 export const crosswalkParamsSchema = z.object({ crosswalkId: z.string().regex(/^[1-9][0-9]{0,9}$/, "must be a whole number").transform(Number) });
 
 // ---------------------------------------------------------------- reading

@@ -5,6 +5,7 @@ import { z } from "zod";
 import { getSessionUser } from "@/lib/auth/session";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { weightsPreviewQuerySchema } from "@/lib/geometry/weights-preview";
+import { harmoniseDefaultsQuerySchema } from "@/lib/reforms/service";
 import { catalogueQuerySchema, compareQuerySchema, geometryQuerySchema, panelTransitionsQuerySchema, periodQuerySchema, timelineQuerySchema } from "@/lib/runs/schemas";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
@@ -186,6 +187,7 @@ const QUERY_SCHEMAS: Record<string, z.ZodObject> = {
   "app/api/w/[slug]/compare/route.ts": compareQuerySchema,
   "app/api/w/[slug]/map/transitions/route.ts": panelTransitionsQuerySchema,
   "app/api/w/[slug]/map/rates/route.ts": periodQuerySchema,
+  "app/api/w/[slug]/intake/harmonise/defaults/route.ts": harmoniseDefaultsQuerySchema,
 };
 
 // ——— body fields
