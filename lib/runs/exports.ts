@@ -162,8 +162,8 @@ export const LOCAL_COLUMNS: readonly Column[] = [
   { name: "local_adjusted_p", sql: "u.l_adjusted_p::float8" },
   { name: "quadrant", sql: "u.l_quadrant" },
   { name: "cluster", sql: "u.l_cluster" },
-  { name: "alpha", sql: "(rr.local->>'alpha')::float8" },
-  { name: "correction", sql: "rr.local->>'correction'" },
+  { name: "alpha", sql: "m.alpha" },
+  { name: "correction", sql: "m.correction" },
   { name: "standardised_value", sql: "u.l_standardised::float8" },
   { name: "spatial_lag", sql: "u.l_lag::float8" },
   { name: "permutations_used", sql: "u.l_permutations_used::int" },
@@ -201,6 +201,8 @@ function localSql(): string {
             JOIN runs r ON r.id = rr.run_id
             CROSS JOIN LATERAL ROWS FROM (${LOCAL_ARRAYS.map(([, a]) => `jsonb_array_elements_text(${a})`).join(", ")})
                  WITH ORDINALITY AS u(${LOCAL_ARRAYS.map(([n]) => n).join(", ")}, ord)
+            -- Read once per row of run_results: an expression on rr.local in the select list would unpack the whole jsonb again for every region.
+            CROSS JOIN LATERAL (SELECT (rr.local->>'alpha')::float8 AS alpha, rr.local->>'correction' AS correction OFFSET 0) m
             LEFT JOIN regions rg ON rg.boundary_version_id = r.boundary_version_id AND rg.code = u.l_region
            WHERE rr.run_id = $1 AND rr.local IS NOT NULL
            ORDER BY rr.indicator_code, rr.period_index, u.ord`;
