@@ -54,6 +54,44 @@ export async function selectTuples<Row extends unknown[]>(text: string, values: 
   }
 }
 
+/**
+ * A read too large to hold at once, in batches of at most `batchSize` rows
+ * (arrays in column order): a server-side cursor (DECLARE … FETCH) inside a
+ * read-only transaction on one connection of the pool, held until the
+ * generator ends. Stopping early (`return()` on the generator, e.g. when the
+ * client of a streamed answer goes away) closes the cursor and hands the
+ * connection back. PostgreSQL's snapshot makes the batches one consistent read.
+ */
+export async function* streamTuples<Row extends unknown[]>(text: string, values: readonly unknown[], batchSize = 1_000): AsyncGenerator<Row[], void, undefined> {
+  const manager = db().connectionManager;
+  let connection: pg.ClientBase;
+  try {
+    connection = (await manager.getConnection({ type: "read" })) as pg.ClientBase;
+  } catch (error) {
+    throw markIfDatabaseUnavailable(error);
+  }
+  let open = false;
+  let failed = false;
+  try {
+    await connection.query("BEGIN READ ONLY");
+    open = true;
+    await connection.query({ text: `DECLARE tessera_stream NO SCROLL CURSOR FOR ${text}`, values: [...values] });
+    for (;;) {
+      const result = await connection.query<Row>({ text: `FETCH FORWARD ${Math.max(1, Math.floor(batchSize))} FROM tessera_stream`, rowMode: "array" });
+      if (result.rows.length === 0) break;
+      yield result.rows;
+      if (result.rows.length < batchSize) break;
+    }
+  } catch (error) {
+    failed = true;
+    throw markIfDatabaseUnavailable(error);
+  } finally {
+    // Ending the transaction closes the cursor; a connection that cannot even do that is not handed back.
+    if (open) await connection.query(failed ? "ROLLBACK" : "COMMIT").catch(() => ((connection as PooledClient)._invalid = true));
+    manager.releaseConnection(connection);
+  }
+}
+
 type PooledClient = { _invalid?: boolean; _ending?: boolean; _queryable?: boolean };
 
 function connectionUsable(connection: unknown): boolean {

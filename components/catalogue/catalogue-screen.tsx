@@ -8,8 +8,9 @@ import { AgGridReact } from "ag-grid-react";
 import type { ColDef, ICellRendererParams, ValueFormatterParams } from "ag-grid-community";
 import { useState } from "react";
 import { inputClass, secondaryButton } from "@/components/ui/button-styles";
-import { fmt, fmtP, fmtSigned, Notice, SignificanceBadge, SIGNIFICANCE_SHORT } from "@/components/runs/format";
+import { fmt, fmtP, fmtSigned, Notice, runName, SignificanceBadge, SIGNIFICANCE_SHORT } from "@/components/runs/format";
 import { catalogueExportUrl, catalogueQuery, runsQuery } from "@/components/runs/query-options";
+import { RunExports } from "@/components/runs/run-exports";
 import type { CatalogueRow } from "@/lib/runs/catalogue-wire";
 import { runLabel } from "@/lib/runs/label";
 import { MODEL_SUGGESTIONS, SIGNIFICANCE_CLASSES } from "@/lib/runs/schemas";
@@ -61,6 +62,8 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
   const hiddenKey = colsParam !== null ? COLUMN_CHOICES.map((c) => c.id as string).filter((id) => !colsParam.split(",").includes(id)).join(",") : defaultHidden.join(",");
   const hidden = hiddenKey.split(",");
   const runs = useQuery(runsQuery(slug));
+  // The run's own exports (docs/exports.md) when the catalogue shows one completed run.
+  const chosenRun = run ? (runs.data ?? []).find((r) => String(r.id) === run && r.state === "completed") : undefined;
 
   const toggleClass = (c: SignificanceClass) => {
     const set = new Set(classes);
@@ -196,6 +199,7 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
             Export CSV
           </a>
         ) : null}
+        {canExport && chosenRun ? <RunExports slug={slug} runId={chosenRun.id} runName={runName(chosenRun.number)} localComputed={chosenRun.params.local} /> : null}
       </div>
 
       {rows.error ? <Notice tone="error">{rows.error.message}</Notice> : null}

@@ -156,3 +156,8 @@ export const runsApi = {
   cancel: (slug: string, runId: number) => postJson<{ runId: number }>(`${base(slug)}/runs/${runId}/cancel`, {}),
   rerun: (slug: string, runId: number) => postJson<{ runId: number; number: number }>(`${base(slug)}/runs/${runId}/rerun`, {}),
 };
+
+/** A run's export (docs/exports.md): global results, local results or weights, as CSV or JSON. */
+export function runExportUrl(slug: string, runId: number, kind: "global" | "local" | "weights", format: "csv" | "json"): string {
+  return `${base(slug)}/runs/${runId}/export/${kind}?format=${format}`;
+}

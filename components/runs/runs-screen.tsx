@@ -11,6 +11,7 @@ import type { RunSummary } from "@/lib/runs/queries";
 import { EB_LABEL } from "@/lib/runs/label";
 import { Notice, Panel, runLabel, runName, StateBadge, weightsLabel } from "./format";
 import { StartFormReachability } from "./reachability-note";
+import { RunExports } from "./run-exports";
 import { runOptionsQuery, runsApi, runsKeys, runsQuery } from "./query-options";
 
 export function RunsScreen({ slug, canManage }: { slug: string; canManage: boolean }) {
@@ -81,6 +82,7 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
                       Open in catalogue
                     </Link>
                   ) : null}
+                  {canManage && run.state === "completed" ? <RunExports slug={slug} runId={run.id} runName={runName(run.number)} localComputed={run.params.local} /> : null}
                   {canManage && active ? (
                     <button type="button" className={dangerButton} disabled={cancel.isPending} onClick={() => cancel.mutate(run.id)}>
                       Cancel

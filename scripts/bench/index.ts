@@ -8,6 +8,8 @@
  *   npm run -s bench -- --services        also the suites that need PostgreSQL and S3 (ingest, runs end to end,
  *                                         catalogue p95); start them first with `npm run services:test` and
  *                                         export the environment it prints.
+ *   npm run -s bench -- --only exports    a 35,000-region run's local results exported as CSV and JSON:
+ *                                         time, bytes, chunks and peak memory growth (needs the test services; also part of --services)
  *   npm run -s bench -- --only workers    one large run with 1 and with 2 worker processes: both wall times
  *                                         and the speed-up (needs the test services; also part of --services)
  *   npm run -s bench -- --no-r            skip the spdep reference timing
@@ -25,14 +27,14 @@ const skipR = argv.includes("--no-r");
 const withServices = argv.includes("--services");
 const onlyIndex = argv.indexOf("--only");
 const only = onlyIndex >= 0 ? argv[onlyIndex + 1] : undefined;
-const SUITES = ["engine", "intake", "runs", "crosswalk", "intake-ingest", "runs-db", "workers"] as const;
+const SUITES = ["engine", "intake", "runs", "crosswalk", "intake-ingest", "runs-db", "workers", "exports"] as const;
 type Suite = (typeof SUITES)[number];
 if (only !== undefined && !SUITES.includes(only as Suite)) {
   process.stderr.write(`bench: unknown suite '${only}'; choose one of ${SUITES.join(", ")}\n`);
   process.exit(2);
 }
 const wanted = (suite: Suite): boolean =>
-  only ? only === suite : suite === "intake-ingest" || suite === "runs-db" || suite === "workers" ? withServices : true;
+  only ? only === suite : suite === "intake-ingest" || suite === "runs-db" || suite === "workers" || suite === "exports" ? withServices : true;
 const log = json ? () => undefined : (line: string) => console.log(line);
 
 // Suites other than the engine run as child processes: each measures its own
@@ -101,6 +103,10 @@ if (wanted("intake-ingest")) {
 if (wanted("workers")) {
   log("\n# workers: one large run with 1 and with 2 worker processes, enqueue → every result stored");
   suites.workers = child("workers.ts", jsonFlag);
+}
+if (wanted("exports")) {
+  log("\n# exports: local results of a 35,000-region run streamed as CSV and JSON");
+  suites.exports = child("exports.ts", jsonFlag);
 }
 
 if (json) console.log(JSON.stringify({ results, suites }));

@@ -47,12 +47,17 @@ export async function loadVeldmarkPanel(
      * as intake derives it, and record the declaration on its indicator.
      */
     withRate?: boolean;
+    /** Renames regions (boundaries and values alike), e.g. to give one a hostile code. */
+    regionCode?: (code: string) => string;
   } = {},
 ): Promise<LoadedPanel> {
   const sequelize = db();
-  const topologyText = readFileSync(path.join(DATA, "veldmark.topojson"), "utf8");
-  const topology = JSON.parse(topologyText) as Topology;
+  const rename = options.regionCode ?? ((code: string) => code);
+  const fileText = readFileSync(path.join(DATA, "veldmark.topojson"), "utf8");
+  const topology = JSON.parse(fileText) as Topology;
   const districts = topology.objects.districts as GeometryCollection<{ code: string; name: string }>;
+  if (options.regionCode) for (const g of districts.geometries) if (g.properties && "code" in g.properties) g.properties.code = rename(g.properties.code);
+  const topologyText = options.regionCode ? JSON.stringify(topology) : fileText;
   const indicatorMeta = JSON.parse(readFileSync(path.join(DATA, "indicators.json"), "utf8")) as {
     code: string;
     label: string;
@@ -67,7 +72,8 @@ export async function loadVeldmarkPanel(
   const wantPeriods = options.periods ? new Set(options.periods) : null;
   const rows: { region: string; period: string; indicator: string; value: number | null }[] = [];
   for (const line of csv) {
-    const [region, period, indicator, raw] = line.split(",");
+    const [file, period, indicator, raw] = line.split(",");
+    const region = rename(file);
     if (wantIndicators && !wantIndicators.has(indicator)) continue;
     if (wantPeriods && !wantPeriods.has(period)) continue;
     const value = raw === "" ? null : Number(raw);

@@ -452,6 +452,16 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
   },
   {
     kind: "workspace",
+    route: `${W}/runs/[runId]/export/[kind]/route.ts`,
+    method: "GET",
+    capability: "runs.manage",
+    ok: 200,
+    does: "a run's global results, local results or weights as CSV or JSON (exporting is an economist's capability)",
+    prepare: async (w) => ({ params: { ...run(w), kind: "global" }, search: "format=json" }),
+    invalidQuery: { search: () => "format=xlsx", field: "format" },
+  },
+  {
+    kind: "workspace",
     route: `${W}/runs/[runId]/cancel/route.ts`,
     method: "POST",
     capability: "runs.manage",
