@@ -145,7 +145,7 @@ it("a steward uploads a crosswalk, harmonises the demo panel onto the 2019 distr
   await page.getByLabel("Panel version", { exact: true }).selectOption({ label: `${made.name} — version ${made.version}` });
   const boxes = form.locator('fieldset input[type="checkbox"]');
   for (let i = 0; i < (await boxes.count()); i += 1) await boxes.nth(i).uncheck();
-  await form.getByRole("checkbox", { name: "Unemployment rate", exact: true }).check();
+  await form.getByRole("group", { name: "Indicators" }).getByRole("checkbox", { name: "Unemployment rate", exact: true }).check();
   await page.getByLabel("Permutations", { exact: true }).fill("99");
   const local = form.getByRole("checkbox", { name: "Local clusters per region (needed for cluster maps)" });
   if (await local.isChecked()) await local.uncheck();

@@ -10,7 +10,9 @@ import { testServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { PASSWORD } from "@/tests/integration/auth/fixtures";
 import { buildTenancyWorld, leaksOf, type TenancyWorld, type WorkspaceB } from "@/tests/integration/security/fixtures-tenancy";
-import { MEMBER_ROLES, subscriptionFor, type MemberRole } from "@/tests/integration/security/fixtures-world";
+import { MEMBER_ROLES, subscriptionFor, validatedBoundaries, type MemberRole } from "@/tests/integration/security/fixtures-world";
+import { authorizeMember } from "@/lib/auth/guard";
+import { deriveCrosswalkFor } from "@/lib/reforms/service";
 
 // Tenancy proven on pages (docs/guarantees.md, "No one reads another team's data"): every page under app/(app),
 // found on disk, fetched over HTTP from the running app after a real
@@ -29,6 +31,7 @@ const ROOT = process.cwd();
 let world: TenancyWorld;
 let appUrl: string;
 let outboxMailOfA: number;
+let crosswalkOfA: number;
 
 function signInAs(user: { id: number; email: string; name: string } | null): void {
   sessionMock.mockResolvedValue(user ? ({ id: user.id, email: user.email, name: user.name } satisfies SessionUser) : null);
@@ -43,7 +46,7 @@ function pageRoutes(): string[] {
     .sort();
 }
 
-type Fillers = { slug: string; boundaryVersionId: number; panelVersionId: number; mailId: number };
+type Fillers = { slug: string; boundaryVersionId: number; panelVersionId: number; mailId: number; crosswalkId: number };
 
 /** The route with its dynamic segments filled from `f`; throws for a segment this test does not know yet. */
 function fill(route: string, f: Fillers): string {
@@ -51,6 +54,7 @@ function fill(route: string, f: Fillers): string {
     if (name === "slug") return f.slug;
     if (name === "versionId") return String(route.includes("/boundaries/") ? f.boundaryVersionId : f.panelVersionId);
     if (name === "id" && route.includes("/outbox/")) return String(f.mailId);
+    if (name === "crosswalkId") return String(f.crosswalkId);
     throw new Error(`tenancy-pages.test.ts does not know how to fill [${name}] in ${route}: add it to fill()`);
   });
 }
@@ -103,6 +107,9 @@ const jars = new Map<MemberRole, Map<string, string>>();
 beforeAll(async () => {
   appUrl = testServices().appUrl.replace(/\/+$/, "");
   world = await buildTenancyWorld(signInAs);
+  // A crosswalk of A (its districts to a validated copy), for intake/reforms/[crosswalkId].
+  const steward = await authorizeMember(world.a.users.steward.id, world.a.workspace.slug, "data.curate");
+  crosswalkOfA = (await deriveCrosswalkFor(steward, { fromBoundaryVersionId: world.a.panel.boundaryVersionId, toBoundaryVersionId: await validatedBoundaries(world.a) })).id;
   // A mail of A on A's Outbox, for outbox/[id].
   const subscriptionId = await subscriptionFor(world.a, world.a.users.manager.id);
   await deliverDigest({ subscriptionId, idempotencyKey: `sub-${subscriptionId}:tenancy-pages-${Date.now()}`, runId: null, coverage: "tenancy pages" });
@@ -116,8 +123,20 @@ afterAll(async () => {
   await closeConnections();
 });
 
-const fillersOfA = (): Fillers => ({ slug: world.a.workspace.slug, boundaryVersionId: world.a.panel.boundaryVersionId, panelVersionId: world.a.panel.panelVersionId, mailId: outboxMailOfA });
-const fillersOfB = (): Fillers => ({ slug: world.b.workspace.slug, boundaryVersionId: world.b.boundaryVersionId, panelVersionId: world.b.panelVersionId, mailId: world.b.mailIds[0] });
+const fillersOfA = (): Fillers => ({
+  slug: world.a.workspace.slug,
+  boundaryVersionId: world.a.panel.boundaryVersionId,
+  panelVersionId: world.a.panel.panelVersionId,
+  mailId: outboxMailOfA,
+  crosswalkId: crosswalkOfA,
+});
+const fillersOfB = (): Fillers => ({
+  slug: world.b.workspace.slug,
+  boundaryVersionId: world.b.boundaryVersionId,
+  panelVersionId: world.b.panelVersionId,
+  mailId: world.b.mailIds[0],
+  crosswalkId: world.b.crosswalkId,
+});
 
 describe("the pages found on disk", () => {
   it("include every workspace screen this suite must cover", () => {

@@ -5,6 +5,7 @@ import { PUT as putIndicator } from "@/app/api/w/[slug]/intake/indicators/[code]
 import { POST as postInvitation } from "@/app/api/w/[slug]/invitations/route";
 import { POST as postPanels } from "@/app/api/w/[slug]/intake/panels/route";
 import { PUT as putDigest } from "@/app/api/w/[slug]/digests/route";
+import { POST as postCrosswalk } from "@/app/api/w/[slug]/intake/crosswalks/route";
 import { POST as postSendNow } from "@/app/api/w/[slug]/digests/send-now/route";
 import { db } from "@/lib/db";
 import { models } from "@/lib/models";
@@ -41,6 +42,8 @@ export interface WorkspaceB {
   draftPanelVersionId: number;
   boundaryVersionId: number;
   boundarySetId: number;
+  /** A crosswalk derived between B's wards and a reformed copy of them. */
+  crosswalkId: number;
   uploadIds: string[];
   invitationId: number;
   indicatorCodes: string[];
@@ -175,6 +178,15 @@ export async function buildTenancyWorld(signInAs: SignInAs): Promise<TenancyWorl
   const years = [2019, 2020, 2021];
   const boundaries = await publishedBoundaries(slug, taggedGrid(tag), `Zephyr wards ${tag}`, `zephyr-wards-${tag}.geojson`);
 
+  // A reform of B's wards (the same cells as a second boundary set) and the crosswalk derived between them.
+  const reformed = await publishedBoundaries(slug, taggedGrid(tag), `Zephyr wards reformed ${tag}`, `zephyr-wards-reformed-${tag}.geojson`);
+  const crosswalk = await expectStatus(
+    await postCrosswalk(jsonRequest("POST", { fromBoundaryVersionId: boundaries.id, toBoundaryVersionId: reformed.id }), ctx({ slug })),
+    201,
+    "B's derived crosswalk",
+  );
+  const crosswalkId = Number(crosswalk.id);
+
   const panelUpload = await uploadThroughRoutes(slug, "panel", `zephyr-panel-${tag}.csv`, taggedPanel(tag, indicatorCodes, years));
   const panel = await expectStatus(
     await postPanels(jsonRequest("POST", { uploadId: panelUpload, panelName: `Zephyr indicators ${tag}`, boundarySetId: boundaries.setId, decimal: ".", mapping: LONG_MAPPING }), ctx({ slug })),
@@ -237,6 +249,8 @@ export async function buildTenancyWorld(signInAs: SignInAs): Promise<TenancyWorl
     `Zephyr indicators ${tag}`,
     `Zephyr draft ${tag}`,
     `zephyr-wards-${tag}.geojson`,
+    `Zephyr wards reformed ${tag}`,
+    `zephyr-wards-reformed-${tag}.geojson`,
     `zephyr-panel-${tag}.csv`,
     `zephyr-draft-${tag}.csv`,
     `zephyr-idle-${tag}.csv`,
@@ -260,7 +274,8 @@ export async function buildTenancyWorld(signInAs: SignInAs): Promise<TenancyWorl
       draftPanelVersionId: Number(draft.id),
       boundaryVersionId: boundaries.id,
       boundarySetId: boundaries.setId,
-      uploadIds: [panelUpload, draftUpload, idleUpload, boundaries.uploadId],
+      crosswalkId,
+      uploadIds: [panelUpload, draftUpload, idleUpload, boundaries.uploadId, reformed.uploadId],
       invitationId,
       indicatorCodes,
       strings,
