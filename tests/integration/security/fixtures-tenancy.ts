@@ -178,8 +178,8 @@ export async function buildTenancyWorld(signInAs: SignInAs): Promise<TenancyWorl
   const years = [2019, 2020, 2021];
   const boundaries = await publishedBoundaries(slug, taggedGrid(tag), `Zephyr wards ${tag}`, `zephyr-wards-${tag}.geojson`);
 
-  // A reform of B's wards (the same cells as a second boundary set) and the crosswalk derived between them.
-  const reformed = await publishedBoundaries(slug, taggedGrid(tag), `Zephyr wards reformed ${tag}`, `zephyr-wards-reformed-${tag}.geojson`);
+  // A reform of B's wards (the same cells under new codes, so not the same file) and the crosswalk derived between them.
+  const reformed = await publishedBoundaries(slug, taggedGrid(`${tag}r`), `Zephyr wards reformed ${tag}`, `zephyr-wards-reformed-${tag}.geojson`);
   const crosswalk = await expectStatus(
     await postCrosswalk(jsonRequest("POST", { fromBoundaryVersionId: boundaries.id, toBoundaryVersionId: reformed.id }), ctx({ slug })),
     201,
