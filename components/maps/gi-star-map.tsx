@@ -1,5 +1,6 @@
 "use client";
 
+import { SegmentedSwitch } from "@/components/ui/segmented-switch";
 import { fmt, fmtP, Notice, Panel } from "@/components/runs/format";
 import { LocalInferenceNote } from "@/components/runs/reachability-note";
 import {
@@ -23,23 +24,7 @@ const VIEWS: readonly LocalMapView[] = ["clusters", "gi-star"];
 
 /** The switch between the local Moran cluster maps and the Gi* maps. */
 export function LocalMapViewSwitch({ value, onChange }: { value: LocalMapView; onChange: (view: LocalMapView) => void }) {
-  return (
-    <div role="radiogroup" aria-label="Local map" className="inline-flex rounded-md border border-ink-200 bg-white p-0.5 text-sm" data-testid="local-map-view">
-      {VIEWS.map((v) => (
-        <button
-          key={v}
-          type="button"
-          role="radio"
-          aria-checked={value === v}
-          onClick={() => onChange(v)}
-          data-view={v}
-          className={`rounded px-3 py-1 ${value === v ? "bg-ink text-white" : "text-ink-600 hover:bg-ink-50"}`}
-        >
-          {LOCAL_MAP_VIEW_NAMES[v]}
-        </button>
-      ))}
-    </div>
-  );
+  return <SegmentedSwitch options={VIEWS} names={LOCAL_MAP_VIEW_NAMES} value={value} onChange={onChange} label="Local map" testId="local-map-view" tone="ink" />;
 }
 
 /** A region's stored Gi*: its z, p and class (null when the period stored no Gi* or the region is not in it). */

@@ -1,5 +1,6 @@
 "use client";
 
+import { SegmentedSwitch } from "@/components/ui/segmented-switch";
 import { scaleLinear } from "d3-scale";
 import { Notice, Panel } from "@/components/runs/format";
 import type { MapRates, RegionRates } from "@/lib/runs/on-demand";
@@ -47,23 +48,7 @@ export function rateOf(region: RegionRates | null | undefined, layer: RateLayer)
 }
 
 export function RateLayerSwitch({ value, onChange }: { value: RateLayer; onChange: (layer: RateLayer) => void }) {
-  return (
-    <div role="radiogroup" aria-label="Rate layer" className="inline-flex rounded-md border border-ink-200 bg-white p-0.5 text-sm" data-testid="rate-layer-switch">
-      {RATE_LAYERS.map((layer) => (
-        <button
-          key={layer}
-          type="button"
-          role="radio"
-          aria-checked={value === layer}
-          onClick={() => onChange(layer)}
-          data-layer={layer}
-          className={`rounded px-3 py-1 ${value === layer ? "bg-ochre-600 text-white" : "text-ink-600 hover:bg-ochre-50"}`}
-        >
-          {RATE_LAYER_NAMES[layer]}
-        </button>
-      ))}
-    </div>
-  );
+  return <SegmentedSwitch options={RATE_LAYERS} names={RATE_LAYER_NAMES} value={value} onChange={onChange} label="Rate layer" testId="rate-layer-switch" tone="ochre" />;
 }
 
 /** The choropleth of one period under the chosen rate layer; each region's title gives raw and both smoothed rates. */
