@@ -54,28 +54,8 @@ export function ReformsScreen({ slug }: { slug: string }) {
         caption="Choose the boundaries the panel is on (from) and the boundaries to carry it onto (to). Without a file, Tessera derives shares from the overlap of areas; with a from,to,share CSV (for example population-weighted shares from a statistics office) it checks and stores yours."
       >
         <div className="flex flex-wrap items-end gap-4">
-          <label className={labelClass}>
-            From boundaries
-            <select className={`${inputClass} mt-1`} value={from} onChange={(e) => setFrom(e.target.value)} data-testid="crosswalk-from">
-              <option value="">Choose…</option>
-              {versions.map((v) => (
-                <option key={v.id} value={v.id}>
-                  {v.label}
-                </option>
-              ))}
-            </select>
-          </label>
-          <label className={labelClass}>
-            To boundaries
-            <select className={`${inputClass} mt-1`} value={to} onChange={(e) => setTo(e.target.value)} data-testid="crosswalk-to">
-              <option value="">Choose…</option>
-              {versions.map((v) => (
-                <option key={v.id} value={v.id}>
-                  {v.label}
-                </option>
-              ))}
-            </select>
-          </label>
+          <BoundaryVersionChoice label="From boundaries" versions={versions} value={from} onChange={setFrom} testId="crosswalk-from" />
+          <BoundaryVersionChoice label="To boundaries" versions={versions} value={to} onChange={setTo} testId="crosswalk-to" />
           <label className={labelClass}>
             Crosswalk CSV (optional)
             <input className="mt-1 block text-sm" type="file" accept=".csv,.tsv,.txt,text/csv" onChange={(e) => setFile(e.target.files?.[0] ?? null)} data-testid="crosswalk-file" />
@@ -110,5 +90,34 @@ export function ReformsScreen({ slug }: { slug: string }) {
         </Link>
       </Panel>
     </div>
+  );
+}
+
+/** One boundary version of the workspace, for either end of a crosswalk. */
+function BoundaryVersionChoice({
+  label,
+  versions,
+  value,
+  onChange,
+  testId,
+}: {
+  label: string;
+  versions: readonly { id: number; label: string }[];
+  value: string;
+  onChange: (value: string) => void;
+  testId: string;
+}) {
+  return (
+    <label className={labelClass}>
+      {label}
+      <select className={`${inputClass} mt-1`} value={value} onChange={(e) => onChange(e.target.value)} data-testid={testId}>
+        <option value="">Choose…</option>
+        {versions.map((v) => (
+          <option key={v.id} value={v.id}>
+            {v.label}
+          </option>
+        ))}
+      </select>
+    </label>
   );
 }
