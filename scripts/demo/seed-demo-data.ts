@@ -15,61 +15,27 @@ import path from "node:path";
 import { createHash } from "node:crypto";
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
-import { authorizeMember, type MemberContext } from "@/lib/auth/guard";
+import type { MemberContext } from "@/lib/auth/guard";
 import { db } from "@/lib/db";
-import {
-  completeUpload,
-  createBoundaryVersion,
-  createPanelVersion,
-  createUpload,
-  publishVersion,
-  saveIndicator,
-  indicatorPatchSchema,
-} from "@/lib/intake/service";
-import { closeIntakePool } from "@/lib/intake/ingest-db";
+import { createBoundaryVersion, createPanelVersion, publishVersion, saveIndicator, indicatorPatchSchema } from "@/lib/intake/service";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";
-import { closeS3 } from "@/lib/storage/s3";
-import { models } from "@/lib/models";
+import { DEMO_BOUNDARY_SET, DEMO_PANEL, demoStewardContext, ROOT, runSeedScript, uploadLikeTheBrowser } from "./demo-intake";
 
-const ROOT = path.resolve(__dirname, "..", "..");
 const DATA = path.join(ROOT, "seeders", "data", "veldmark");
-const ACCOUNTS = path.join(ROOT, "seeders", "demo-accounts.json");
-export const DEMO_BOUNDARY_SET = "Veldmark districts";
-export const DEMO_PANEL = "Veldmark district indicators 2008–2024";
 const BOUNDARY_FILE = "veldmark.topojson";
 const PANEL_FILE = "veldmark-panel.csv";
 
 const log = (message: string) => console.log(`[seed-demo-data] ${message}`);
 
-const accountsSchema = z.object({
-  workspace: z.object({ slug: z.string() }),
-  accounts: z.array(z.object({ email: z.string(), role: z.string() })),
-});
-
 const indicatorFileSchema = z.array(indicatorPatchSchema.extend({ code: z.string().min(1) }));
 
-async function stewardContext(): Promise<MemberContext> {
-  const accounts = accountsSchema.parse(JSON.parse(fs.readFileSync(ACCOUNTS, "utf8")));
-  const steward = accounts.accounts.find((a) => a.role === "steward");
-  if (!steward) throw new Error(`${path.relative(ROOT, ACCOUNTS)} lists no steward account`);
-  const { User } = models();
-  const user = await User.findOne({ where: { email: steward.email.toLowerCase() } });
-  if (!user) throw new Error(`demo steward ${steward.email} is not in the database; run the seeders first (npx sequelize-cli db:seed:all)`);
-  return authorizeMember(user.id, accounts.workspace.slug, "data.curate");
-}
-
-/** Uploads a file exactly as the browser does: presigned PUT, then the server-side check. */
-async function uploadLikeTheBrowser(member: MemberContext, kind: "boundaries" | "panel", file: string): Promise<string> {
+/** Uploads a file of the demo data as the browser would. */
+async function uploadFile(member: MemberContext, kind: "boundaries" | "panel", file: string): Promise<string> {
   const bytes = fs.readFileSync(file);
-  const sha256 = createHash("sha256").update(bytes).digest("hex");
-  const ticket = await createUpload(member, { kind, fileName: path.basename(file), size: bytes.length, sha256 });
-  const response = await fetch(ticket.url, { method: "PUT", headers: { "Content-Type": ticket.contentType }, body: bytes });
-  if (!response.ok) throw new Error(`PUT ${path.basename(file)} to S3 failed: HTTP ${response.status} ${await response.text()}`);
-  const checked = await completeUpload(member, ticket.uploadId);
-  if (checked.state !== "received") throw new Error(`upload of ${path.basename(file)} failed: ${checked.error}`);
+  const { uploadId, sha256 } = await uploadLikeTheBrowser(member, kind, path.basename(file), bytes);
   log(`uploaded ${path.basename(file)} (${bytes.length.toLocaleString("en")} bytes, sha256 ${sha256.slice(0, 12)}…)`);
-  return ticket.uploadId;
+  return uploadId;
 }
 
 function fileSha(file: string): string {
@@ -107,7 +73,7 @@ async function seedBoundaries(member: MemberContext): Promise<number> {
   const file = path.join(DATA, BOUNDARY_FILE);
   let version = await existingBoundaryVersion(member.workspace.id, fileSha(file));
   if (!version) {
-    const uploadId = await uploadLikeTheBrowser(member, "boundaries", file);
+    const uploadId = await uploadFile(member, "boundaries", file);
     const created = await createBoundaryVersion(
       member,
       { uploadId, setName: DEMO_BOUNDARY_SET, objectName: "districts", idProperty: "code", nameProperty: "name" },
@@ -132,7 +98,7 @@ async function seedPanel(member: MemberContext, boundaryVersionId: number): Prom
   const file = path.join(DATA, PANEL_FILE);
   let version = await existingPanelVersion(member.workspace.id, fileSha(file));
   if (!version) {
-    const uploadId = await uploadLikeTheBrowser(member, "panel", file);
+    const uploadId = await uploadFile(member, "panel", file);
     const setRows = await db().query<{ boundary_set_id: number }>("SELECT boundary_set_id FROM boundary_versions WHERE id = :id", {
       replacements: { id: boundaryVersionId },
       type: QueryTypes.SELECT,
@@ -172,7 +138,7 @@ async function seedIndicators(member: MemberContext): Promise<void> {
 }
 
 async function main(): Promise<void> {
-  const member = await stewardContext();
+  const member = await demoStewardContext();
   const published = await existingPanelVersion(member.workspace.id, null);
   if (published) {
     log(`demo panel already published (v${published.version}); nothing to do`);
@@ -184,16 +150,4 @@ async function main(): Promise<void> {
   log("done");
 }
 
-main()
-  .then(async () => {
-    await closeIntakePool();
-    await db().close();
-    closeS3();
-  })
-  .catch(async (err: unknown) => {
-    console.error(`[seed-demo-data] failed: ${err instanceof Error ? err.message : String(err)}`);
-    await closeIntakePool().catch(() => undefined);
-    await db().close().catch(() => undefined);
-    closeS3();
-    process.exit(1);
-  });
+runSeedScript("seed-demo-data", main);

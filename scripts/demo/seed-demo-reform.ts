@@ -17,51 +17,23 @@ import fs from "node:fs";
 import path from "node:path";
 import { createHash } from "node:crypto";
 import { QueryTypes } from "sequelize";
-import { z } from "zod";
-import { authorizeMember, type MemberContext } from "@/lib/auth/guard";
+import type { MemberContext } from "@/lib/auth/guard";
 import { db } from "@/lib/db";
-import { completeUpload, createBoundaryVersion, createPanelVersion, createUpload, publishVersion } from "@/lib/intake/service";
-import { closeIntakePool } from "@/lib/intake/ingest-db";
+import { createBoundaryVersion, createPanelVersion, publishVersion } from "@/lib/intake/service";
 import { ingestBoundaryVersion } from "@/lib/intake/ingest-boundaries";
 import { ingestPanelVersion } from "@/lib/intake/ingest-panel";
 import { deriveCrosswalkFor, harmonisePanel } from "@/lib/reforms/service";
-import { closeS3 } from "@/lib/storage/s3";
-import { models } from "@/lib/models";
+import { DEMO_PANEL, demoStewardContext, ROOT, runSeedScript, uploadLikeTheBrowser } from "./demo-intake";
 import { buildReform, continuationPanel, REFORM_BOUNDARY_SET, REFORM_PANEL, REFORM_YEAR } from "./veldmark/reform";
 
-const ROOT = path.resolve(__dirname, "..", "..");
-const ACCOUNTS = path.join(ROOT, "seeders", "demo-accounts.json");
 const BASE = path.join(ROOT, "seeders", "data", "veldmark", "veldmark.topojson");
 const DEMO_PANEL_FILE = path.join(ROOT, "seeders", "data", "veldmark", "veldmark-panel.csv");
-const DEMO_PANEL = "Veldmark district indicators 2008–2024";
 
 const log = (message: string) => console.log(`[seed-demo-reform] ${message}`);
-
-async function stewardContext(): Promise<MemberContext> {
-  const accounts = z
-    .object({ workspace: z.object({ slug: z.string() }), accounts: z.array(z.object({ email: z.string(), role: z.string() })) })
-    .parse(JSON.parse(fs.readFileSync(ACCOUNTS, "utf8")));
-  const steward = accounts.accounts.find((a) => a.role === "steward");
-  if (!steward) throw new Error("the demo accounts list no steward");
-  const user = await models().User.findOne({ where: { email: steward.email.toLowerCase() } });
-  if (!user) throw new Error(`demo steward ${steward.email} is not in the database; run the seeders first`);
-  return authorizeMember(user.id, accounts.workspace.slug, "data.curate");
-}
 
 async function one<T extends object>(sql: string, replacements: Record<string, unknown>): Promise<T | null> {
   const rows = await db().query<T>(sql, { replacements, type: QueryTypes.SELECT });
   return rows[0] ?? null;
-}
-
-/** Uploads bytes exactly as the browser does: presigned PUT, then the server-side check. */
-async function upload(member: MemberContext, kind: "boundaries" | "panel", fileName: string, bytes: Buffer): Promise<string> {
-  const sha256 = createHash("sha256").update(bytes).digest("hex");
-  const ticket = await createUpload(member, { kind, fileName, size: bytes.length, sha256 });
-  const put = await fetch(ticket.url, { method: "PUT", headers: { "Content-Type": ticket.contentType }, body: new Uint8Array(bytes) });
-  if (!put.ok) throw new Error(`PUT of ${fileName} failed: HTTP ${put.status}`);
-  const checked = await completeUpload(member, ticket.uploadId);
-  if (checked.state !== "received") throw new Error(`the upload of ${fileName} failed: ${checked.error}`);
-  return ticket.uploadId;
 }
 
 /** Validates (in process) and publishes a panel version left uploaded or validated. */
@@ -75,7 +47,7 @@ async function validateAndPublish(member: MemberContext, version: { id: number; 
 }
 
 async function main(): Promise<void> {
-  const member = await stewardContext();
+  const member = await demoStewardContext();
   const workspaceId = member.workspace.id;
   const done = await one<{ id: number }>(
     `SELECT pv.id FROM panel_versions pv JOIN panels p ON p.id = pv.panel_id
@@ -104,7 +76,7 @@ async function main(): Promise<void> {
     { workspaceId, name: REFORM_BOUNDARY_SET, sha256 },
   );
   if (!boundary) {
-    const uploadId = await upload(member, "boundaries", "veldmark-districts-2019.topojson", bytes);
+    const uploadId = (await uploadLikeTheBrowser(member, "boundaries", "veldmark-districts-2019.topojson", bytes)).uploadId;
     const created = await createBoundaryVersion(
       member,
       { uploadId, setName: REFORM_BOUNDARY_SET, objectName: "districts", idProperty: "code", nameProperty: "name" },
@@ -137,7 +109,7 @@ async function main(): Promise<void> {
     { workspaceId, name: REFORM_PANEL, sha256: observedSha },
   );
   if (!continuation) {
-    const uploadId = await upload(member, "panel", `veldmark-districts-2019-observed-${REFORM_YEAR}-on.csv`, observedBytes);
+    const uploadId = (await uploadLikeTheBrowser(member, "panel", `veldmark-districts-2019-observed-${REFORM_YEAR}-on.csv`, observedBytes)).uploadId;
     const set = await one<{ boundary_set_id: number }>("SELECT boundary_set_id FROM boundary_versions WHERE id = :id", { id: boundary.id });
     const created = await createPanelVersion(
       member,
@@ -176,16 +148,4 @@ async function main(): Promise<void> {
   log(`harmonised panel published (panel version ${version.id})`);
 }
 
-main()
-  .then(async () => {
-    await closeIntakePool();
-    await db().close();
-    closeS3();
-  })
-  .catch(async (err: unknown) => {
-    console.error(`[seed-demo-reform] failed: ${err instanceof Error ? err.message : String(err)}`);
-    await closeIntakePool().catch(() => undefined);
-    await db().close().catch(() => undefined);
-    closeS3();
-    process.exit(1);
-  });
+runSeedScript("seed-demo-reform", main);
