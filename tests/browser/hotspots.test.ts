@@ -9,6 +9,7 @@ import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/br
 import { signIn } from "@/tests/helpers/sign-in";
 import { testServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
+import { demoRun } from "@/tests/helpers/demo-run";
 
 // Hot and cold spots on the map (issue 15, item 3): on the demo run (scripts/demo/run-demo-analysis.ts,
 // local results on), the map's switch shows the local Gi* map of unemployment with hot and cold
@@ -28,14 +29,7 @@ let stored: { period: string; gi: GiStarFields }[];
 
 beforeAll(async () => {
   testServices();
-  const runs = await db().query<{ id: number; params: ResolvedRunParams }>(
-    `SELECT r.id, r.params FROM runs r JOIN workspaces w ON w.id = r.workspace_id
-      WHERE w.slug = $1 AND r.origin = 'demo' AND r.state = 'completed' ORDER BY r.id DESC LIMIT 1`,
-    { bind: [slug], type: QueryTypes.SELECT },
-  );
-  if (!runs[0]) throw new Error(`The demo workspace "${slug}" has no completed demo run: scripts/demo/run-demo-analysis.ts has not run.`);
-  runId = runs[0].id;
-  params = runs[0].params;
+  ({ id: runId, params } = await demoRun(slug));
   expect(params.local).toBe(true);
   const rows = await db().query<{ period_key: string; gi_star: GiStarFields | null }>(
     "SELECT period_key, gi_star FROM run_results WHERE run_id = $1 AND indicator_code = $2 ORDER BY period_index",

@@ -1,12 +1,11 @@
 import type { Page } from "playwright-core";
-import { QueryTypes } from "sequelize";
 import demo from "@/seeders/demo-accounts.json";
-import { db } from "@/lib/db";
 import { chiSquareIndependence, chiSquareUpperTail } from "@/lib/spatial";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
 import { signIn } from "@/tests/helpers/sign-in";
 import { testServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
+import { demoRun } from "@/tests/helpers/demo-run";
 
 // The Region map shows the spatial Markov tables of unemployment over the demo run's
 // whole panel (2008–2024, every year to the next) with the test of homogeneity and
@@ -26,12 +25,7 @@ let demoRunId: number;
 
 beforeAll(async () => {
   testServices();
-  const [run] = await db().query<{ id: number }>(
-    `SELECT r.id FROM runs r JOIN workspaces w ON w.id = r.workspace_id
-      WHERE w.slug = $1 AND r.origin = 'demo' AND r.state = 'completed' ORDER BY r.id DESC LIMIT 1`,
-    { bind: [slug], type: QueryTypes.SELECT },
-  );
-  if (!run) throw new Error(`The demo workspace "${slug}" has no completed demo run: scripts/demo/run-demo-analysis.ts has not run.`);
+  const run = await demoRun(slug);
   demoRunId = run.id;
   session = await openBrowser({ viewport: { width: 1440, height: 1000 } });
   session.page.setDefaultTimeout(120_000);

@@ -1,12 +1,12 @@
 import { QueryTypes } from "sequelize";
 import demo from "@/seeders/demo-accounts.json";
 import { db } from "@/lib/db";
-import type { ResolvedRunParams } from "@/lib/runs/schemas";
 import type { RegressionFields } from "@/lib/runs/types";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
 import { signIn } from "@/tests/helpers/sign-in";
 import { testServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
+import { demoRun } from "@/tests/helpers/demo-run";
 
 // Clustering that remains after the covariates, on the demo: the demo run
 // controls for Veldmark's invented heavy-industry share, so the unemployment
@@ -26,12 +26,7 @@ let lagRows: number;
 
 beforeAll(async () => {
   testServices();
-  const [run] = await db().query<{ id: number; params: ResolvedRunParams }>(
-    `SELECT r.id, r.params FROM runs r JOIN workspaces w ON w.id = r.workspace_id
-      WHERE w.slug = $1 AND r.origin = 'demo' AND r.state = 'completed' ORDER BY r.id DESC LIMIT 1`,
-    { bind: [slug], type: QueryTypes.SELECT },
-  );
-  if (!run) throw new Error(`The demo workspace "${slug}" has no completed demo run: scripts/demo/run-demo-analysis.ts has not run.`);
+  const run = await demoRun(slug);
   demoRunId = run.id;
   controlFor = run.params.controlFor ?? [];
   stored = await db().query(

@@ -7,6 +7,7 @@ import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/br
 import { signIn } from "@/tests/helpers/sign-in";
 import { testServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
+import { demoRun } from "@/tests/helpers/demo-run";
 
 // Smoothed rates on the map: the demo run (scripts/demo/run-demo-analysis.ts) standardises the
 // demo's rate, business closures per 1,000 working-age residents, by empirical Bayes, and the map
@@ -28,14 +29,7 @@ let params: ResolvedRunParams;
 
 beforeAll(async () => {
   testServices();
-  const runs = await db().query<{ id: number; params: ResolvedRunParams }>(
-    `SELECT r.id, r.params FROM runs r JOIN workspaces w ON w.id = r.workspace_id
-      WHERE w.slug = $1 AND r.origin = 'demo' AND r.state = 'completed' ORDER BY r.id DESC LIMIT 1`,
-    { bind: [slug], type: QueryTypes.SELECT },
-  );
-  if (!runs[0]) throw new Error(`The demo workspace "${slug}" has no completed demo run: scripts/demo/run-demo-analysis.ts has not run.`);
-  runId = runs[0].id;
-  params = runs[0].params;
+  ({ id: runId, params } = await demoRun(slug));
   session = await openBrowser({ viewport: { width: 1440, height: 1000 } });
   session.page.setDefaultTimeout(120_000);
 });
