@@ -24,6 +24,7 @@ suppressPackageStartupMessages({
 args <- commandArgs(trailingOnly = TRUE)
 root <- if (length(args) >= 1) args[[1]] else "."
 source(file.path(root, "scripts", "reference", "exact-json.R"))
+source(file.path(root, "scripts", "reference", "nc-sids-common.R"))
 out_dir <- file.path(root, "tests", "fixtures", "nc-sids")
 dir.create(out_dir, recursive = TRUE, showWarnings = FALSE)
 
@@ -31,22 +32,12 @@ SEED <- 20261204L   # set.seed() value before each EBImoran.mc call
 NSIM <- 9999L       # EBImoran.mc permutations
 
 # ---------------------------------------------------------------- data ----
-sids_path <- system.file("shapes/sids.shp", package = "spData")
-stopifnot(nzchar(sids_path))
-sids <- st_read(sids_path, quiet = TRUE)
+sids <- read_nc_sids(root)
 ids <- as.integer(sids$FIPSNO)
 n <- length(ids)
-stopifnot(n == 100L, !anyDuplicated(ids))
 events <- as.numeric(sids$SID74)
 births <- as.numeric(sids$BIR74)
 stopifnot(all(events >= 0), all(births > 0), all(events <= births))
-
-# Same polygons as the committed boundaries (tests/fixtures/nc/nc.geojson, from sf's nc.shp).
-committed <- st_read(file.path(root, "tests", "fixtures", "nc", "nc.geojson"), quiet = TRUE)
-stopifnot(identical(as.integer(committed$FIPSNO), ids))
-a_xy <- st_coordinates(st_geometry(sids))
-b_xy <- st_coordinates(st_geometry(committed))
-stopifnot(identical(dim(a_xy), dim(b_xy)), max(abs(a_xy[, 1:2] - b_xy[, 1:2])) == 0)
 
 # Hot spots are computed on the raw rate per 1,000 births, written to the CSV at full precision.
 rate_per_1000 <- 1000 * events / births

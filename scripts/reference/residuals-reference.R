@@ -15,7 +15,7 @@
 #   tests/fixtures/nc-sids/residuals.json   lm, lm.morantest and lm.LMtests per model and style
 # The boundaries are tests/fixtures/nc/nc.topojson; this script stops unless
 # spData's sids.shp has the same counties in the same order with the same
-# coordinates (as rates-hotspots-reference.R does).
+# coordinates (nc-sids-common.R).
 
 suppressPackageStartupMessages({
   library(sf)
@@ -26,19 +26,14 @@ suppressPackageStartupMessages({
 args <- commandArgs(trailingOnly = TRUE)
 root <- if (length(args) >= 1) args[[1]] else "."
 source(file.path(root, "scripts", "reference", "exact-json.R"))
+source(file.path(root, "scripts", "reference", "nc-sids-common.R"))
 out_dir <- file.path(root, "tests", "fixtures", "nc-sids")
 dir.create(out_dir, recursive = TRUE, showWarnings = FALSE)
 
 # ---------------------------------------------------------------- data ----
-sids <- st_read(system.file("shapes/sids.shp", package = "spData"), quiet = TRUE)
+sids <- read_nc_sids(root)
 ids <- as.integer(sids$FIPSNO)
 n <- length(ids)
-stopifnot(n == 100L, !anyDuplicated(ids))
-committed <- st_read(file.path(root, "tests", "fixtures", "nc", "nc.geojson"), quiet = TRUE)
-stopifnot(identical(as.integer(committed$FIPSNO), ids))
-a_xy <- st_coordinates(st_geometry(sids))
-b_xy <- st_coordinates(st_geometry(committed))
-stopifnot(identical(dim(a_xy), dim(b_xy)), max(abs(a_xy[, 1:2] - b_xy[, 1:2])) == 0)
 
 # SIDS deaths per 1,000 live births 1979-84, the non-white share of those births,
 # and the same rate for 1974-78.
