@@ -1,5 +1,6 @@
-import { gearyC, generalG, globalMoran, prepareAnalysis, createRandomSource, weightsFromNeighbourLists, type RandomSource, type SpatialWeights } from "@/lib/spatial";
+import { gearyC, generalG, globalMoran, prepareAnalysis, createRandomSource, type RandomSource } from "@/lib/spatial";
 import { computeIndicator, computePeriod, statisticSeed, type PeriodParams, type RunGeometry } from "@/lib/runs/compute";
+import { rookLattice } from "./lattice";
 
 /**
  * Every random source the run code creates, with what it drew: the partner j
@@ -49,30 +50,7 @@ function drawsDuring(work: () => void): { seed: number; draws: number[] }[] {
   return mockDrawLog.slice(start);
 }
 
-// A 6 × 6 rook lattice (36 regions "r0".."r35") plus one region "isle" with
-// no neighbours, as base (binary) weights.
-function lattice(size = 6, withIsland = true): SpatialWeights {
-  const ids: string[] = [];
-  const lists: number[][] = [];
-  for (let r = 0; r < size; r++) {
-    for (let c = 0; c < size; c++) {
-      ids.push(`r${r * size + c}`);
-      const nb: number[] = [];
-      if (r > 0) nb.push((r - 1) * size + c);
-      if (c > 0) nb.push(r * size + c - 1);
-      if (c < size - 1) nb.push(r * size + c + 1);
-      if (r < size - 1) nb.push((r + 1) * size + c);
-      lists.push(nb);
-    }
-  }
-  if (withIsland) {
-    ids.push("isle");
-    lists.push([]);
-  }
-  return weightsFromNeighbourLists(ids, lists, { rule: "rook", transform: "binary" });
-}
-
-const geometry: RunGeometry = { baseWeights: lattice() };
+const geometry: RunGeometry = { baseWeights: rookLattice(6, { island: true }) };
 const params: PeriodParams = {
   weights: "rook",
   transform: "row-standardised",

@@ -1,32 +1,16 @@
-import { weightsFromNeighbourLists, prepareAnalysis, type SpatialWeights } from "@/lib/spatial";
+import { prepareAnalysis } from "@/lib/spatial";
 import { regressionDiagnostics } from "@/lib/spatial/regression";
 import { computePeriod, computeRegression, type PeriodParams, type RunGeometry } from "@/lib/runs/compute";
 import { controlForLabel, runLabel } from "@/lib/runs/label";
 import { catalogueQuerySchema, MAX_CONTROL_FOR, resolvedRunParamsSchema, runParamsInputSchema } from "@/lib/runs/schemas";
+import { rookLattice } from "./lattice";
 
 // "Control for": the run parameter and what a piece computes with it. The
 // numbers themselves are the engine's (lib/spatial/regression, checked against
 // its own references); here the product is checked against the engine on the
 // same inputs: which regions, which weights, which messages.
 
-function lattice(size: number): SpatialWeights {
-  const ids: string[] = [];
-  const lists: number[][] = [];
-  for (let r = 0; r < size; r++) {
-    for (let c = 0; c < size; c++) {
-      ids.push(`r${r * size + c}`);
-      const nb: number[] = [];
-      if (r > 0) nb.push((r - 1) * size + c);
-      if (c > 0) nb.push(r * size + c - 1);
-      if (c < size - 1) nb.push(r * size + c + 1);
-      if (r < size - 1) nb.push((r + 1) * size + c);
-      lists.push(nb);
-    }
-  }
-  return weightsFromNeighbourLists(ids, lists, { rule: "rook", transform: "binary" });
-}
-
-const geometry: RunGeometry = { baseWeights: lattice(6) };
+const geometry: RunGeometry = { baseWeights: rookLattice(6) };
 const params: PeriodParams = {
   weights: "rook",
   transform: "row-standardised",

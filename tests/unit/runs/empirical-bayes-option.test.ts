@@ -5,13 +5,12 @@ import {
   globalMoran,
   localMoran,
   prepareAnalysis,
-  weightsFromNeighbourLists,
-  type SpatialWeights,
 } from "@/lib/spatial";
 import { computePeriod, rateValuesOf, statisticSeed, type PeriodParams, type RateInputs, type RunGeometry } from "@/lib/runs/compute";
 import { isEmpiricalBayesRun, runLabel } from "@/lib/runs/label";
 import { comparabilityKey } from "@/lib/runs/comparability";
 import { resolvedRunParamsSchema, runParamsInputSchema } from "@/lib/runs/schemas";
+import { rookLattice } from "./lattice";
 
 // The run option "empirical-Bayes standardised rates": its parameter, its
 // computation (global Moran's I on the standardised rates must be the
@@ -19,27 +18,7 @@ import { resolvedRunParamsSchema, runParamsInputSchema } from "@/lib/runs/schema
 // engine function is checked against spdep's EBImoran.mc in
 // tests/unit/spatial/rates-hotspots-reference.test.ts), and its label.
 
-// A 7 × 7 rook lattice "r0".."r48" plus "isle" without neighbours (base, binary weights).
-function lattice(size = 7): SpatialWeights {
-  const ids: string[] = [];
-  const lists: number[][] = [];
-  for (let r = 0; r < size; r++) {
-    for (let c = 0; c < size; c++) {
-      ids.push(`r${r * size + c}`);
-      const nb: number[] = [];
-      if (r > 0) nb.push((r - 1) * size + c);
-      if (r < size - 1) nb.push((r + 1) * size + c);
-      if (c > 0) nb.push(r * size + c - 1);
-      if (c < size - 1) nb.push(r * size + c + 1);
-      lists.push(nb);
-    }
-  }
-  ids.push("isle");
-  lists.push([]);
-  return weightsFromNeighbourLists(ids, lists, { rule: "rook", transform: "binary" });
-}
-
-const geometry: RunGeometry = { baseWeights: lattice() };
+const geometry: RunGeometry = { baseWeights: rookLattice(7, { island: true }) };
 const params: PeriodParams = {
   weights: "rook",
   transform: "row-standardised",

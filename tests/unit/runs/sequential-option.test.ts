@@ -4,29 +4,13 @@
  * as h = SEQUENTIAL_EXTREMES only when asked, and a run without it computes
  * (and stores) exactly what a run computed before the option existed.
  */
-import { prepareAnalysis, weightsFromNeighbourLists, type SpatialWeights } from "@/lib/spatial";
+import { prepareAnalysis } from "@/lib/spatial";
 import { computeLocal, computePeriod, type PeriodParams } from "@/lib/runs/compute";
 import { resolvedRunParamsSchema, runParamsInputSchema, SEQUENTIAL_EXTREMES } from "@/lib/runs/schemas";
 import { RESULT_COLUMNS, resultRowValues } from "@/lib/runs/store";
+import { rookLattice } from "./lattice";
 
-function lattice(size: number): SpatialWeights {
-  const ids: string[] = [];
-  const lists: number[][] = [];
-  for (let r = 0; r < size; r++) {
-    for (let c = 0; c < size; c++) {
-      ids.push(`r${r * size + c}`);
-      const nb: number[] = [];
-      if (r > 0) nb.push((r - 1) * size + c);
-      if (c > 0) nb.push(r * size + c - 1);
-      if (c < size - 1) nb.push(r * size + c + 1);
-      if (r < size - 1) nb.push((r + 1) * size + c);
-      lists.push(nb);
-    }
-  }
-  return weightsFromNeighbourLists(ids, lists, { rule: "rook", transform: "binary" });
-}
-
-const base = lattice(8);
+const base = rookLattice(8);
 // One hot corner in otherwise patternless values: a few strong local clusters, most regions far from significance.
 const values = new Map<string, number | null>();
 for (let i = 0; i < 64; i++) values.set(`r${i}`, ((i * 7919) % 17) / 4 + (i % 8 < 3 && i < 24 ? 12 : 0));
