@@ -30,6 +30,15 @@ export function db(): Sequelize {
   return globalForDb.tesseraSequelize;
 }
 
+/** A connection of the pool for reading; an outage while getting it is marked as one. */
+async function readConnection(): Promise<pg.ClientBase> {
+  try {
+    return (await db().connectionManager.getConnection({ type: "read" })) as pg.ClientBase;
+  } catch (error) {
+    throw markIfDatabaseUnavailable(error);
+  }
+}
+
 /**
  * A read whose rows come back as arrays in column order, on a connection from
  * the same pool (so the same limits, validation and outage marking apply).
@@ -38,12 +47,7 @@ export function db(): Sequelize {
  */
 export async function selectTuples<Row extends unknown[]>(text: string, values: readonly unknown[]): Promise<Row[]> {
   const manager = db().connectionManager;
-  let connection: pg.ClientBase;
-  try {
-    connection = (await manager.getConnection({ type: "read" })) as pg.ClientBase;
-  } catch (error) {
-    throw markIfDatabaseUnavailable(error);
-  }
+  const connection = await readConnection();
   try {
     const result = await connection.query<Row>({ text, values: [...values], rowMode: "array" });
     return result.rows;
@@ -64,12 +68,7 @@ export async function selectTuples<Row extends unknown[]>(text: string, values: 
  */
 export async function* streamTuples<Row extends unknown[]>(text: string, values: readonly unknown[], batchSize = 1_000): AsyncGenerator<Row[], void, undefined> {
   const manager = db().connectionManager;
-  let connection: pg.ClientBase;
-  try {
-    connection = (await manager.getConnection({ type: "read" })) as pg.ClientBase;
-  } catch (error) {
-    throw markIfDatabaseUnavailable(error);
-  }
+  const connection = await readConnection();
   let open = false;
   let failed = false;
   try {
