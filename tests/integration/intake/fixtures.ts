@@ -54,6 +54,11 @@ export function jsonRequest(method: string, body?: unknown, url = "http://tesser
   });
 }
 
+/** A GET with the given search parameters, for route handlers called in process. */
+export function getRequest(query: string): Request {
+  return new Request(`http://tessera.test/api?${query}`);
+}
+
 export function asSession(user: { id: number; email: string; name: string }): SessionUser {
   return { id: user.id, email: user.email, name: user.name };
 }

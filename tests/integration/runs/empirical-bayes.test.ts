@@ -3,7 +3,7 @@ import { GET as getRates } from "@/app/api/w/[slug]/map/rates/route";
 import { GET as getMap } from "@/app/api/w/[slug]/map/route";
 import { GET as getRobustness } from "@/app/api/w/[slug]/timeline/robustness/route";
 import type { RobustnessEntry } from "@/lib/runs/compare";
-import { getSessionUser, type SessionUser } from "@/lib/auth/session";
+import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import type { MapPeriod, MapRates } from "@/lib/runs/on-demand";
@@ -16,6 +16,7 @@ import { requireTestServices } from "@/tests/helpers/env";
 import { makeWorkspace } from "@/tests/integration/auth/fixtures";
 import { completeRunInProcess } from "@/tests/integration/security/fixtures-world";
 import { loadVeldmarkPanel, RATE, type LoadedPanel } from "./fixtures";
+import { asSession, ctx, getRequest } from "@/tests/integration/intake/fixtures";
 
 // A run with empirical-Bayes standardised rates and the map's rate layers
 // (GET /api/w/[slug]/map/rates) against the real services: the Veldmark
@@ -32,11 +33,7 @@ const ISLE = "VM-125";
 const ISLET = "VM-027";
 
 type UserRow = { id: number; email: string; name: string };
-function signedInAs(user: UserRow) {
-  sessionMock.mockResolvedValue({ id: user.id, email: user.email, name: user.name } satisfies SessionUser);
-}
-const ctx = (slug: string) => ({ params: Promise.resolve({ slug }) });
-const get = (query: string) => new Request(`http://tessera.test/api?${query}`);
+const signedInAs = (user: UserRow) => sessionMock.mockResolvedValue(asSession(user));
 
 let slug: string;
 let workspaceId: number;
@@ -91,17 +88,17 @@ describe("a run with empirical-Bayes standardised rates", () => {
 
   it("says so beside the rate's results and not beside the other indicator's", async () => {
     signedInAs(reader);
-    const rate = (await (await getMap(get(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx(slug))).json()) as { map: MapPeriod };
+    const rate = (await (await getMap(getRequest(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx({ slug }))).json()) as { map: MapPeriod };
     expect(rate.map.status).toBe("computed");
     expect(rate.map.note).toMatch(/^EB-standardised: /);
-    const other = (await (await getMap(get(`indicator=${OTHER}&period=2014&run=${runId}`), ctx(slug))).json()) as { map: MapPeriod };
+    const other = (await (await getMap(getRequest(`indicator=${OTHER}&period=2014&run=${runId}`), ctx({ slug }))).json()) as { map: MapPeriod };
     expect(other.map.note ?? "").not.toMatch(/EB-standardised/);
   });
 
   it("checks the rate's robustness to the weights on the same standardised values: the run's own rule gives the stored I", async () => {
     signedInAs(reader);
-    const rate = (await (await getMap(get(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx(slug))).json()) as { map: MapPeriod };
-    const response = await getRobustness(get(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx(slug));
+    const rate = (await (await getMap(getRequest(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx({ slug }))).json()) as { map: MapPeriod };
+    const response = await getRobustness(getRequest(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx({ slug }));
     expect(response.status).toBe(200);
     const { entries } = (await response.json()) as { entries: RobustnessEntry[] };
     const queen = entries.find((e) => e.rule === "queen");
@@ -118,7 +115,7 @@ describe("a run with empirical-Bayes standardised rates", () => {
 describe("GET map/rates", () => {
   it("answers raw, global and local empirical-Bayes rates per region from the panel's counts", async () => {
     signedInAs(reader);
-    const response = await getRates(get(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx(slug));
+    const response = await getRates(getRequest(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx({ slug }));
     expect(response.status).toBe(200);
     const { rates } = (await response.json()) as { rates: MapRates };
     expect(rates.rate).toEqual({ events: RATE.events, population: RATE.population, multiplier: RATE.multiplier });
@@ -148,7 +145,7 @@ describe("GET map/rates", () => {
 
   it("answers no rate layers for an indicator that is not a rate", async () => {
     signedInAs(reader);
-    const response = await getRates(get(`indicator=${OTHER}&period=2014&run=${runId}`), ctx(slug));
+    const response = await getRates(getRequest(`indicator=${OTHER}&period=2014&run=${runId}`), ctx({ slug }));
     expect(response.status).toBe(200);
     const { rates } = (await response.json()) as { rates: MapRates };
     expect(rates.rate).toBeNull();
@@ -157,9 +154,9 @@ describe("GET map/rates", () => {
 
   it("is 404 for a run of another workspace, for a period the run lacks, and 400 without a period", async () => {
     signedInAs(outsider);
-    expect((await getRates(get(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx(otherSlug))).status).toBe(404);
+    expect((await getRates(getRequest(`indicator=${RATE.indicator}&period=2014&run=${runId}`), ctx({ slug: otherSlug }))).status).toBe(404);
     signedInAs(reader);
-    expect((await getRates(get(`indicator=${RATE.indicator}&period=2001&run=${runId}`), ctx(slug))).status).toBe(404);
-    expect((await getRates(get(`indicator=${RATE.indicator}&run=${runId}`), ctx(slug))).status).toBe(400);
+    expect((await getRates(getRequest(`indicator=${RATE.indicator}&period=2001&run=${runId}`), ctx({ slug }))).status).toBe(404);
+    expect((await getRates(getRequest(`indicator=${RATE.indicator}&run=${runId}`), ctx({ slug }))).status).toBe(400);
   });
 });

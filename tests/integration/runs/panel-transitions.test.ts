@@ -1,5 +1,5 @@
 import { GET as getTransitions } from "@/app/api/w/[slug]/map/transitions/route";
-import { getSessionUser, type SessionUser } from "@/lib/auth/session";
+import { getSessionUser } from "@/lib/auth/session";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import type { PanelTransitions } from "@/lib/runs/panel-transitions";
 import { closeConnections } from "@/tests/helpers/teardown";
@@ -7,6 +7,7 @@ import { requireTestServices } from "@/tests/helpers/env";
 import { makeWorkspace } from "@/tests/integration/auth/fixtures";
 import { completeRunInProcess, queuedRun } from "@/tests/integration/security/fixtures-world";
 import { loadVeldmarkPanel } from "./fixtures";
+import { asSession, ctx, getRequest } from "@/tests/integration/intake/fixtures";
 
 // GET /api/w/[slug]/map/transitions against the real services: a Veldmark run over
 // four periods with one region's value removed in 2012, computed in this process.
@@ -20,11 +21,7 @@ const INDICATOR = "unemployment_rate";
 const GAP = "VM-010";
 
 type UserRow = { id: number; email: string; name: string };
-function signedInAs(user: UserRow) {
-  sessionMock.mockResolvedValue({ id: user.id, email: user.email, name: user.name } satisfies SessionUser);
-}
-const ctx = (slug: string) => ({ params: Promise.resolve({ slug }) });
-const get = (query: string) => new Request(`http://tessera.test/api?${query}`);
+const signedInAs = (user: UserRow) => sessionMock.mockResolvedValue(asSession(user));
 
 let slug: string;
 let reader: UserRow;
@@ -58,7 +55,7 @@ const sum = (rows: number[][]) => rows.flat().reduce((s, v) => s + v, 0);
 describe("GET map/transitions", () => {
   it("answers the spatial Markov tables over every pair of the run's periods, with the missing region dropped from two pairs", async () => {
     signedInAs(reader);
-    const response = await getTransitions(get(`indicator=${INDICATOR}&run=${runId}`), ctx(slug));
+    const response = await getTransitions(getRequest(`indicator=${INDICATOR}&run=${runId}`), ctx({ slug }));
     expect(response.status).toBe(200);
     const body = (await response.json()) as { runId: number; transitions: PanelTransitions };
     expect(body.runId).toBe(runId);
@@ -90,19 +87,19 @@ describe("GET map/transitions", () => {
 
   it("takes 3 or 4 classes, refuses other counts naming the field", async () => {
     signedInAs(reader);
-    const three = (await (await getTransitions(get(`indicator=${INDICATOR}&run=${runId}&classes=3`), ctx(slug))).json()) as { transitions: PanelTransitions };
+    const three = (await (await getTransitions(getRequest(`indicator=${INDICATOR}&run=${runId}&classes=3`), ctx({ slug }))).json()) as { transitions: PanelTransitions };
     expect(three.transitions.pooled.map((row) => row.length)).toEqual([3, 3, 3]);
-    const bad = await getTransitions(get(`indicator=${INDICATOR}&run=${runId}&classes=7`), ctx(slug));
+    const bad = await getTransitions(getRequest(`indicator=${INDICATOR}&run=${runId}&classes=7`), ctx({ slug }));
     expect(bad.status).toBe(400);
     expect(JSON.stringify(await bad.json())).toContain("classes");
   });
 
   it("is 404 for a run of another workspace and for an indicator the run did not analyse", async () => {
     signedInAs(outsider);
-    const foreign = await getTransitions(get(`indicator=${INDICATOR}&run=${runId}`), ctx(otherSlug));
+    const foreign = await getTransitions(getRequest(`indicator=${INDICATOR}&run=${runId}`), ctx({ slug: otherSlug }));
     expect(foreign.status).toBe(404);
     signedInAs(reader);
-    const unknown = await getTransitions(get(`indicator=broadband_coverage&run=${runId}`), ctx(slug));
+    const unknown = await getTransitions(getRequest(`indicator=broadband_coverage&run=${runId}`), ctx({ slug }));
     expect(unknown.status).toBe(404);
   });
 });

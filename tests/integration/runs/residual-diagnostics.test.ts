@@ -7,7 +7,7 @@ import { GET as getCatalogue } from "@/app/api/w/[slug]/catalogue/route";
 import { GET as getExport } from "@/app/api/w/[slug]/catalogue/export/route";
 import { GET as getTimeline } from "@/app/api/w/[slug]/timeline/route";
 import { GET as getMap } from "@/app/api/w/[slug]/map/route";
-import { getSessionUser, type SessionUser } from "@/lib/auth/session";
+import { getSessionUser } from "@/lib/auth/session";
 import { db } from "@/lib/db";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { loadPanelMatrix } from "@/lib/intake/published-panel";
@@ -22,6 +22,7 @@ import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { makeWorkspace } from "@/tests/integration/auth/fixtures";
 import { loadVeldmarkPanel, type LoadedPanel } from "./fixtures";
+import { asSession, ctx, getRequest } from "@/tests/integration/intake/fixtures";
 
 // A run that controls for covariates, through the route handlers, pg-boss and
 // the test bring-up's worker: the start form's checks at the edge, the stored
@@ -48,12 +49,8 @@ let otherUser: Users[string];
 let panel: LoadedPanel;
 let runId: number;
 
-function signedInAs(user: { id: number; email: string; name: string }) {
-  sessionMock.mockResolvedValue({ id: user.id, email: user.email, name: user.name } satisfies SessionUser);
-}
-const ctx = (params: Record<string, string>) => ({ params: Promise.resolve(params) });
+const signedInAs = (user: { id: number; email: string; name: string }) => sessionMock.mockResolvedValue(asSession(user));
 const post = (body: unknown) => new Request("http://tessera.test/api", { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body) });
-const get = (query: string) => new Request(`http://tessera.test/api?${query}`);
 
 async function waitForRun(id: number, timeoutMs = 200_000): Promise<string> {
   const started = Date.now();
@@ -169,7 +166,7 @@ describe("a run that controls for covariates", () => {
 
   it("answers the catalogue (with the suggestion filter and the CSV), the timeline and the period view", async () => {
     signedInAs(users.reader);
-    const catalogue = await getCatalogue(get(`run=${runId}`), ctx({ slug }));
+    const catalogue = await getCatalogue(getRequest(`run=${runId}`), ctx({ slug }));
     expect(catalogue.status).toBe(200);
     const rows = catalogueRowsOf((await catalogue.json()) as CatalogueAnswer);
     const stored = await storedRows();
@@ -178,16 +175,16 @@ describe("a run that controls for covariates", () => {
       expect([row.residualI, row.residualP, row.modelSuggestion]).toEqual([s?.residual_i, s?.residual_p, s?.model_suggestion]);
     }
     const suggestion = stored.find((s) => s.model_suggestion !== null)?.model_suggestion as string;
-    const filtered = catalogueRowsOf((await (await getCatalogue(get(`run=${runId}&suggestion=${suggestion}`), ctx({ slug }))).json()) as CatalogueAnswer);
+    const filtered = catalogueRowsOf((await (await getCatalogue(getRequest(`run=${runId}&suggestion=${suggestion}`), ctx({ slug }))).json()) as CatalogueAnswer);
     expect(filtered.length).toBe(stored.filter((s) => s.model_suggestion === suggestion).length);
     expect(filtered.every((r) => r.modelSuggestion === suggestion)).toBe(true);
-    const bad = await getCatalogue(get(`run=${runId}&suggestion=maybe`), ctx({ slug }));
+    const bad = await getCatalogue(getRequest(`run=${runId}&suggestion=maybe`), ctx({ slug }));
     expect(bad.status).toBe(400);
     expect(JSON.stringify(await bad.json())).toContain("suggestion must be error, lag, both or neither");
     // Export is an economist's: the subscriber is refused, the economist gets the residual columns.
-    expect((await getExport(get(`run=${runId}`), ctx({ slug }))).status).toBe(403);
+    expect((await getExport(getRequest(`run=${runId}`), ctx({ slug }))).status).toBe(403);
     signedInAs(users.analyst);
-    const csv = await (await getExport(get(`run=${runId}`), ctx({ slug }))).text();
+    const csv = await (await getExport(getRequest(`run=${runId}`), ctx({ slug }))).text();
     const [header, ...lines] = csv.trim().split("\r\n");
     const columns = header.split(",");
     expect(columns).toEqual(expect.arrayContaining(["residual_moran_i", "residual_p", "suggested_model"]));
@@ -196,23 +193,23 @@ describe("a run that controls for covariates", () => {
     expect(Number(fittedLine?.[columns.indexOf("residual_moran_i")])).toBe(fitted?.residual_i);
 
     signedInAs(users.reader);
-    const timeline = (await (await getTimeline(get(`indicator=unemployment_rate&run=${runId}`), ctx({ slug }))).json()) as Timeline;
+    const timeline = (await (await getTimeline(getRequest(`indicator=unemployment_rate&run=${runId}`), ctx({ slug }))).json()) as Timeline;
     expect(timeline.run.params.controlFor).toEqual(CONTROL_FOR);
     expect(timeline.points.map((p) => [p.period, p.residualI])).toEqual([
       ["2012", null],
       ["2014", fitted?.residual_i],
     ]);
     expect(timeline.points[0].regressionMessage).toContain('"population_change"');
-    const map = (await (await getMap(get(`indicator=unemployment_rate&run=${runId}&period=2014`), ctx({ slug }))).json()) as { map: MapPeriod };
+    const map = (await (await getMap(getRequest(`indicator=unemployment_rate&run=${runId}&period=2014`), ctx({ slug }))).json()) as { map: MapPeriod };
     expect(map.map.regression).toEqual(fitted?.regression);
   });
 
   it("is not found from another workspace", async () => {
     signedInAs(otherUser);
-    expect((await getTimeline(get(`indicator=unemployment_rate&run=${runId}`), ctx({ slug: otherSlug }))).status).toBe(404);
-    expect((await getMap(get(`indicator=unemployment_rate&run=${runId}&period=2014`), ctx({ slug: otherSlug }))).status).toBe(404);
-    expect((await getCatalogue(get(`run=${runId}`), ctx({ slug }))).status).toBe(404);
-    const foreign = catalogueRowsOf((await (await getCatalogue(get(`run=${runId}`), ctx({ slug: otherSlug }))).json()) as CatalogueAnswer);
+    expect((await getTimeline(getRequest(`indicator=unemployment_rate&run=${runId}`), ctx({ slug: otherSlug }))).status).toBe(404);
+    expect((await getMap(getRequest(`indicator=unemployment_rate&run=${runId}&period=2014`), ctx({ slug: otherSlug }))).status).toBe(404);
+    expect((await getCatalogue(getRequest(`run=${runId}`), ctx({ slug }))).status).toBe(404);
+    const foreign = catalogueRowsOf((await (await getCatalogue(getRequest(`run=${runId}`), ctx({ slug: otherSlug }))).json()) as CatalogueAnswer);
     expect(foreign).toEqual([]);
   });
 });
