@@ -8,8 +8,6 @@
  * distribution (one stream of R's generator against one of Tessera's) only
  * within sampling error.
  */
-import { readFileSync } from "node:fs";
-import type { Topology } from "topojson-specification";
 import {
   binaryWeights,
   createRandomSource,
@@ -20,26 +18,18 @@ import {
   localEmpiricalBayesRates,
   localGetisOrd,
   rowStandardisedWeights,
-  weightsFromTopology,
   type Correction,
   type SpatialWeights,
 } from "@/lib/spatial";
 import { Comparison } from "../../fixtures/spdep/fixtures";
-import { NC_TOPOLOGY, loadRatesHotspots, type LocalGCase } from "../../fixtures/nc-sids/fixture";
+import { loadRatesHotspots, type LocalGCase } from "../../fixtures/nc-sids/fixture";
+import { ncQueen } from "./nc-queen";
 
 const fixture = loadRatesHotspots();
 const SPDEP = `spdep ${fixture.meta.spdep}`;
 const TIGHT = 1e-10;
-const topology = JSON.parse(readFileSync(NC_TOPOLOGY, "utf8")) as Topology;
-const queen = weightsFromTopology(topology, "queen", { object: "nc", idProperty: "FIPSNO" });
 // Fixture arrays follow fixture.ids; the weights follow the topology. Align by id.
-const position = new Map(fixture.ids.map((id, k) => [String(id), k]));
-const order = queen.ids.map((id) => {
-  const k = position.get(id);
-  if (k === undefined) throw new Error(`county ${id} is not in the fixture`);
-  return k;
-});
-const aligned = (values: readonly number[]): number[] => order.map((k) => values[k]);
+const { queen, aligned } = ncQueen(fixture.ids);
 const events = aligned(fixture.events);
 const births = aligned(fixture.population);
 const W: SpatialWeights = rowStandardisedWeights(queen);
@@ -165,7 +155,7 @@ describe(`hot spots: local Getis–Ord vs ${SPDEP} localG on SIDR74 = 1000 · SI
         ["fdr", "BH"],
       ] as const satisfies readonly (readonly [Correction, string])[]) {
         // source: rates-hotspots.json hotspotClasses.<key>.<method> (R's p.adjust)
-        const expected = order.map((k) => fixture.hotspotClasses[key][method][k]);
+        const expected = aligned(fixture.hotspotClasses[key][method]);
         const classes = hotSpotClasses(r, { alpha: fixture.hotspotClasses.alpha, correction, pValueSource: "analytical" });
         expect({ correction, classes: classes.classes }).toEqual({ correction, classes: expected });
       }

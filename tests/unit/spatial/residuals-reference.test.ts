@@ -8,25 +8,16 @@
  * scripts/reference/residuals-reference.R; the source is named beside each check.
  * Agreement: 1e-9 relative.
  */
-import { readFileSync } from "node:fs";
-import type { Topology } from "topojson-specification";
-import { binaryWeights, olsFit, regressionDiagnostics, rowStandardisedWeights, weightsFromTopology, type SpatialWeights } from "@/lib/spatial";
+import { binaryWeights, olsFit, regressionDiagnostics, rowStandardisedWeights, type SpatialWeights } from "@/lib/spatial";
 import { Comparison } from "../../fixtures/spdep/fixtures";
-import { NC_TOPOLOGY, loadResiduals } from "../../fixtures/nc-sids/fixture";
+import { loadResiduals } from "../../fixtures/nc-sids/fixture";
+import { ncQueen } from "./nc-queen";
 
 const fixture = loadResiduals();
 const SOURCE = `${fixture.meta.R} / spdep ${fixture.meta.spdep}`;
 const TIGHT = 1e-9;
-const topology = JSON.parse(readFileSync(NC_TOPOLOGY, "utf8")) as Topology;
-const queen = weightsFromTopology(topology, "queen", { object: "nc", idProperty: "FIPSNO" });
 // Fixture arrays follow fixture.ids; the weights follow the topology. Align by id.
-const position = new Map(fixture.ids.map((id, k) => [String(id), k]));
-const order = queen.ids.map((id) => {
-  const k = position.get(id);
-  if (k === undefined) throw new Error(`county ${id} is not in the fixture`);
-  return k;
-});
-const aligned = (values: readonly number[]): number[] => order.map((k) => values[k]);
+const { queen, aligned } = ncQueen(fixture.ids);
 const styles: Record<"W" | "B", SpatialWeights> = { W: rowStandardisedWeights(queen), B: binaryWeights(queen) };
 const variable = (name: string): number[] => aligned(fixture.data[name as keyof typeof fixture.data]);
 
