@@ -18,6 +18,7 @@ import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { makeWorkspace } from "@/tests/integration/auth/fixtures";
 import { loadVeldmarkPanel, type LoadedPanel } from "./fixtures";
+import { parseCsv } from "@/tests/helpers/csv";
 
 // Exports of a run (docs/exports.md): the global and local results and the
 // weights, as CSV and JSON, streamed from the route handler. Checked against
@@ -64,36 +65,6 @@ async function readBody(response: Response): Promise<{ text: string; chunks: num
     text += decoder.decode(value, { stream: true });
   }
   return { text: text + decoder.decode(), chunks };
-}
-
-/** RFC 4180 reader (quoted fields, doubled quotes, CRLF). */
-function parseCsv(text: string): string[][] {
-  const rows: string[][] = [];
-  let row: string[] = [];
-  let cell = "";
-  let quoted = false;
-  for (let i = 0; i < text.length; i++) {
-    const c = text[i];
-    if (quoted) {
-      if (c === '"' && text[i + 1] === '"') {
-        cell += '"';
-        i++;
-      } else if (c === '"') quoted = false;
-      else cell += c;
-    } else if (c === '"') quoted = true;
-    else if (c === ",") {
-      row.push(cell);
-      cell = "";
-    } else if (c === "\r" && text[i + 1] === "\n") {
-      row.push(cell);
-      rows.push(row);
-      row = [];
-      cell = "";
-      i++;
-    } else cell += c;
-  }
-  if (cell !== "" || row.length) throw new Error("CSV does not end with CRLF");
-  return rows;
 }
 
 interface JsonExport {

@@ -17,6 +17,7 @@ import { closeConnections } from "@/tests/helpers/teardown";
 import { waitFor } from "@/tests/helpers/wait";
 import { makeWorkspace } from "../auth/fixtures";
 import { asSession, ctx, jsonRequest, sha256 } from "../intake/fixtures";
+import { parseCsv } from "@/tests/helpers/csv";
 import {
   FORMULA,
   HOSTILE_FILE_STEM,
@@ -62,35 +63,6 @@ async function settled(table: "boundary_versions" | "panel_versions", id: number
     const [row] = await db().query<{ state: string }>(`SELECT state FROM ${table} WHERE id = $1`, { bind: [id], type: QueryTypes.SELECT });
     return row && row.state !== "uploaded" ? row.state : null;
   }, { timeoutMs: 60_000, intervalMs: 250 });
-}
-
-/** Splits RFC 4180 text into rows of cells (quoted cells may hold commas, quotes and line breaks). */
-function parseCsv(text: string): string[][] {
-  const rows: string[][] = [];
-  let row: string[] = [];
-  let cell = "";
-  let quoted = false;
-  for (let i = 0; i < text.length; i++) {
-    const c = text[i];
-    if (quoted && c === '"' && text[i + 1] === '"') {
-      cell += '"';
-      i++;
-    } else if (c === '"') {
-      quoted = !quoted;
-    } else if (!quoted && c === ",") {
-      row.push(cell);
-      cell = "";
-    } else if (!quoted && c === "\r" && text[i + 1] === "\n") {
-      row.push(cell);
-      rows.push(row);
-      row = [];
-      cell = "";
-      i++;
-    } else {
-      cell += c;
-    }
-  }
-  return rows;
 }
 
 beforeAll(async () => {
