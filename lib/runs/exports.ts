@@ -12,6 +12,7 @@
  * Column names are snake_case and stable: a new column goes at the end of its
  * list, and a name is never reused for something else.
  */
+import { z } from "zod";
 import { streamTuples } from "@/lib/db";
 import { ConflictError } from "@/lib/http/errors";
 import { prepareAnalysis } from "@/lib/spatial";
@@ -22,6 +23,11 @@ import { geometryFor } from "./worker";
 export const EXPORT_KINDS = ["global", "local", "weights"] as const;
 export type ExportKind = (typeof EXPORT_KINDS)[number];
 export const EXPORT_FORMATS = ["csv", "json"] as const;
+
+/** The search parameters of GET …/runs/[runId]/export/[kind]. */
+export const exportQuerySchema = z.object({
+  format: z.enum(EXPORT_FORMATS, { message: "format must be csv or json." }).default("csv"),
+});
 export type ExportFormat = (typeof EXPORT_FORMATS)[number];
 
 /** The `format` field of a JSON export; the number changes only if a column changes meaning or goes away. */

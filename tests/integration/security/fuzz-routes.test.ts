@@ -6,6 +6,7 @@ import { getSessionUser } from "@/lib/auth/session";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { weightsPreviewQuerySchema } from "@/lib/geometry/weights-preview";
 import { harmoniseDefaultsQuerySchema } from "@/lib/reforms/service";
+import { exportQuerySchema } from "@/lib/runs/exports";
 import { catalogueQuerySchema, compareQuerySchema, geometryQuerySchema, panelTransitionsQuerySchema, periodQuerySchema, timelineQuerySchema } from "@/lib/runs/schemas";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
@@ -188,6 +189,7 @@ const QUERY_SCHEMAS: Record<string, z.ZodObject> = {
   "app/api/w/[slug]/map/transitions/route.ts": panelTransitionsQuerySchema,
   "app/api/w/[slug]/map/rates/route.ts": periodQuerySchema,
   "app/api/w/[slug]/intake/harmonise/defaults/route.ts": harmoniseDefaultsQuerySchema,
+  "app/api/w/[slug]/runs/[runId]/export/[kind]/route.ts": exportQuerySchema,
 };
 
 // ——— body fields

@@ -2,7 +2,7 @@ import { z } from "zod";
 import { jsonError } from "@/lib/http/errors";
 import { memberRoute } from "@/lib/http/route";
 import { idText, parseParams, parseSearch } from "@/lib/http/params";
-import { EXPORT_CONTENT_TYPES, EXPORT_FORMATS, EXPORT_KINDS, exportFileName, exportStream } from "@/lib/runs/exports";
+import { EXPORT_CONTENT_TYPES, EXPORT_KINDS, exportFileName, exportQuerySchema, exportStream } from "@/lib/runs/exports";
 import { getRun } from "@/lib/runs/queries";
 
 export const dynamic = "force-dynamic";
@@ -11,16 +11,13 @@ const pathSchema = z.object({
   runId: idText(),
   kind: z.enum(EXPORT_KINDS, { message: "kind must be global, local or weights." }),
 });
-const querySchema = z.object({
-  format: z.enum(EXPORT_FORMATS, { message: "format must be csv or json." }).default("csv"),
-});
 
 // A run's global results, local results or weights (docs/exports.md), streamed as CSV or JSON.
 // Export is an economist's capability (the roles table in docs/guarantees.md), as for the catalogue's CSV.
 export const GET = memberRoute({ capability: "runs.manage" }, async ({ member, params, request }) => {
   const path = parseParams(params, pathSchema);
   if (!path.ok) return path.response;
-  const search = parseSearch(request, querySchema);
+  const search = parseSearch(request, exportQuerySchema);
   if (!search.ok) return search.response;
   const run = await getRun(member.workspace.id, path.value.runId);
   if (!run) return jsonError(404, `There is no run ${path.value.runId} in this workspace.`);
