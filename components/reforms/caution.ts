@@ -1,2 +1,2 @@
 /** Shown beside harmonised results (the harmonise form, a harmonised version, the timeline's reform mark). */
-export { AREAL_WEIGHTING_CAUTION } from "@/components/ui/cautions";
+export { AREAL_WEIGHTING_CAUTION } from "@/lib/runs/cautions";
