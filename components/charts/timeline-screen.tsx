@@ -19,6 +19,10 @@ import { carriedSentence, crosswalkLabel, reformMarkLabel } from "@/lib/reforms/
 import { ReformNote } from "@/components/reforms/reform-note";
 import { escapeHtml } from "@/lib/security/html";
 import { EChart, INK, MUTED, OCHRE, REFORM_MARK, REFORM_SHADE } from "./echart";
+import { FigureDownloads } from "@/components/figures/figure-downloads";
+import { echartsFigureBody } from "@/components/figures/echarts-body";
+import { moranTimelineFigure, robustnessFigure, zTimelineFigure } from "@/components/figures/figure-specs";
+import { figureSourceLine } from "@/lib/runs/figures";
 
 /** The reform mark of a harmonised run's charts: a line at the first period on the new boundaries, the carried periods shaded. */
 function reformMarks(harmonisation: HarmonisationView | null, periods: readonly string[], withLabel = true) {
@@ -61,7 +65,7 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
 
   return (
     <div className="space-y-6">
-      <div className="flex flex-wrap items-end gap-4">
+      <div className="flex flex-wrap items-end gap-4 print:hidden">
         <IndicatorPicker id="tl-indicator" value={indicator} indicators={indicators} onChange={(code) => set({ indicator: code, run: null, period: null })} />
         <RunPicker id="tl-run" slug={slug} indicator={indicator} value={data.data?.run.id ?? null} onChange={(id) => set({ run: String(id), period: null })} />
         {data.data ? (
@@ -79,11 +83,14 @@ export function TimelineScreen({ slug, indicators }: { slug: string; indicators:
       {data.isPending && indicator ? <p className="text-sm text-ink-500">Loading the timeline…</p> : null}
       {data.data ? (
         <>
+          <p className="hidden text-xs text-ink-600 print:block" data-testid="timeline-print-source">
+            {data.data.indicator.label} · {figureSourceLine(data.data.run)}
+          </p>
           {data.data.indicator.description ? <p className="max-w-3xl text-sm text-ink-600">{data.data.indicator.description}</p> : null}
           {data.data.harmonisation ? <ReformNote harmonisation={data.data.harmonisation} indicator={data.data.indicator.code} testId="timeline-reform" /> : null}
           <MoranChart timeline={data.data} onPeriod={openMap} />
           <ZChart timeline={data.data} onPeriod={openMap} />
-          <RobustnessStrip slug={slug} indicator={indicator} run={data.data.run.id} period={strip} periods={periods} onPeriod={(p) => set({ period: p })} />
+          <RobustnessStrip slug={slug} indicator={indicator} run={data.data.run.id} period={strip} periods={periods} onPeriod={(p) => set({ period: p })} timeline={data.data} />
           <PeriodTable timeline={data.data} onPeriod={openMap} />
         </>
       ) : null}
@@ -162,9 +169,12 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
       { name: "Significant after correction", type: "scatter", data: significant, itemStyle: { color: OCHRE, borderColor: "#fff", borderWidth: 1.5 }, symbolSize: 12, z: 5 },
     ],
   };
+  const title = `Moran's I of ${timeline.indicator.label.toLowerCase()} per period`;
+  const figure = { run: timeline.run, indicator: timeline.indicator, harmonised: Boolean(reform), points: pts };
   return (
     <Panel
-      title={`Moran's I of ${timeline.indicator.label.toLowerCase()} per period`}
+      title={title}
+      actions={<FigureDownloads spec={moranTimelineFigure(figure, title, residual ? RESIDUAL_SERIES : null)} body={() => echartsFigureBody(option, 820, 360)} testId="figure-timeline-moran" />}
       caption={
         <>
           The grey band holds the middle 95 % (2.5 %–97.5 % quantiles) of I under the null of no spatial pattern, from{" "}
@@ -218,6 +228,13 @@ function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period:
   return (
     <Panel
       title="z-value of I per period"
+      actions={
+        <FigureDownloads
+          spec={zTimelineFigure({ run: timeline.run, indicator: timeline.indicator, harmonised: Boolean(timeline.harmonisation), points: pts })}
+          body={() => echartsFigureBody(option, 820, 260)}
+          testId="figure-timeline-z"
+        />
+      }
       caption="Bars show z = (I − E[I]) / sd under randomisation. The dashed lines at ±1.96 mark two-sided 5 % significance for one test on its own; bar colours show the class after the run's correction (brown clustering, teal dispersion, grey not significant)."
     >
       <EChart option={option} height={240} onClick={(p) => p.name && onPeriod(p.name)} testId="timeline-z" />
@@ -225,7 +242,23 @@ function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period:
   );
 }
 
-function RobustnessStrip({ slug, indicator, run, period, periods, onPeriod }: { slug: string; indicator: string; run: number; period: string; periods: string[]; onPeriod: (p: string) => void }) {
+function RobustnessStrip({
+  slug,
+  indicator,
+  run,
+  period,
+  periods,
+  onPeriod,
+  timeline,
+}: {
+  slug: string;
+  indicator: string;
+  run: number;
+  period: string;
+  periods: string[];
+  onPeriod: (p: string) => void;
+  timeline: Timeline;
+}) {
   const strip = useQuery(robustnessQuery(slug, indicator, run, period));
   const entries = strip.data?.entries ?? [];
   const measure = entries.find((e) => e.distances !== null)?.distances ?? null;
@@ -260,11 +293,20 @@ function RobustnessStrip({ slug, indicator, run, period, periods, onPeriod }: { 
     <Panel
       title="Robustness across weights"
       actions={
-        <select aria-label="Period of the robustness strip" className="rounded-md border border-ink-200 px-2 py-1 text-sm" value={period} onChange={(e) => onPeriod(e.target.value)}>
-          {periods.map((p) => (
-            <option key={p}>{p}</option>
-          ))}
-        </select>
+        <div className="flex flex-wrap items-center justify-end gap-3">
+          {entries.length ? (
+            <FigureDownloads
+              spec={robustnessFigure({ run: timeline.run, indicator: timeline.indicator, harmonised: Boolean(timeline.harmonisation) }, period)}
+              body={() => echartsFigureBody(option, 820, 270)}
+              testId="figure-timeline-robustness"
+            />
+          ) : null}
+          <select aria-label="Period of the robustness strip" className="rounded-md border border-ink-200 px-2 py-1 text-sm print:hidden" value={period} onChange={(e) => onPeriod(e.target.value)}>
+            {periods.map((p) => (
+              <option key={p}>{p}</option>
+            ))}
+          </select>
+        </div>
       }
       caption={
         <>

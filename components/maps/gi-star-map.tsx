@@ -1,5 +1,6 @@
 "use client";
 
+import type { ReactNode } from "react";
 import { SegmentedSwitch } from "@/components/ui/segmented-switch";
 import { fmt, fmtP, Notice, Panel } from "@/components/runs/format";
 import { LocalInferenceNote } from "@/components/runs/reachability-note";
@@ -59,6 +60,7 @@ export function GiStarPanel({
   onSelect,
   warning,
   testId,
+  actions,
 }: {
   map: MapPeriod;
   indicator: string;
@@ -70,6 +72,8 @@ export function GiStarPanel({
   onSelect: (id: string) => void;
   warning: ReachabilityWarning | null;
   testId: string;
+  /** The panel's header actions (the map's figure downloads). */
+  actions?: ReactNode;
 }) {
   const g = map.giStar;
   if (!g) {
@@ -83,7 +87,7 @@ export function GiStarPanel({
   }
   const classOf = (id: string): GiStarClass | null => giStarOf(map, id)?.cls ?? null;
   return (
-    <Panel title={giStarMapTitle(map.period)} caption={<span data-testid={`gi-star-caption-${testId}`}>{giStarCaption(map)}</span>}>
+    <Panel title={giStarMapTitle(map.period)} actions={actions} caption={<span data-testid={`gi-star-caption-${testId}`}>{giStarCaption(map)}</span>}>
       <RegionMap
         features={features}
         coordinates={coordinates}

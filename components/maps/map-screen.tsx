@@ -25,8 +25,14 @@ import { PanelTransitions } from "./panel-transitions";
 import { ReformNote } from "@/components/reforms/reform-note";
 import { RegionMap, useRegionFeatures } from "./region-map";
 import { GiStarDetailRows, GiStarPanel, LocalMapViewSwitch } from "./gi-star-map";
-import { RateChoropleth, RateLayerSwitch, rateScale, type RateLayer } from "./rate-layers";
+import { RATE_LAYER_NAMES, RATE_RAMP, RateChoropleth, RateLayerSwitch, rateScale, type RateLayer } from "./rate-layers";
 import type { LocalMapView } from "@/lib/runs/gi-star-classes";
+import { FigureDownloads, panelMapBody } from "@/components/figures/figure-downloads";
+import { echartsFigureBody } from "@/components/figures/echarts-body";
+import { choroplethFigure, clusterMapFigure, hotSpotMapFigure, rateMapFigure, scatterFigure } from "@/components/figures/figure-specs";
+import { figureSourceLine } from "@/lib/runs/figures";
+import type { RunSummary } from "@/lib/runs/queries";
+import type { IndicatorMeta } from "@/lib/intake/published-panel";
 
 const CLASSES = CLUSTER_CLASS_ORDER;
 
@@ -62,10 +68,12 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
   const labels = useMemo(() => new Map(indicators.map((i) => [i.code, i.label])), [indicators]);
   const loading = geometry.isPending || mapA.isPending || mapB.isPending;
   const error = timeline.error ?? geometry.error ?? mapA.error ?? mapB.error;
+  // What every downloaded figure of this screen says about where it comes from (lib/runs/figures.ts).
+  const figure = mapA.data ? { run: mapA.data.run, indicator: mapA.data.indicator, harmonised: Boolean(timeline.data?.harmonisation) } : null;
 
   return (
     <div className="space-y-6">
-      <div className="flex flex-wrap items-end gap-4">
+      <div className="flex flex-wrap items-end gap-4 print:hidden">
         <IndicatorPicker id="map-indicator" value={indicator} indicators={indicators} onChange={(code) => set({ indicator: code, run: null })} />
         <RunPicker id="map-run" slug={slug} indicator={indicator} value={timeline.data?.run.id ?? null} onChange={(id) => set({ run: String(id) })} />
         <div>
@@ -102,7 +110,12 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
       {loading && !error ? <p className="text-sm text-ink-500">Loading maps…</p> : null}
       {mapA.data && mapB.data && geometry.data ? (
         <>
-          <LocalMapViewSwitch value={localView} onChange={setLocalView} />
+          <p className="hidden text-xs text-ink-600 print:block" data-testid="map-print-source">
+            {mapA.data.indicator.label} · {figureSourceLine(mapA.data.run, { periods: a === b ? [a] : [a, b] })}
+          </p>
+          <div className="print:hidden">
+            <LocalMapViewSwitch value={localView} onChange={setLocalView} />
+          </div>
           <div className="grid gap-6 lg:grid-cols-2">
             {[mapA.data.map, mapB.data.map].map((m, k) =>
               localView === "gi-star" ? (
@@ -118,12 +131,18 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                   onSelect={setSelected}
                   warning={(k === 0 ? mapA.data : mapB.data).reachability}
                   testId={k === 0 ? "a" : "b"}
+                  actions={figure && m.giStar ? <FigureDownloads spec={hotSpotMapFigure(figure, m)} body={(g) => panelMapBody(g)} testId={`figure-gi-star-map-${k === 0 ? "a" : "b"}`} /> : null}
                 />
               ) : (
               <Panel
                 key={`cluster-${k}`}
                 title={`Local clusters, ${m.period}`}
-                actions={<PeriodBadge map={m} />}
+                actions={
+                  <div className="flex flex-wrap items-center justify-end gap-3">
+                    <PeriodBadge map={m} />
+                    {figure ? <FigureDownloads spec={clusterMapFigure(figure, m)} body={(g) => panelMapBody(g)} testId={`figure-cluster-map-${k === 0 ? "a" : "b"}`} /> : null}
+                  </div>
+                }
                 caption={clusterCaption(m)}
               >
                 <RegionMap
@@ -146,7 +165,11 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
               ),
             )}
           </div>
-          {isRate ? <RateLayerSwitch value={rateLayer} onChange={setRateLayer} /> : null}
+          {isRate ? (
+            <div className="print:hidden">
+              <RateLayerSwitch value={rateLayer} onChange={setRateLayer} />
+            </div>
+          ) : null}
           {isRate ? (
             <div className="grid gap-6 lg:grid-cols-2">
               {[ratesA, ratesB].map((r, k) => (
@@ -164,6 +187,15 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                   onHover={setHovered}
                   onSelect={setSelected}
                   testId={`rate-map-${k === 0 ? "a" : "b"}`}
+                  actions={
+                    figure && r.data && ratesScale ? (
+                      <FigureDownloads
+                        spec={rateMapFigure(figure, r.data.period, RATE_LAYER_NAMES[rateLayer], RATE_RAMP, formatValue(ratesScale.domain[0], { unit }), formatValue(ratesScale.domain[1], { unit }))}
+                        body={(g) => panelMapBody(g)}
+                        testId={`figure-rate-map-${k === 0 ? "a" : "b"}`}
+                      />
+                    ) : null
+                  }
                 />
               ))}
             </div>
@@ -174,6 +206,15 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                 key={`value-${k}`}
                 title={`${mapA.data.indicator.label}, ${m.period}${unit ? ` (${unit})` : ""}`}
                 caption={`Sequential colour scale (yellow–orange–brown) shared by both periods, from the lowest to the highest value shown. Hatched regions have no value in ${m.period}.`}
+                actions={
+                  figure && scale ? (
+                    <FigureDownloads
+                      spec={choroplethFigure(figure, m.period, formatValue(scale.domain()[0], { unit }), formatValue(scale.domain()[1], { unit }))}
+                      body={(g) => panelMapBody(g)}
+                      testId={`figure-choropleth-${k === 0 ? "a" : "b"}`}
+                    />
+                  ) : null
+                }
               >
                 <RegionMap
                   features={features}
@@ -237,7 +278,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
           />
           <div className="grid gap-6 lg:grid-cols-2">
             {[mapA.data.map, mapB.data.map].map((m, k) => (
-              <ScatterPanel key={`scatter-${k}`} map={m} unit={unit} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} />
+              <ScatterPanel key={`scatter-${k}`} map={m} unit={unit} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} figure={figure} />
             ))}
           </div>
         </>
@@ -410,7 +451,21 @@ function TransitionTable({ counts, moved, independence, a, b }: { counts: number
   );
 }
 
-function ScatterPanel({ map, unit, active, onSelect, testId }: { map: MapPeriod; unit: string; active: string | null; onSelect: (id: string) => void; testId: string }) {
+function ScatterPanel({
+  map,
+  unit,
+  active,
+  onSelect,
+  testId,
+  figure,
+}: {
+  map: MapPeriod;
+  unit: string;
+  active: string | null;
+  onSelect: (id: string) => void;
+  testId: string;
+  figure: { run: RunSummary; indicator: IndicatorMeta; harmonised: boolean } | null;
+}) {
   const local = map.local;
   if (!local) {
     return (
@@ -473,6 +528,7 @@ function ScatterPanel({ map, unit, active, onSelect, testId }: { map: MapPeriod;
   return (
     <Panel
       title={`Moran scatter plot, ${map.period}`}
+      actions={figure ? <FigureDownloads spec={scatterFigure(figure, map)} body={() => echartsFigureBody(option, 560, 520)} testId={`figure-${testId}`} /> : null}
       caption={`Each point is a region: its standardised value against the average of its neighbours. The ochre line through the origin has slope ${fmt(local.slope)}, which equals Moran's I for row-standardised weights (I = ${fmt(map.I)}). Colours are the cluster classes.`}
     >
       <EChart option={option} height={320} testId={testId} onClick={(p) => p.name && onSelect(p.name)} />

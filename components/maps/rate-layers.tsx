@@ -1,5 +1,6 @@
 "use client";
 
+import type { ReactNode } from "react";
 import { SegmentedSwitch } from "@/components/ui/segmented-switch";
 import { scaleLinear } from "d3-scale";
 import { Notice, Panel } from "@/components/runs/format";
@@ -26,7 +27,7 @@ const RATE_LAYER_CAPTIONS: Record<RateLayer, string> = {
 };
 
 // Ochre ramp of the Tessera palette (tailwind.config.ts ochre 50, 200, 400, 600, 800).
-const RAMP = ["#fdf8ec", "#f0d48e", "#d9a033", "#a86d14", "#6d4217"];
+export const RATE_RAMP = ["#fdf8ec", "#f0d48e", "#d9a033", "#a86d14", "#6d4217"];
 
 /** One colour scale over both periods and all three layers, so switching layers shows the shrinkage as a change of colour. */
 export function rateScale(rates: readonly (MapRates | undefined)[]): ((v: number) => string) & { domain: [number, number] } | null {
@@ -34,10 +35,10 @@ export function rateScale(rates: readonly (MapRates | undefined)[]): ((v: number
   if (!values.length) return null;
   const min = Math.min(...values);
   const max = Math.max(...values);
-  const step = (max - min) / (RAMP.length - 1);
+  const step = (max - min) / (RATE_RAMP.length - 1);
   const scale = scaleLinear<string>()
-    .domain(RAMP.map((_, i) => min + i * step))
-    .range(RAMP)
+    .domain(RATE_RAMP.map((_, i) => min + i * step))
+    .range(RATE_RAMP)
     .clamp(true);
   return Object.assign((v: number) => scale(v), { domain: [min, max] as [number, number] });
 }
@@ -65,6 +66,7 @@ export function RateChoropleth({
   onHover,
   onSelect,
   testId,
+  actions,
 }: {
   rates: MapRates | undefined;
   layer: RateLayer;
@@ -78,6 +80,8 @@ export function RateChoropleth({
   onHover: (id: string | null) => void;
   onSelect: (id: string) => void;
   testId: string;
+  /** The panel's header actions (the map's figure downloads). */
+  actions?: ReactNode;
 }) {
   const caption = `${RATE_LAYER_CAPTIONS[layer]} Ochre scale shared by both periods and all three layers. Hatched districts lack the events or the population.`;
   if (!rates) {
@@ -89,7 +93,7 @@ export function RateChoropleth({
   }
   const fmt = (v: number | null) => formatValue(v, { unit });
   return (
-    <Panel title={`${title} · ${RATE_LAYER_NAMES[layer]}`} caption={caption}>
+    <Panel title={`${title} · ${RATE_LAYER_NAMES[layer]}`} caption={caption} actions={actions}>
       {rates.problem ? <Notice>{rates.problem}</Notice> : null}
       <RegionMap
         features={features}
@@ -117,7 +121,7 @@ export function RateChoropleth({
       />
       {scale ? (
         <div className="mt-3">
-          <div className="h-2.5 w-full rounded-sm" style={{ background: `linear-gradient(to right, ${RAMP.join(",")})` }} />
+          <div className="h-2.5 w-full rounded-sm" style={{ background: `linear-gradient(to right, ${RATE_RAMP.join(",")})` }} />
           <div className="mt-1 flex justify-between text-xs tabular-nums text-ink-500" data-testid={`${testId}-legend`}>
             <span>{formatValue(scale.domain[0])}</span>
             <span>overall rate {fmt(rates.overallRate)}</span>

@@ -57,7 +57,6 @@ const SMALL_SIZE = 11;
 
 /** XML text: escaped, and without the control characters XML 1.0 cannot hold at all. */
 export function xmlText(value: string): string {
-  // eslint-disable-next-line no-control-regex -- the point is to remove them
   return escapeHtml(value.replace(/[\u0000-\u0008\u000b\u000c\u000e-\u001f\ufffe\uffff]/g, ""));
 }
 
