@@ -14,7 +14,7 @@ export function TopBar(props: {
   workspaces: { slug: string; name: string; role: Role }[];
 }) {
   return (
-    <header className="bg-ink text-white shadow-sm">
+    <header className="bg-ink text-white shadow-sm print:hidden">
       <div className="h-1 bg-ochre-500" aria-hidden="true" />
       <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-6 gap-y-2 px-6 pt-3">
         <Link href={`/w/${props.slug}/desk`} className="text-white">

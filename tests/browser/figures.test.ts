@@ -1,0 +1,156 @@
+import fs from "node:fs";
+import { DOMParser, type Document as XmlDocument } from "@xmldom/xmldom";
+import type { Page } from "playwright-core";
+import demo from "@/seeders/demo-accounts.json";
+import { closeIntakePool } from "@/lib/intake/ingest-db";
+import { CAUTIONS } from "@/lib/runs/cautions";
+import { CLUSTER_CLASS_NAMES } from "@/lib/runs/cluster-classes";
+import { figureSourceLine, figureSize } from "@/lib/runs/figures";
+import type { Timeline } from "@/lib/runs/queries";
+import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
+import { signIn } from "@/tests/helpers/sign-in";
+import { testServices } from "@/tests/helpers/env";
+import { closeConnections } from "@/tests/helpers/teardown";
+import { demoRun } from "@/tests/helpers/demo-run";
+
+// Downloadable figures (docs/exports.md, "Figures"): on the demo run, the timeline's chart of
+// Moran's I and a cluster map download as SVG (title, legend, source line, cautions, the chart or
+// map itself) and as PNG (twice the SVG's size); both screens print as a report without the
+// navigation and controls.
+
+const slug = demo.workspace.slug;
+const economist = demo.accounts.find((a) => a.role === "economist");
+if (!economist) throw new Error("demo-accounts.json has no economist");
+const INDICATOR = "unemployment_rate";
+const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
+
+let session: BrowserSession;
+let runId: number;
+let timeline: Timeline;
+
+beforeAll(async () => {
+  testServices();
+  ({ id: runId } = await demoRun(slug));
+  session = await openBrowser({ viewport: { width: 1440, height: 1000 } });
+  session.page.setDefaultTimeout(120_000);
+  await signIn(session.page, economist.email, economist.password);
+  const answer = await session.page.request.get(`/api/w/${slug}/timeline?indicator=${INDICATOR}&run=${runId}`);
+  expect(answer.status()).toBe(200);
+  timeline = (await answer.json()) as Timeline;
+});
+
+afterAll(async () => {
+  await session?.close();
+  await closeIntakePool();
+  await closeConnections();
+});
+
+jest.setTimeout(600_000);
+
+/** Clicks a download button and returns the file's name and bytes. */
+async function download(page: Page, testId: string): Promise<{ name: string; bytes: Buffer }> {
+  const [file] = await Promise.all([page.waitForEvent("download"), page.getByTestId(testId).click()]);
+  const where = await file.path();
+  return { name: file.suggestedFilename(), bytes: fs.readFileSync(where) };
+}
+
+function parse(svg: string): XmlDocument {
+  const problems: string[] = [];
+  const doc = new DOMParser({ onError: (level, message) => void (level !== "warning" && problems.push(`${level}: ${message}`)) }).parseFromString(svg, "image/svg+xml");
+  expect(problems).toEqual([]);
+  return doc;
+}
+
+function groupText(doc: XmlDocument, className: string): string[] {
+  return Array.from(doc.getElementsByTagName("g"))
+    .filter((g) => g.getAttribute("class") === className)
+    .map((g) => Array.from(g.getElementsByTagName("text")).map((t) => t.textContent ?? "").join(" "));
+}
+
+/** The PNG's signature, its pixel size (IHDR) and that it is no blank page. */
+function checkPng(bytes: Buffer, svgSize: { width: number; height: number }) {
+  expect(bytes.subarray(0, 8).equals(PNG_SIGNATURE)).toBe(true);
+  expect(bytes.subarray(12, 16).toString("ascii")).toBe("IHDR");
+  expect(bytes.readUInt32BE(16)).toBe(svgSize.width * 2);
+  expect(bytes.readUInt32BE(20)).toBe(svgSize.height * 2);
+  expect(bytes.length).toBeGreaterThan(30_000);
+}
+
+it("the timeline's chart of Moran's I downloads as an SVG with its title, legend, source line and cautions, and as a PNG", async () => {
+  const { page } = session;
+  await page.goto(`/w/${slug}/timeline?indicator=${INDICATOR}&run=${runId}`);
+  await page.locator('[data-testid="timeline-moran"] svg').first().waitFor();
+
+  const svg = await download(page, "figure-timeline-moran-svg");
+  expect(svg.name).toBe(`tessera-run-${runId}-unemployment-rate-timeline.svg`);
+  const text = svg.bytes.toString("utf8");
+  const doc = parse(text);
+  const title = `Moran's I of ${timeline.indicator.label.toLowerCase()} per period`;
+  expect(doc.getElementsByTagName("title")[0].textContent).toBe(title);
+  expect(groupText(doc, "figure-title").join(" ")).toBe(title);
+  expect(groupText(doc, "legend-item")).toEqual(expect.arrayContaining(["Moran's I", "E[I]", "95 % band under the null", "Significant after correction"]));
+  const source = groupText(doc, "figure-source").join(" ");
+  expect(source.startsWith(figureSourceLine(timeline.run).replace(" · Tessera", ""))).toBe(true);
+  expect(source).toContain(`Run ${timeline.run.number} (id ${runId})`);
+  expect(groupText(doc, "figure-caution")[0]).toBe(`Caution: ${CAUTIONS.causation.title}. ${CAUTIONS.causation.body}`);
+  // The chart itself: ECharts' SVG with the axes' names and every period.
+  const chartTexts = Array.from(doc.getElementsByTagName("text")).map((t) => t.textContent ?? "");
+  expect(chartTexts).toEqual(expect.arrayContaining(["Moran's I (unitless)", "Period (year)", timeline.points[0].period]));
+
+  const png = await download(page, "figure-timeline-moran-png");
+  expect(png.name).toBe(`tessera-run-${runId}-unemployment-rate-timeline.png`);
+  checkPng(png.bytes, figureSize(text));
+
+  // Printed: no navigation or controls, the source line and the cautions kept.
+  await page.emulateMedia({ media: "print" });
+  expect(await page.locator("header").first().isVisible()).toBe(false);
+  expect(await page.locator("#tl-indicator").isVisible()).toBe(false);
+  expect(await page.getByTestId("figure-timeline-moran").isVisible()).toBe(false);
+  expect(await page.getByTestId("timeline-print-source").innerText()).toContain(`Run ${timeline.run.number} (id ${runId})`);
+  expect(await page.getByRole("heading", { name: "Read results with care" }).isVisible()).toBe(true);
+  expect(await page.getByRole("heading", { name: title }).isVisible()).toBe(true);
+  await screenshot(page, "figures-01-timeline-print");
+  await page.emulateMedia({ media: "screen" });
+});
+
+it("a cluster map downloads as an SVG with the map's regions, its classes and the source line naming the period, and as a PNG", async () => {
+  const { page } = session;
+  const [a, b] = [timeline.points[5].period, timeline.points[12].period];
+  await page.goto(`/w/${slug}/map?indicator=${INDICATOR}&run=${runId}&a=${a}&b=${b}`);
+  await page.locator('[data-testid="cluster-map-a"] path[data-region]').first().waitFor();
+  const regions = await page.locator('[data-testid="cluster-map-a"] path[data-region]').count();
+
+  const svg = await download(page, "figure-cluster-map-a-svg");
+  expect(svg.name).toBe(`tessera-run-${runId}-unemployment-rate-${a}-cluster-map.svg`);
+  const text = svg.bytes.toString("utf8");
+  const doc = parse(text);
+  expect(doc.getElementsByTagName("title")[0].textContent).toBe(`Local clusters of ${timeline.indicator.label.toLowerCase()}, ${a}`);
+  const paths = Array.from(doc.getElementsByTagName("path")).filter((p) => p.getAttribute("data-region"));
+  expect(paths).toHaveLength(regions);
+  const legend = groupText(doc, "legend-item");
+  expect(legend).toHaveLength(6);
+  expect(legend[0]).toMatch(new RegExp(`^${CLUSTER_CLASS_NAMES.HH} \\(\\d+\\)$`));
+  const source = groupText(doc, "figure-source").join(" ");
+  expect(source).toContain(`Run ${timeline.run.number} (id ${runId})`);
+  expect(source).toContain(`period ${a}`);
+  expect(groupText(doc, "figure-caution").length).toBeGreaterThanOrEqual(3);
+
+  const png = await download(page, "figure-cluster-map-a-png");
+  expect(png.name).toBe(`tessera-run-${runId}-unemployment-rate-${a}-cluster-map.png`);
+  checkPng(png.bytes, figureSize(text));
+
+  // The scatter plot's figure is an ECharts body too.
+  const scatter = await download(page, "figure-scatter-a-svg");
+  expect(scatter.name).toBe(`tessera-run-${runId}-unemployment-rate-${a}-scatter.svg`);
+  parse(scatter.bytes.toString("utf8"));
+
+  await page.emulateMedia({ media: "print" });
+  expect(await page.locator("header").first().isVisible()).toBe(false);
+  expect(await page.locator("#map-a").isVisible()).toBe(false);
+  expect(await page.getByTestId("figure-cluster-map-a").isVisible()).toBe(false);
+  expect(await page.getByTestId("map-print-source").innerText()).toContain(`periods ${a}, ${b}`);
+  expect(await page.getByRole("heading", { name: "Read results with care" }).isVisible()).toBe(true);
+  expect(await page.getByTestId("cluster-map-a").isVisible()).toBe(true);
+  await screenshot(page, "figures-02-map-print");
+  await page.emulateMedia({ media: "screen" });
+});
