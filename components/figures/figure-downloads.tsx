@@ -5,7 +5,7 @@ import { composeFigure, figureFileName, figureSize, type FigureBody, type Figure
 
 /** What a figure says besides its body (lib/runs/figures.ts composeFigure) and how its files are named. */
 export type FigureSpec = Omit<FigureInput, "body"> & {
-  file: { runId: number; indicator: string; periods?: readonly string[]; figure: FigureKind };
+  file: { runId: number | null; indicator: string; periods?: readonly string[]; figure: FigureKind };
 };
 
 /** Pixels per figure unit of the PNG: twice the SVG's size, sharp on print and high-density screens. */

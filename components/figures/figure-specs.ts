@@ -1,7 +1,8 @@
 import { interpolateYlOrBr } from "d3-scale-chromatic";
 import type { IndicatorMeta } from "@/lib/intake/published-panel";
 import { CLUSTER_CLASS_COLOURS, CLUSTER_CLASS_NAMES, CLUSTER_CLASS_ORDER } from "@/lib/runs/cluster-classes";
-import { figureCautions, figureSourceLine, type FigureKind, type FigureLegendItem } from "@/lib/runs/figures";
+import type { CrosswalkDetail } from "@/lib/reforms/service";
+import { crosswalkSourceLine, figureCautions, figureSourceLine, type FigureKind, type FigureLegendItem } from "@/lib/runs/figures";
 import { GI_STAR_CLASS_COLOURS, GI_STAR_CLASS_NAMES, GI_STAR_CLASS_ORDER } from "@/lib/runs/gi-star-classes";
 import type { MapPeriod } from "@/lib/runs/on-demand";
 import type { RunSummary } from "@/lib/runs/queries";
@@ -185,4 +186,23 @@ export function scatterFigure(c: Omit<Context, "regions" | "periods">, map: MapP
       ],
     },
   );
+}
+
+/** The reform map of a crosswalk: the new regions (merged, split parts, unchanged) under the old regions' outlines. */
+export function reformMapFigure(detail: CrosswalkDetail): FigureSpec {
+  const summary = detail.report?.summary;
+  const title = `Boundary reform: ${detail.from.setName} v${detail.from.version} to ${detail.to.setName} v${detail.to.version}`;
+  return {
+    title,
+    units: "regions of the two boundary versions (no values)",
+    legend: [
+      { kind: "swatch", label: `Merged (${summary?.merged.length ?? 0})`, colour: "#f0d48e" },
+      { kind: "line", label: `Split: the old border (${summary?.split.length ?? 0})`, colour: OCHRE },
+      { kind: "swatch", label: `Unchanged (${summary?.unchanged ?? 0})`, colour: "#e3e7ef" },
+      { kind: "line", label: "Old regions", colour: INK },
+    ],
+    sourceLine: crosswalkSourceLine(detail, { date: today() }),
+    cautions: figureCautions("reform-map", { harmonised: detail.origin === "derived" }),
+    file: { runId: null, indicator: `crosswalk ${detail.id}`, figure: "reform-map" },
+  };
 }

@@ -17,6 +17,8 @@ import { intakeBase, overviewQuery, topologyQuery, type TopologyResponse } from 
 import type { CrosswalkDetail, HarmonisedVersion } from "@/lib/reforms/service";
 import type { ChosenMethod, IndicatorMethod } from "@/lib/reforms/methods";
 import { AREAL_WEIGHTING_CAUTION } from "./caution";
+import { FigureDownloads, panelMapBody } from "@/components/figures/figure-downloads";
+import { reformMapFigure } from "@/components/figures/figure-specs";
 
 const WIDTH = 720;
 const HEIGHT = 520;
@@ -76,7 +78,11 @@ function ReformMap({ slug, detail }: { slug: string; detail: CrosswalkDetail }) 
   const splitTargets = new Set(summary?.split.flatMap((s) => s.to) ?? []);
   const splitSources = new Set(summary?.split.map((s) => s.from) ?? []);
   return (
-    <Panel title="The reform on a map" caption="New regions filled lightly; old regions outlined over them. Merged regions are ochre, the parts of a split region hatched.">
+    <Panel
+      title="The reform on a map"
+      caption="New regions filled lightly; old regions outlined over them. Merged regions are ochre, the parts of a split region hatched."
+      actions={drawn ? <FigureDownloads spec={reformMapFigure(detail)} body={(g) => panelMapBody(g)} testId="figure-reform-map" /> : null}
+    >
       {from.error || to.error ? <Notice tone="error">{(from.error ?? to.error)?.message}</Notice> : null}
       {drawn ? (
         <figure>

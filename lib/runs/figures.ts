@@ -253,6 +253,25 @@ export function figureSourceLine(run: FigureSourceRun, options: { periods?: read
   ].join(" · ");
 }
 
+/**
+ * "Source: crosswalk 4 (derived from the overlap of areas) from Veldmark districts v1 to Veldmark districts v2 · Tessera":
+ * the source line of the reform map, which shows boundary versions rather than a run's results.
+ */
+export function crosswalkSourceLine(crosswalk: {
+  id: number;
+  origin: "derived" | "uploaded";
+  fileName: string | null;
+  from: { setName: string; version: number };
+  to: { setName: string; version: number };
+}, options: { date?: string } = {}): string {
+  const how = crosswalk.origin === "derived" ? "derived from the overlap of areas" : `uploaded as ${crosswalk.fileName ?? "a CSV"}`;
+  return [
+    `Source: crosswalk ${crosswalk.id} (${how}) from ${crosswalk.from.setName} v${crosswalk.from.version} to ${crosswalk.to.setName} v${crosswalk.to.version}`,
+    ...(options.date ? [`exported ${options.date}`] : []),
+    "Tessera",
+  ].join(" · ");
+}
+
 /** The kinds of figure Tessera offers for download. */
 export type FigureKind = "timeline" | "z-chart" | "robustness" | "cluster-map" | "hot-spot-map" | "choropleth" | "rate-map" | "scatter" | "reform-map";
 
@@ -266,7 +285,7 @@ export const SMALL_N = 30;
  * few regions: when the smallest n shown is below SMALL_N;
  * rates: rate maps, and any figure of a rate indicator;
  * covariates: the least-squares assumptions when a residual line is shown;
- * a harmonised panel: the areal-weighting caution.
+ * a harmonised panel, or the reform map unless `harmonised` is false (an uploaded crosswalk): the areal-weighting caution.
  */
 export function figureCautionKeys(kind: FigureKind, context: { regions?: number | null; rate?: boolean; covariates?: boolean; harmonised?: boolean } = {}): CautionKey[] {
   const keys: CautionKey[] = [];
@@ -277,7 +296,7 @@ export function figureCautionKeys(kind: FigureKind, context: { regions?: number 
   if (inferential && context.regions !== null && context.regions !== undefined && context.regions < SMALL_N) keys.push("small-n");
   if (kind === "rate-map" || context.rate) keys.push("small-rates");
   if (context.covariates && kind === "timeline") keys.push("ols-assumptions");
-  if (context.harmonised || kind === "reform-map") keys.push("areal-weighting");
+  if (kind === "reform-map" ? context.harmonised !== false : context.harmonised) keys.push("areal-weighting");
   return keys;
 }
 
@@ -299,12 +318,13 @@ export function fileNamePart(value: string, max = 48): string {
 
 /**
  * "tessera-run-12-unemployment-rate-2013-cluster-map.svg": safe on every file system (ASCII
- * letters, digits, hyphens; never empty, never a path), naming the run id, indicator, period(s) and figure.
+ * letters, digits, hyphens; never empty, never a path), naming the run id, indicator, period(s) and figure
+ * (a figure of no run, the reform map, passes `runId: null` and names its crosswalk as the indicator).
  */
-export function figureFileName(input: { runId: number; indicator: string; periods?: readonly string[]; figure: FigureKind | string; extension: "svg" | "png" }): string {
+export function figureFileName(input: { runId: number | null; indicator: string; periods?: readonly string[]; figure: FigureKind | string; extension: "svg" | "png" }): string {
   const parts = [
     "tessera",
-    Number.isSafeInteger(input.runId) && input.runId > 0 ? `run-${input.runId}` : "",
+    input.runId !== null && Number.isSafeInteger(input.runId) && input.runId > 0 ? `run-${input.runId}` : "",
     fileNamePart(input.indicator),
     ...(input.periods ?? []).map((p) => fileNamePart(p, 24)),
     fileNamePart(input.figure, 32),

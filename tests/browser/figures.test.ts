@@ -107,7 +107,7 @@ it("the timeline's chart of Moran's I downloads as an SVG with its title, legend
   expect(await page.locator("#tl-indicator").isVisible()).toBe(false);
   expect(await page.getByTestId("figure-timeline-moran").isVisible()).toBe(false);
   expect(await page.getByTestId("timeline-print-source").innerText()).toContain(`Run ${timeline.run.number} (id ${runId})`);
-  expect(await page.getByRole("heading", { name: "Read results with care" }).isVisible()).toBe(true);
+  expect(await page.locator("#cautions-heading").isVisible()).toBe(true);
   expect(await page.getByRole("heading", { name: title }).isVisible()).toBe(true);
   await screenshot(page, "figures-01-timeline-print");
   await page.emulateMedia({ media: "screen" });
@@ -149,7 +149,7 @@ it("a cluster map downloads as an SVG with the map's regions, its classes and th
   expect(await page.locator("#map-a").isVisible()).toBe(false);
   expect(await page.getByTestId("figure-cluster-map-a").isVisible()).toBe(false);
   expect(await page.getByTestId("map-print-source").innerText()).toContain(`periods ${a}, ${b}`);
-  expect(await page.getByRole("heading", { name: "Read results with care" }).isVisible()).toBe(true);
+  expect(await page.locator("#cautions-heading").isVisible()).toBe(true);
   expect(await page.getByTestId("cluster-map-a").isVisible()).toBe(true);
   await screenshot(page, "figures-02-map-print");
   await page.emulateMedia({ media: "screen" });
