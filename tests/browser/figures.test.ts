@@ -1,4 +1,6 @@
 import fs from "node:fs";
+import { QueryTypes } from "sequelize";
+import { db } from "@/lib/db";
 import { DOMParser, type Document as XmlDocument } from "@xmldom/xmldom";
 import type { Page } from "playwright-core";
 import demo from "@/seeders/demo-accounts.json";
@@ -20,7 +22,8 @@ import { demoRun } from "@/tests/helpers/demo-run";
 
 const slug = demo.workspace.slug;
 const economist = demo.accounts.find((a) => a.role === "economist");
-if (!economist) throw new Error("demo-accounts.json has no economist");
+const steward = demo.accounts.find((a) => a.role === "steward");
+if (!economist || !steward) throw new Error("demo-accounts.json has no economist or no steward");
 const INDICATOR = "unemployment_rate";
 const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
 
@@ -153,4 +156,31 @@ it("a cluster map downloads as an SVG with the map's regions, its classes and th
   expect(await page.getByTestId("cluster-map-a").isVisible()).toBe(true);
   await screenshot(page, "figures-02-map-print");
   await page.emulateMedia({ media: "screen" });
+});
+
+it("the reform map of the demo's derived crosswalk downloads as an SVG naming both boundary versions, with the areal-weighting caution", async () => {
+  const [crosswalk] = await db().query<{ id: number }>(
+    `SELECT c.id FROM crosswalks c JOIN workspaces w ON w.id = c.workspace_id
+      WHERE w.slug = $1 AND c.origin = 'derived' AND c.status = 'ready' ORDER BY c.id LIMIT 1`,
+    { bind: [slug], type: QueryTypes.SELECT },
+  );
+  expect(crosswalk).toBeDefined();
+  // Crosswalks are the stewards' (data.view-unpublished).
+  const own = await openBrowser({ viewport: { width: 1440, height: 1000 } });
+  try {
+    const { page } = own;
+    page.setDefaultTimeout(120_000);
+    await signIn(page, steward.email, steward.password);
+    await page.goto(`/w/${slug}/intake/reforms/${crosswalk.id}`);
+    await page.locator('[data-testid="reform-map"] path').first().waitFor();
+    const svg = await download(page, "figure-reform-map-svg");
+    expect(svg.name).toBe(`tessera-crosswalk-${crosswalk.id}-reform-map.svg`);
+    const doc = parse(svg.bytes.toString("utf8"));
+    expect(doc.getElementsByTagName("title")[0].textContent).toMatch(/^Boundary reform: .+ v\d+ to .+ v\d+$/);
+    expect(groupText(doc, "figure-source").join(" ")).toMatch(new RegExp(`^Source: crosswalk ${crosswalk.id} \\(derived from the overlap of areas\\)`));
+    expect(groupText(doc, "figure-caution")).toEqual([`Caution: ${CAUTIONS["areal-weighting"].title}. ${CAUTIONS["areal-weighting"].body}`]);
+    expect(doc.getElementsByTagName("path").length).toBeGreaterThan(200);
+  } finally {
+    await own.close();
+  }
 });

@@ -2,6 +2,7 @@ import { DOMParser, type Document as XmlDocument, type Element as XmlElement } f
 import { CAUTIONS } from "@/lib/runs/cautions";
 import {
   composeFigure,
+  crosswalkSourceLine,
   fileNamePart,
   figureCautionKeys,
   figureCautions,
@@ -164,6 +165,19 @@ describe("figureSourceLine", () => {
   });
 });
 
+describe("crosswalkSourceLine", () => {
+  it("names the crosswalk, how it was made and both boundary versions", () => {
+    const from = { setName: "Veldmark districts", version: 1 };
+    const to = { setName: "Veldmark districts 2019", version: 1 };
+    expect(crosswalkSourceLine({ id: 4, origin: "derived", fileName: null, from, to })).toBe(
+      "Source: crosswalk 4 (derived from the overlap of areas) from Veldmark districts v1 to Veldmark districts 2019 v1 · Tessera",
+    );
+    expect(crosswalkSourceLine({ id: 5, origin: "uploaded", fileName: "shares.csv", from, to }, { date: "2026-12-05" })).toBe(
+      "Source: crosswalk 5 (uploaded as shares.csv) from Veldmark districts v1 to Veldmark districts 2019 v1 · exported 2026-12-05 · Tessera",
+    );
+  });
+});
+
 describe("figureCautions", () => {
   it("gives each figure the cautions that apply to it", () => {
     expect(figureCautionKeys("timeline", { regions: 240 })).toEqual(["causation", "maup", "multiple"]);
@@ -172,6 +186,8 @@ describe("figureCautions", () => {
     expect(figureCautionKeys("rate-map")).toEqual(["maup", "small-rates"]);
     expect(figureCautionKeys("cluster-map", { rate: true })).toEqual(["causation", "maup", "multiple", "small-rates"]);
     expect(figureCautionKeys("reform-map")).toEqual(["areal-weighting"]);
+    // An uploaded (say population-weighted) crosswalk does not rest on areal weighting.
+    expect(figureCautionKeys("reform-map", { harmonised: false })).toEqual([]);
   });
 
   it("uses the texts of the cautions box", () => {
@@ -195,5 +211,7 @@ describe("figureFileName", () => {
       expect(name.length).toBeLessThanOrEqual(120);
     }
     expect(fileNamePart("---")).toBe("");
+    // A figure of no run (the reform map) names what it shows instead.
+    expect(figureFileName({ runId: null, indicator: "crosswalk 4", figure: "reform-map", extension: "png" })).toBe("tessera-crosswalk-4-reform-map.png");
   });
 });
