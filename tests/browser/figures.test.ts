@@ -17,8 +17,8 @@ import { demoRun } from "@/tests/helpers/demo-run";
 
 // Downloadable figures (docs/exports.md, "Figures"): on the demo run, the timeline's chart of
 // Moran's I and a cluster map download as SVG (title, legend, source line, cautions, the chart or
-// map itself) and as PNG (twice the SVG's size); both screens print as a report without the
-// navigation and controls.
+// map itself) and as PNG (twice the SVG's size), and so does the reform map of the demo's derived
+// crosswalk; both screens print as a report without the navigation and controls.
 
 const slug = demo.workspace.slug;
 const economist = demo.accounts.find((a) => a.role === "economist");
