@@ -3,7 +3,7 @@ import type { IndicatorMeta } from "@/lib/intake/published-panel";
 import { CLUSTER_CLASS_COLOURS, CLUSTER_CLASS_NAMES, CLUSTER_CLASS_ORDER } from "@/lib/runs/cluster-classes";
 import type { CrosswalkDetail } from "@/lib/reforms/service";
 import { crosswalkSourceLine, figureCautions, figureSourceLine, type FigureKind, type FigureLegendItem } from "@/lib/runs/figures";
-import { GI_STAR_CLASS_COLOURS, GI_STAR_CLASS_NAMES, GI_STAR_CLASS_ORDER } from "@/lib/runs/gi-star-classes";
+import { GI_STAR_CLASS_COLOURS, GI_STAR_CLASS_NAMES, GI_STAR_CLASS_ORDER, giStarMapTitle } from "@/lib/runs/gi-star-classes";
 import type { MapPeriod } from "@/lib/runs/on-demand";
 import type { RunSummary } from "@/lib/runs/queries";
 import type { FigureSpec } from "./figure-downloads";
@@ -122,14 +122,14 @@ export function clusterMapFigure(c: Omit<Context, "regions" | "periods">, map: M
   );
 }
 
-/** One period's hot-spot (Gi*) map. */
-export function hotSpotMapFigure(c: Omit<Context, "regions" | "periods">, map: MapPeriod): FigureSpec {
+/** One period's Gi* map. */
+export function giStarMapFigure(c: Omit<Context, "regions" | "periods">, map: MapPeriod): FigureSpec {
   const counts = map.giStar?.counts;
   return spec(
-    "hot-spot-map",
+    "gi-star-map",
     { ...c, periods: [map.period], regions: map.giStar?.ids.length ?? null },
     {
-      title: `Hot and cold spots (local Gi*) of ${c.indicator.label.toLowerCase()}, ${map.period}`,
+      title: `${giStarMapTitle(map.period)}: local Gi* of ${c.indicator.label.toLowerCase()}`,
       units: "classes of the Gi* z-score (no units)",
       legend: GI_STAR_CLASS_ORDER.map((k) =>
         k === "no-neighbours"

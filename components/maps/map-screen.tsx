@@ -29,7 +29,7 @@ import { RATE_LAYER_NAMES, RATE_RAMP, RateChoropleth, RateLayerSwitch, rateScale
 import type { LocalMapView } from "@/lib/runs/gi-star-classes";
 import { FigureDownloads, panelMapBody } from "@/components/figures/figure-downloads";
 import { echartsFigureBody } from "@/components/figures/echarts-body";
-import { choroplethFigure, clusterMapFigure, hotSpotMapFigure, rateMapFigure, scatterFigure } from "@/components/figures/figure-specs";
+import { choroplethFigure, clusterMapFigure, giStarMapFigure, rateMapFigure, scatterFigure } from "@/components/figures/figure-specs";
 import { figureSourceLine } from "@/lib/runs/figures";
 import type { RunSummary } from "@/lib/runs/queries";
 import type { IndicatorMeta } from "@/lib/intake/published-panel";
@@ -131,7 +131,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                   onSelect={setSelected}
                   warning={(k === 0 ? mapA.data : mapB.data).reachability}
                   testId={k === 0 ? "a" : "b"}
-                  actions={figure && m.giStar ? <FigureDownloads spec={hotSpotMapFigure(figure, m)} body={(g) => panelMapBody(g)} testId={`figure-gi-star-map-${k === 0 ? "a" : "b"}`} /> : null}
+                  actions={figure && m.giStar ? <FigureDownloads spec={giStarMapFigure(figure, m)} body={(g) => panelMapBody(g)} testId={`figure-gi-star-map-${k === 0 ? "a" : "b"}`} /> : null}
                 />
               ) : (
               <Panel
@@ -340,7 +340,7 @@ function ScaleLegend({ domain, unit }: { domain: [number, number]; unit: string 
 function RegionDetail({ id, names, a, b, unit }: { id: string | null; names: Record<string, string | null>; a: MapPeriod; b: MapPeriod; unit: string }) {
   if (!id) {
     return (
-      <Panel title="Region">
+      <Panel title="Region" className="print:hidden">
         <p className="text-sm text-ink-500">Hover over or click a region on any map or scatter plot to see it everywhere at once.</p>
       </Panel>
     );

@@ -273,7 +273,7 @@ export function crosswalkSourceLine(crosswalk: {
 }
 
 /** The kinds of figure Tessera offers for download. */
-export type FigureKind = "timeline" | "z-chart" | "robustness" | "cluster-map" | "hot-spot-map" | "choropleth" | "rate-map" | "scatter" | "reform-map";
+export type FigureKind = "timeline" | "z-chart" | "robustness" | "cluster-map" | "gi-star-map" | "choropleth" | "rate-map" | "scatter" | "reform-map";
 
 /** Below this many regions analytical p-values are unreliable (the "small n" caution). */
 export const SMALL_N = 30;
@@ -292,7 +292,7 @@ export function figureCautionKeys(kind: FigureKind, context: { regions?: number 
   const inferential = kind !== "choropleth" && kind !== "rate-map" && kind !== "reform-map";
   if (inferential) keys.push("causation");
   if (kind !== "reform-map") keys.push("maup");
-  if (kind === "timeline" || kind === "z-chart" || kind === "cluster-map" || kind === "hot-spot-map" || kind === "scatter") keys.push("multiple");
+  if (kind === "timeline" || kind === "z-chart" || kind === "cluster-map" || kind === "gi-star-map" || kind === "scatter") keys.push("multiple");
   if (inferential && context.regions !== null && context.regions !== undefined && context.regions < SMALL_N) keys.push("small-n");
   if (kind === "rate-map" || context.rate) keys.push("small-rates");
   if (context.covariates && kind === "timeline") keys.push("ols-assumptions");
