@@ -7,6 +7,7 @@ import demo from "@/seeders/demo-accounts.json";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
 import { CAUTIONS } from "@/lib/runs/cautions";
 import { CLUSTER_CLASS_NAMES } from "@/lib/runs/cluster-classes";
+import { GI_STAR_CLASS_NAMES, GI_STAR_CLASS_ORDER, LOCAL_MAP_VIEW_NAMES } from "@/lib/runs/gi-star-classes";
 import { figureSourceLine, figureSize } from "@/lib/runs/figures";
 import type { Timeline } from "@/lib/runs/queries";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
@@ -146,6 +147,16 @@ it("a cluster map downloads as an SVG with the map's regions, its classes and th
   const scatter = await download(page, "figure-scatter-a-svg");
   expect(scatter.name).toBe(`tessera-run-${runId}-unemployment-rate-${a}-scatter.svg`);
   parse(scatter.bytes.toString("utf8"));
+
+  // And the Gi* map of the same period, behind the switch.
+  await page.getByRole("radiogroup", { name: "Local map" }).getByRole("radio", { name: LOCAL_MAP_VIEW_NAMES["gi-star"] }).click();
+  await page.locator('[data-testid="gi-star-map-a"] path[data-region]').first().waitFor();
+  const gi = await download(page, "figure-gi-star-map-a-svg");
+  expect(gi.name).toBe(`tessera-run-${runId}-unemployment-rate-${a}-gi-star-map.svg`);
+  const giDoc = parse(gi.bytes.toString("utf8"));
+  expect(groupText(giDoc, "legend-item").map((t) => t.replace(/ \(\d+\)$/, ""))).toEqual(GI_STAR_CLASS_ORDER.map((k) => GI_STAR_CLASS_NAMES[k]));
+  await page.getByRole("radiogroup", { name: "Local map" }).getByRole("radio", { name: LOCAL_MAP_VIEW_NAMES.clusters }).click();
+  await page.locator('[data-testid="cluster-map-a"] path[data-region]').first().waitFor();
 
   await page.emulateMedia({ media: "print" });
   expect(await page.locator("header").first().isVisible()).toBe(false);
