@@ -1,7 +1,8 @@
 import { createHash, randomBytes, randomUUID, timingSafeEqual } from "node:crypto";
 import { models } from "@/lib/models";
 import { audit } from "@/lib/security/audit";
-import { ROLES, type Role } from "./roles";
+import { API_TOKEN_PREFIX, parseApiToken } from "./api-token-format";
+import type { Role } from "./roles";
 
 // Personal API tokens (docs/api-access.md). A token reads
 // `tsr_<id>_<secret>`: the id (32 hex digits, the row's random UUID) finds
@@ -9,15 +10,10 @@ import { ROLES, type Role } from "./roles";
 // secret's SHA-256 is stored: with 256 bits of entropy there is nothing to
 // brute-force, so a fast hash is right (unlike passwords).
 
-export const API_TOKEN_PREFIX = "tsr_";
-export const API_TOKEN_EXPIRY_DAYS = [7, 30, 90, 365] as const;
-export type ApiTokenExpiryDays = (typeof API_TOKEN_EXPIRY_DAYS)[number];
 /** How many distinct addresses a token remembers for "used from a new address". */
 export const SEEN_ADDRESSES_KEPT = 50;
 /** A use refreshes last use at most this often unless the address is new (one write per minute, not per request). */
 const LAST_USE_RESOLUTION_MS = 60_000;
-
-const TOKEN_PATTERN = /^tsr_([0-9a-f]{32})_([A-Za-z0-9_-]{43})$/;
 
 export function hashSecret(secret: string): string {
   return createHash("sha256").update(secret, "utf8").digest("hex");
@@ -30,51 +26,11 @@ export function mintApiToken(): { id: string; secretHash: string; token: string 
   return { id, secretHash: hashSecret(secret), token: `${API_TOKEN_PREFIX}${id.replaceAll("-", "")}_${secret}` };
 }
 
-/** The row id (a UUID) and secret of a token, or null when it is not shaped like one. */
-export function parseApiToken(token: string): { id: string; secret: string } | null {
-  const match = TOKEN_PATTERN.exec(token);
-  if (!match) return null;
-  const hex = match[1];
-  return { id: `${hex.slice(0, 8)}-${hex.slice(8, 12)}-${hex.slice(12, 16)}-${hex.slice(16, 20)}-${hex.slice(20)}`, secret: match[2] };
-}
-
-/**
- * The credentials of an `Authorization` header: `{ scheme: "bearer", token }` for
- * `Bearer <token>` (scheme case-insensitive, RFC 9110 §11.1), null when there is no header.
- * Any other header is `{ scheme: "other" }`, which the guard refuses rather than ignores.
- */
-export function bearerOf(header: string | null | undefined): { scheme: "bearer"; token: string } | { scheme: "other" } | null {
-  if (header === null || header === undefined || header.trim() === "") return null;
-  const match = /^\s*bearer\s+(\S+)\s*$/i.exec(header);
-  return match ? { scheme: "bearer", token: match[1] } : { scheme: "other" };
-}
-
 /** Constant-time comparison of a presented secret against a stored hash. */
 export function secretMatches(secret: string, storedHash: string): boolean {
   const a = Buffer.from(hashSecret(secret), "hex");
   const b = Buffer.from(storedHash, "hex");
   return a.length === b.length && timingSafeEqual(a, b);
-}
-
-const RANK: Record<Role, number> = { subscriber: 0, economist: 1, steward: 2, manager: 3 };
-
-/** The lower of two roles: what a token may do is its own role capped by its owner's current one. */
-export function cappedRole(tokenRole: Role, ownerRole: Role): Role {
-  return RANK[tokenRole] <= RANK[ownerRole] ? tokenRole : ownerRole;
-}
-
-/** True when a token of `tokenRole` may be made by a member holding `ownerRole`. */
-export function roleWithin(tokenRole: Role, ownerRole: Role): boolean {
-  return RANK[tokenRole] <= RANK[ownerRole];
-}
-
-/** Roles a member holding `ownerRole` may give a token, most senior first. */
-export function grantableRoles(ownerRole: Role): Role[] {
-  return ROLES.filter((role) => roleWithin(role, ownerRole));
-}
-
-export function tokenExpiry(days: ApiTokenExpiryDays, from: Date = new Date()): Date {
-  return new Date(from.getTime() + days * 24 * 60 * 60 * 1000);
 }
 
 /** What a valid token stands for: its owner in its one workspace, with at most its role. */

@@ -60,7 +60,7 @@ export function carriesSessionCookie(cookie: string | null | undefined): boolean
 
 /** True for a programmatic request: a Bearer token and no session cookie. */
 export function isTokenRequest(input: Pick<OriginCheckInput, "authorization" | "cookie">): boolean {
-  return /^\s*bearer\s+\S/i.test(input.authorization ?? "") && !carriesSessionCookie(input.cookie);
+  return /^\s*bearer(\s|$)/i.test(input.authorization ?? "") && !carriesSessionCookie(input.cookie);
 }
 
 /** Null when the request may proceed; otherwise the sentence to answer with a 403. */

@@ -1,3 +1,4 @@
+import { isRole, type Role } from "@/lib/auth/roles";
 import { models } from "@/lib/models";
 import type { ApiToken, User } from "@/models";
 import type { ApiTokenState, ApiTokenView } from "./schemas";
@@ -45,4 +46,20 @@ export function listOwnTokens(workspaceId: number, userId: number): Promise<ApiT
 /** Every member's tokens in one workspace, for its managers. */
 export function listWorkspaceTokens(workspaceId: number): Promise<ApiTokenView[]> {
   return list({ workspaceId });
+}
+
+/** The Account screen's tokens: each workspace the user belongs to, their role there and their own tokens in it. */
+export async function accountTokens(userId: number): Promise<{ workspace: { slug: string; name: string }; role: Role; tokens: ApiTokenView[] }[]> {
+  const { Membership, Workspace } = models();
+  const memberships = await Membership.findAll({ where: { userId }, order: [["createdAt", "ASC"]], attributes: ["workspaceId", "role"] });
+  const workspaces = new Map(
+    (await Workspace.findAll({ where: { id: memberships.map((m) => m.workspaceId) }, attributes: ["id", "slug", "name"] })).map((w) => [w.id, w]),
+  );
+  const out = [];
+  for (const membership of memberships) {
+    const workspace = workspaces.get(membership.workspaceId);
+    if (!workspace || !isRole(membership.role)) continue;
+    out.push({ workspace: { slug: workspace.slug, name: workspace.name }, role: membership.role, tokens: await listOwnTokens(workspace.id, userId) });
+  }
+  return out;
 }

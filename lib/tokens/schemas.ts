@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { API_TOKEN_EXPIRY_DAYS } from "@/lib/auth/api-tokens";
+import { API_TOKEN_EXPIRY_DAYS } from "@/lib/auth/api-token-format";
 import { ROLES } from "@/lib/auth/roles";
 import { text, uuidText } from "@/lib/http/params";
 

@@ -1,5 +1,6 @@
 import { Op } from "sequelize";
-import { mintApiToken, roleWithin, tokenExpiry } from "@/lib/auth/api-tokens";
+import { roleWithin, tokenExpiry } from "@/lib/auth/api-token-format";
+import { mintApiToken } from "@/lib/auth/api-tokens";
 import type { MemberContext } from "@/lib/auth/guard";
 import { can, ROLE_LABELS } from "@/lib/auth/roles";
 import { db } from "@/lib/db";
