@@ -65,6 +65,10 @@ function expectedStatus(row: WorkspaceRow, caller: Caller): number {
   return DOCUMENTED_ROLES[row.capability].includes(caller) ? row.ok : (row.refused ?? 403);
 }
 
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+/** A well-formed id of no row (API tokens have UUID ids). */
+const MISSING_UUID = "0d6a3f8e-1b2c-4d5e-8f90-a1b2c3d4e5f6";
+
 const CALLER_LABELS: Record<Caller, string> = {
   manager: "manager",
   steward: "steward",
@@ -169,7 +173,7 @@ for (const row of WORKSPACE_ROWS) {
           const missingParams =
             caller === "outsider"
               ? { ...call.params, slug: `no-such-workspace-${Date.now().toString(36)}` }
-              : Object.fromEntries(Object.entries(call.params).map(([k, v]) => [k, k.endsWith("Id") ? "2000000000" : v]));
+              : Object.fromEntries(Object.entries(call.params).map(([k, v]) => [k, k.endsWith("Id") ? (UUID.test(v) ? MISSING_UUID : "2000000000") : v]));
           const missing = await send(row, { ...call, params: missingParams });
           expect(missing.status).toBe(404);
           expect(body).toEqual(await bodyOf(missing));
