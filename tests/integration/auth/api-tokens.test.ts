@@ -10,6 +10,7 @@ import * as runsRoute from "@/app/api/w/[slug]/runs/route";
 import * as tokensRoute from "@/app/api/w/[slug]/tokens/route";
 import * as tokenRoute from "@/app/api/w/[slug]/tokens/[tokenId]/route";
 import * as teamTokensRoute from "@/app/api/w/[slug]/team-tokens/route";
+import * as memberRoute from "@/app/api/w/[slug]/members/[userId]/route";
 import { makeWorkspace } from "./fixtures";
 
 // Personal API tokens end to end through the real route handlers and the real
@@ -145,6 +146,19 @@ describe("using a token", () => {
     const gone = await call(runsRoute.GET, { slug: aSlug(), token: made.token });
     expect(gone.status).toBe(404);
     expect(await gone.json()).toEqual({ error: ACCESS_MESSAGES[404] });
+  });
+
+  it("ends when a manager removes its owner, and stays ended if they join again", async () => {
+    const owner = (await makeWorkspace({ leaver: "manager" })).users.leaver;
+    await models().Membership.create({ workspaceId: a.workspace.id, userId: owner.id, role: "economist" });
+    const made = await createTokenAs(owner, aSlug(), "economist");
+    expect((await call(runsRoute.GET, { slug: aSlug(), token: made.token })).status).toBe(200);
+    signInAs(a.users.manager);
+    expect((await call(memberRoute.DELETE, { slug: aSlug(), method: "DELETE", params: { userId: String(owner.id) } })).status).toBe(200);
+    signInAs(null);
+    expect((await models().ApiToken.findByPk(made.id))?.revokedAt).toBeInstanceOf(Date);
+    await models().Membership.create({ workspaceId: a.workspace.id, userId: owner.id, role: "economist" });
+    expect((await call(runsRoute.GET, { slug: aSlug(), token: made.token })).status).toBe(401);
   });
 
   it("is bound to its workspace: on another workspace it gets exactly the answer for one that does not exist", async () => {
