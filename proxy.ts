@@ -16,7 +16,8 @@ import { crossSiteRefusal } from "@/lib/security/origin";
 //    page. Whether the visitor may see a workspace is decided by
 //    lib/auth/guard.ts on the server; API routes answer 401 themselves.
 // 3. API requests that change data and come from another site's page are
-//    refused with 403 before any handler runs (lib/security/origin.ts).
+//    refused with 403 before any handler runs (lib/security/origin.ts);
+//    requests with an API token (Bearer) and no session cookie are exempt.
 // Every answer it gives, redirects and refusals included, carries the CSP, the
 // static security headers (also set by next.config.mjs, which alone reaches
 // static files) and Cache-Control: no-store (lib/security/headers.ts). It also
@@ -69,6 +70,8 @@ export default async function proxy(request: NextRequest, event: NextFetchEvent)
     secFetchSite: request.headers.get("sec-fetch-site"),
     host: request.headers.get("host"),
     appUrl: env().NEXTAUTH_URL,
+    authorization: request.headers.get("authorization"),
+    cookie: request.headers.get("cookie"),
   });
   if (refusal) return withSecurityHeaders(NextResponse.json({ error: refusal, field: null }, { status: 403 }), csp, pathname);
   const moved = movedApiPath(request.nextUrl.pathname);

@@ -21,7 +21,11 @@ export type AuditAction =
   | "run.rerun"
   | "run.cancelled"
   | "digest.sent-now"
-  | "workspace.created";
+  | "workspace.created"
+  // Personal API tokens (lib/tokens, lib/auth/api-tokens.ts).
+  | "api-token.created"
+  | "api-token.used-from-new-address"
+  | "api-token.revoked";
 
 export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreationAttributes<AuditEvent>> {
   declare id: CreationOptional<string>;

@@ -1,4 +1,5 @@
 import { DataTypes, type Sequelize } from "sequelize";
+import { ApiToken } from "./api-token";
 import { AuditEvent } from "./audit-event";
 import { BoundarySet } from "./boundary-set";
 import { BoundaryVersion } from "./boundary-version";
@@ -48,6 +49,7 @@ export function defineModels(sequelize: Sequelize) {
     ColumnMappingMemory,
     Upload,
     Run,
+    ApiToken,
   };
 }
 
@@ -300,6 +302,27 @@ function initModels(sequelize: Sequelize): void {
     { ...common, tableName: "uploads", modelName: "Upload" },
   );
 
+  // migrations/20261214000100-create-api-tokens
+  ApiToken.init(
+    {
+      id: { type: DataTypes.UUID, primaryKey: true },
+      workspaceId: { type: DataTypes.INTEGER, allowNull: false },
+      userId: { type: DataTypes.INTEGER, allowNull: false },
+      name: { type: DataTypes.STRING(100), allowNull: false },
+      role: { type: DataTypes.STRING(20), allowNull: false, validate: { isIn: [ROLES as unknown as string[]] } },
+      secretHash: { type: DataTypes.CHAR(64), allowNull: false },
+      expiresAt: { type: DataTypes.DATE, allowNull: false },
+      lastUsedAt: { type: DataTypes.DATE, allowNull: true },
+      lastAddress: { type: DataTypes.STRING(64), allowNull: true },
+      seenAddresses: { type: DataTypes.ARRAY(DataTypes.STRING(64)), allowNull: false, defaultValue: [] },
+      revokedAt: { type: DataTypes.DATE, allowNull: true },
+      revokedBy: { type: DataTypes.INTEGER, allowNull: true },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE,
+    },
+    { ...common, tableName: "api_tokens", modelName: "ApiToken" },
+  );
+
   // Associations, all in one place.
   User.hasMany(Membership, { foreignKey: "userId", as: "memberships" });
   Membership.belongsTo(User, { foreignKey: "userId", as: "user" });
@@ -321,12 +344,15 @@ function initModels(sequelize: Sequelize): void {
   PanelVersion.belongsTo(Panel, { foreignKey: "panelId", as: "panel" });
   PanelVersion.belongsTo(BoundaryVersion, { foreignKey: "boundaryVersionId", as: "boundaryVersion" });
 
+  Workspace.hasMany(ApiToken, { foreignKey: "workspaceId", as: "apiTokens" });
+  ApiToken.belongsTo(User, { foreignKey: "userId", as: "owner" });
+
   initRunModel(sequelize);
 }
 
 export { AuditEvent, Invitation, LoginAttempt, Membership, User, Workspace };
 export { BoundarySet, BoundaryVersion, ColumnMappingMemory, Indicator, Panel, PanelVersion, Upload };
-export { Run };
+export { Run, ApiToken };
 export * from "./intake-types";
 export * from "./digest-types";
 export * from "./roles";

@@ -26,7 +26,7 @@ export function TopBar(props: {
         </Link>
         <div className="ml-auto flex items-center gap-4">
           <div className="text-right leading-tight">
-            <Link href="/account" className="text-sm font-medium text-white hover:text-ochre-300" title="Your account: change password">
+            <Link href="/account" className="text-sm font-medium text-white hover:text-ochre-300" title="Your account: password and access tokens">
               <p data-testid="user-name">{props.userName}</p>
             </Link>
             <p className="text-xs text-ochre-300" data-testid="user-role">

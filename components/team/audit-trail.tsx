@@ -23,6 +23,9 @@ const LABELS: Record<string, string> = {
   "run.cancelled": "Run cancelled",
   "digest.sent-now": "Digest sent on request",
   "workspace.created": "Workspace created",
+  "api-token.created": "API token created",
+  "api-token.used-from-new-address": "API token used from a new address",
+  "api-token.revoked": "API token revoked",
 };
 
 const timeFormat = new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeStyle: "short" });

@@ -21,3 +21,9 @@ export const ACCESS_MESSAGES: Record<AccessStatus, string> = {
   404: "There is no such workspace, or you are not a member of it.",
   403: "Your role in this workspace does not allow this. Ask a manager if you need it.",
 };
+
+/** Refusals of a request that carries an API token (`Authorization: Bearer …`), answered like AccessError. */
+export const TOKEN_MESSAGES = {
+  invalid: "This API token is not valid: it is unknown, revoked or expired. Create a new one on your Account page.",
+  sessionOnly: "API tokens cannot create, list or revoke tokens. Sign in to Tessera to manage your tokens.",
+} as const;

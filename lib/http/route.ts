@@ -28,7 +28,12 @@ export type MemberHandler<Body> = (args: {
  * else is logged and becomes a 500.
  */
 export function errorResponse(error: unknown): Response {
-  if (error instanceof HttpError) return jsonError(error.status, error.message, error.details);
+  if (error instanceof HttpError) {
+    const response = jsonError(error.status, error.message, error.details);
+    // A rate limit's refusal says when to come back (RFC 9110 §10.2.3).
+    if (error.status === 429 && typeof error.details.retryAfterSeconds === "number") response.headers.set("Retry-After", String(error.details.retryAfterSeconds));
+    return response;
+  }
   // Outages pass: 503 with a plain sentence; the log keeps one line, not a stack per request.
   const outage = error instanceof StorageUnavailableError ? error.message : isDatabaseUnavailable(error) ? UNAVAILABLE_MESSAGES.database : null;
   if (outage) {
@@ -72,7 +77,13 @@ async function readJson(request: Request): Promise<{ ok: true; value: unknown } 
 }
 
 export function memberRoute<Schema extends z.ZodType | undefined = undefined>(
-  options: { capability: Capability; body?: Schema; workspaceParam?: string },
+  options: {
+    capability: Capability;
+    body?: Schema;
+    workspaceParam?: string;
+    /** Refuse `Authorization: Bearer` tokens: the routes that create, list and revoke tokens. */
+    sessionOnly?: boolean;
+  },
   handler: MemberHandler<Schema extends z.ZodType ? z.infer<Schema> : undefined>,
 ) {
   const answer = async (request: Request, context: RouteContext): Promise<Response> => {
@@ -83,7 +94,8 @@ export function memberRoute<Schema extends z.ZodType | undefined = undefined>(
       if (typeof ref !== "string") return jsonError(404, "There is no such workspace, or you are not a member of it.");
       // Only the shape is checked here, which tells a caller nothing about which workspaces exist.
       if (!SLUG_PATTERN.test(ref)) return jsonError(400, `${slugParam}: not a workspace address (lowercase letters, digits and hyphens)`, { field: slugParam });
-      const member = await requireMember(ref, options.capability);
+      // The one gate, for a session and for an API token alike (lib/auth/guard.ts).
+      const member = await requireMember(ref, options.capability, { request, sessionOnly: options.sessionOnly });
       let body: unknown = undefined;
       if (options.body) {
         const raw = await readJson(request);

@@ -11,6 +11,12 @@
  * A request that carries neither is not from a browser page (a script or curl
  * with its own session cookie) and cannot be forged by another site, so it
  * passes.
+ *
+ * A request that carries `Authorization: Bearer …` (a personal API token) and
+ * no session cookie passes whatever its origin: a page on another site cannot
+ * make a browser add that header on its own, and the token is its only
+ * credential (the guard checks it). With a session cookie it is checked as
+ * usual, so a token cannot carry a forged cookie-authenticated request past.
  */
 
 const SAFE_METHODS = new Set(["GET", "HEAD", "OPTIONS"]);
@@ -38,6 +44,23 @@ export interface OriginCheckInput {
   host: string | null;
   /** The app's public address (NEXTAUTH_URL). */
   appUrl: string;
+  /** The request's `Authorization` header, or null. */
+  authorization?: string | null;
+  /** The request's `Cookie` header, or null. */
+  cookie?: string | null;
+}
+
+const SESSION_COOKIE_NAME = /^(__Secure-)?next-auth\.session-token(\.\d+)?$/;
+
+/** True when the Cookie header holds next-auth's session cookie (or one of its chunks), under either name. */
+export function carriesSessionCookie(cookie: string | null | undefined): boolean {
+  if (!cookie) return false;
+  return cookie.split(";").some((pair) => SESSION_COOKIE_NAME.test(pair.split("=")[0].trim()));
+}
+
+/** True for a programmatic request: a Bearer token and no session cookie. */
+export function isTokenRequest(input: Pick<OriginCheckInput, "authorization" | "cookie">): boolean {
+  return /^\s*bearer(\s|$)/i.test(input.authorization ?? "") && !carriesSessionCookie(input.cookie);
 }
 
 /** Null when the request may proceed; otherwise the sentence to answer with a 403. */
@@ -45,6 +68,7 @@ export function crossSiteRefusal(input: OriginCheckInput): string | null {
   if (SAFE_METHODS.has(input.method.toUpperCase())) return null;
   if (!input.pathname.startsWith("/api/")) return null;
   if (isExempt(input.pathname)) return null;
+  if (isTokenRequest(input)) return null;
 
   const site = input.secFetchSite?.toLowerCase() ?? null;
   if (site !== null && site !== "same-origin" && site !== "none") {

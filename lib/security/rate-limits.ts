@@ -9,6 +9,10 @@
  * each is a fixed window that starts with the first action and whose refused
  * attempts do not extend it. Keys are per user, across workspaces.
  *
+ * Failures of API-token authentication are limited per client address
+ * instead (`api-token-failure`, limitFailures/countFailure below): a caller
+ * that keeps presenting bad tokens is refused before any token is looked up.
+ *
  * All limits are here, in one place.
  */
 import { RateLimiterPostgres, RateLimiterRes } from "rate-limiter-flexible";
@@ -21,6 +25,8 @@ export const RATE_LIMITS = {
   invitation: { points: 20, windowSeconds: 60 * 60, done: "sent invitations" },
   /** A completed run e-mails every member subscribed to digests after each run. */
   "run-start": { points: 30, windowSeconds: 60 * 60, done: "started runs" },
+  /** Requests with an unknown, revoked or expired API token, per client address. */
+  "api-token-failure": { points: 30, windowSeconds: 15 * 60, done: "presented an invalid API token" },
 } as const satisfies Record<string, { points: number; windowSeconds: number; done: string }>;
 
 export type RateLimitedAction = keyof typeof RATE_LIMITS;
@@ -46,6 +52,9 @@ function limiterFor(action: RateLimitedAction): RateLimiterPostgres {
   return limiter;
 }
 
+/** Keys of a limiter; the e-mail limits count user ids, the failure limit client addresses. */
+type LimitKey = number | string;
+
 function describeWait(seconds: number): string {
   if (seconds < 90) return `${seconds} second${seconds === 1 ? "" : "s"}`;
   const minutes = Math.ceil(seconds / 60);
@@ -54,14 +63,8 @@ function describeWait(seconds: number): string {
 
 /** The refusal: 429 with Retry-After (RFC 9110 §10.2.3, seconds) and a sentence saying when to try again. */
 export function rateLimitedResponse(action: RateLimitedAction, retryAfterSeconds: number, now = new Date()): Response {
-  const { points, windowSeconds, done } = RATE_LIMITS[action];
-  const at = new Date(now.getTime() + retryAfterSeconds * 1000).toISOString().slice(11, 16);
-  const window = windowSeconds === 3600 ? "an hour" : describeWait(windowSeconds);
   return Response.json(
-    {
-      error: `You have ${done} ${points} times within ${window}, the most allowed. Try again in ${describeWait(retryAfterSeconds)} (after ${at} UTC).`,
-      retryAfterSeconds,
-    },
+    { error: rateLimitMessage(action, retryAfterSeconds, now), retryAfterSeconds },
     { status: 429, headers: { "Retry-After": String(retryAfterSeconds) } },
   );
 }
@@ -71,7 +74,7 @@ export function rateLimitedResponse(action: RateLimitedAction, retryAfterSeconds
  * 429 answer to send; call it before anything is written or queued.
  * @throws when the counter cannot be stored (PostgreSQL down): the action is not allowed unchecked.
  */
-export async function limitAction(action: RateLimitedAction, userId: number): Promise<Response | null> {
+export async function limitAction(action: RateLimitedAction, userId: LimitKey): Promise<Response | null> {
   try {
     await limiterFor(action).consume(String(userId));
     return null;
@@ -79,4 +82,32 @@ export async function limitAction(action: RateLimitedAction, userId: number): Pr
     if (rejection instanceof RateLimiterRes) return rateLimitedResponse(action, Math.max(1, Math.ceil(rejection.msBeforeNext / 1000)));
     throw rejection;
   }
+}
+
+/**
+ * Seconds until `key` may try `action` again when its failures have used up the
+ * window, else null. Reads the counter without counting: only failures count
+ * (countFailure), so a caller that presents a valid token is never slowed.
+ */
+export async function failuresExhausted(action: RateLimitedAction, key: LimitKey): Promise<number | null> {
+  const state = await limiterFor(action).get(String(key));
+  if (!state || state.consumedPoints < RATE_LIMITS[action].points) return null;
+  return Math.max(1, Math.ceil(state.msBeforeNext / 1000));
+}
+
+/** Counts one failure of `action` by `key` (a refused count past the limit is not an error). */
+export async function countFailure(action: RateLimitedAction, key: LimitKey): Promise<void> {
+  try {
+    await limiterFor(action).consume(String(key));
+  } catch (rejection) {
+    if (!(rejection instanceof RateLimiterRes)) throw rejection;
+  }
+}
+
+/** The sentence of a 429 for `action`, as rateLimitedResponse words it. */
+export function rateLimitMessage(action: RateLimitedAction, retryAfterSeconds: number, now = new Date()): string {
+  const { points, windowSeconds, done } = RATE_LIMITS[action];
+  const at = new Date(now.getTime() + retryAfterSeconds * 1000).toISOString().slice(11, 16);
+  const window = windowSeconds === 3600 ? "an hour" : describeWait(windowSeconds);
+  return `You have ${done} ${points} times within ${window}, the most allowed. Try again in ${describeWait(retryAfterSeconds)} (after ${at} UTC).`;
 }

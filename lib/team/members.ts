@@ -97,6 +97,11 @@ export async function removeMember(actor: MemberContext, userId: number): Promis
     // open sessions end now rather than when the JWT expires.
     const { Membership } = models();
     if ((await Membership.count({ where: { userId }, transaction })) === 0) await endSessions(userId, { transaction });
+    // Their API tokens here end too, so that joining again later does not bring old tokens back.
+    const [revokedTokens] = await models().ApiToken.update(
+      { revokedAt: new Date(), revokedBy: actor.user.id },
+      { where: { workspaceId, userId, revokedAt: null }, transaction },
+    );
     await audit(
       {
         workspaceId,
@@ -104,7 +109,7 @@ export async function removeMember(actor: MemberContext, userId: number): Promis
         actorEmail: actor.user.email,
         action: "member.removed",
         target: email,
-        detail: { role },
+        detail: { role, revokedTokens },
       },
       transaction,
     );

@@ -2,6 +2,7 @@ import { requireMember, requireUser } from "@/lib/auth/guard";
 import { can, type Capability, type Role } from "@/lib/auth/roles";
 import { env } from "@/lib/config/env";
 import { outboxEnabled } from "@/lib/mail/outbox-gate";
+import { listWorkspaceTokens } from "@/lib/tokens/queries";
 import { listAudit } from "./audit";
 import { listPendingInvitations } from "./invitations";
 import { countMembers, listMembers, workspacesOf } from "./members";
@@ -48,12 +49,13 @@ export async function getDesk(slug: string) {
 
 export async function getTeam(slug: string) {
   const member = await requireMember(slug, "team.manage");
-  const [members, invitations, auditTrail] = await Promise.all([
+  const [members, invitations, auditTrail, apiTokens] = await Promise.all([
     listMembers(member.workspace.id),
     listPendingInvitations(member.workspace.id),
     listAudit(member.workspace.id),
+    listWorkspaceTokens(member.workspace.id),
   ]);
-  return { workspace: member.workspace, me: member.user, members, invitations, auditTrail };
+  return { workspace: member.workspace, me: member.user, members, invitations, auditTrail, apiTokens };
 }
 
 /** Where "/" sends a signed-in user: the Desk of their first workspace, or null if they have none. */

@@ -1,9 +1,11 @@
 import type { Metadata } from "next";
 import Link from "next/link";
 import { ChangePasswordForm } from "@/components/account/change-password-form";
+import { AccountTokensPanel } from "@/components/tokens/account-tokens-panel";
 import { Wordmark } from "@/components/ui/logo";
 import { requireUser } from "@/lib/auth/guard";
 import { guardPage } from "@/lib/auth/page";
+import { accountTokens } from "@/lib/tokens/queries";
 
 export const metadata: Metadata = { title: "Account" };
 export const dynamic = "force-dynamic";
@@ -11,8 +13,9 @@ export const dynamic = "force-dynamic";
 // The signed-in user's own account; it belongs to no workspace.
 export default async function AccountPage() {
   const user = await guardPage("/account", () => requireUser());
+  const tokens = await accountTokens(user.id);
   return (
-    <main className="mx-auto mt-16 max-w-lg rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
+    <main className="mx-auto mt-16 max-w-3xl rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
       <Link href="/" className="text-ink">
         <Wordmark className="text-ink" />
       </Link>
@@ -24,6 +27,12 @@ export default async function AccountPage() {
       <h2 className="mt-8 text-base font-semibold text-ink">Change password</h2>
       <p className="mt-1 text-sm text-ink-500">Changing it signs you out in every other browser.</p>
       <ChangePasswordForm email={user.email} />
+      <h2 className="mt-10 text-base font-semibold text-ink">Access tokens</h2>
+      <p className="mt-1 text-sm text-ink-500">
+        Personal API tokens let your scripts (R, Python, curl) call Tessera as you, in one workspace, until they expire or you revoke them.
+        Send one as <code>Authorization: Bearer …</code>.
+      </p>
+      <AccountTokensPanel initial={tokens} />
       <p className="mt-8 text-sm">
         <Link href="/" className="text-ochre-700 underline">
           Back to your workspace

@@ -1,12 +1,14 @@
 import { readdirSync, readFileSync } from "node:fs";
 import path from "node:path";
-import { ACCESS_MESSAGES } from "@/lib/auth/errors";
+import { ACCESS_MESSAGES, TOKEN_MESSAGES } from "@/lib/auth/errors";
 import { CAPABILITIES, ROLES, can } from "@/lib/auth/roles";
+import { authorizeMember } from "@/lib/auth/guard";
 import { getSessionUser } from "@/lib/auth/session";
 import { closeIntakePool } from "@/lib/intake/ingest-db";
+import { createToken } from "@/lib/tokens/service";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { requireTestServices } from "@/tests/helpers/env";
-import { buildWorld, CALLERS, type Caller, type World } from "./fixtures-world";
+import { buildWorld, callerToken, CALLERS, MEMBER_ROLES, type Caller, type MemberRole, type World } from "./fixtures-world";
 import {
   DOCUMENTED_ROLES,
   METHODS,
@@ -17,7 +19,7 @@ import {
   type PublicRow,
   type WorkspaceRow,
 } from "./route-matrix";
-import { bodyOf, handlerOf, routeModule, send, signedInAs as signSessionAs, signInCaller as signSessionCaller } from "./route-calls";
+import { bodyOf, handlerOf, requestFor, routeModule, send, signedInAs as signSessionAs, signInCaller as signSessionCaller } from "./route-calls";
 
 // Every route handler, called in-process with a real Request as each role,
 // as a manager of another workspace and signed out, against the real
@@ -62,6 +64,10 @@ function expectedStatus(row: WorkspaceRow, caller: Caller): number {
   if (caller === "outsider") return 404;
   return DOCUMENTED_ROLES[row.capability].includes(caller) ? row.ok : (row.refused ?? 403);
 }
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+/** A well-formed id of no row (API tokens have UUID ids). */
+const MISSING_UUID = "0d6a3f8e-1b2c-4d5e-8f90-a1b2c3d4e5f6";
 
 const CALLER_LABELS: Record<Caller, string> = {
   manager: "manager",
@@ -111,6 +117,8 @@ describe("the matrix lists every route handler and server action", () => {
       const match = new RegExp(`export const ${row.method} = memberRoute\\(\\s*\\{([^}]*)\\}`).exec(source);
       const capability = match ? /capability:\s*"([^"]+)"/.exec(match[1])?.[1] : undefined;
       if (capability !== row.capability) wrong.push(`${row.method} ${row.route}: code says ${capability ?? "(no memberRoute)"}, the matrix ${row.capability}`);
+      const sessionOnly = match ? /\bsessionOnly:\s*true\b/.test(match[1]) : false;
+      if (sessionOnly !== Boolean(row.sessionOnly)) wrong.push(`${row.method} ${row.route}: code says sessionOnly ${sessionOnly}, the matrix ${Boolean(row.sessionOnly)}`);
       const hasBodySchema = match ? /\bbody:/.test(match[1]) : false;
       if (hasBodySchema !== Boolean(row.invalidBody)) wrong.push(`${row.method} ${row.route}: ${hasBodySchema ? "has a body schema but its row no invalidBody case" : "its row has an invalidBody case but memberRoute has no body schema"}`);
     }
@@ -165,7 +173,7 @@ for (const row of WORKSPACE_ROWS) {
           const missingParams =
             caller === "outsider"
               ? { ...call.params, slug: `no-such-workspace-${Date.now().toString(36)}` }
-              : Object.fromEntries(Object.entries(call.params).map(([k, v]) => [k, k.endsWith("Id") ? "2000000000" : v]));
+              : Object.fromEntries(Object.entries(call.params).map(([k, v]) => [k, k.endsWith("Id") ? (UUID.test(v) ? MISSING_UUID : "2000000000") : v]));
           const missing = await send(row, { ...call, params: missingParams });
           expect(missing.status).toBe(404);
           expect(body).toEqual(await bodyOf(missing));
@@ -208,6 +216,58 @@ for (const row of WORKSPACE_ROWS) {
         expect(response.status).toBe(400);
         expect(body.field).toBe(invalidQuery.field);
         expect(body.error).toContain(invalidQuery.field);
+      });
+    }
+  });
+}
+
+// The same matrix with a personal API token (Authorization: Bearer) instead of the session: each member's
+// own token of their own role gets exactly what their session gets; the token of a manager of another
+// workspace gets exactly the answer for a workspace that does not exist; the token-management routes
+// refuse every token alike. Nobody is signed in for these calls.
+type TokenCaller = MemberRole | "outsider";
+const TOKEN_CALLERS: readonly TokenCaller[] = [...MEMBER_ROLES, "outsider"];
+let outsiderToken: Promise<string> | null = null;
+
+async function tokenFor(caller: TokenCaller): Promise<string> {
+  if (caller !== "outsider") return callerToken(world, caller);
+  outsiderToken ??= (async () => {
+    const member = await authorizeMember(world.outsider.id, world.outsiderSlug, "results.view");
+    return (await createToken(member, { name: "outsider script", role: "manager", expiresInDays: 7 })).token;
+  })();
+  return outsiderToken;
+}
+
+async function sendWithToken(row: WorkspaceRow, call: Parameters<typeof send>[1], token: string): Promise<Response> {
+  const request = requestFor(row, call);
+  request.headers.set("authorization", `Bearer ${token}`);
+  return (await handlerOf(row.route, row.method))(request, { params: Promise.resolve(call.params) });
+}
+
+for (const row of WORKSPACE_ROWS) {
+  const where = `${row.method} ${urlOf(row.route)}${row.variant ? ` for ${row.variant}` : ""}`;
+  describe(`${where} with an API token instead of the session`, () => {
+    for (const caller of TOKEN_CALLERS) {
+      const expected = row.sessionOnly ? 403 : expectedStatus(row, caller);
+      const who = caller === "outsider" ? "a token of a manager of another workspace" : `the ${caller}'s own ${caller} token`;
+      it(`${who} gets ${expected} from ${where}`, async () => {
+        const call = await row.prepare(world, caller === "outsider" ? "outsider" : caller);
+        const before = expected >= 400 && row.effect ? await row.effect(world, call) : undefined;
+        const token = await tokenFor(caller);
+        signedInAs(null);
+        const response = await sendWithToken(row, call, token);
+        const body = await bodyOf(response);
+        if (response.status !== expected) throw new Error(`${who} got ${response.status} from ${where}, expected ${expected}: ${JSON.stringify(body)}`);
+        if (row.sessionOnly) expect(body).toEqual({ error: TOKEN_MESSAGES.sessionOnly });
+        else if (expected === 403) expect(body).toEqual({ error: ACCESS_MESSAGES[403] });
+        if (expected === 404 && caller === "outsider") {
+          // Exactly what the same token gets for a workspace that does not exist: no hint that this one does.
+          const missing = await sendWithToken(row, { ...call, params: { ...call.params, slug: `no-such-workspace-${Date.now().toString(36)}` } }, token);
+          expect(missing.status).toBe(404);
+          expect(body).toEqual(await bodyOf(missing));
+          expect(body).toEqual({ error: ACCESS_MESSAGES[404] });
+        }
+        if (before !== undefined) expect(await row.effect?.(world, call)).toEqual(before);
       });
     }
   });

@@ -46,6 +46,9 @@ export interface WorkspaceB {
   crosswalkId: number;
   uploadIds: string[];
   invitationId: number;
+  /** A personal API token of B's manager in B (made through POST …/tokens), and its row id. */
+  token: string;
+  tokenId: string;
   indicatorCodes: string[];
   /** Texts that exist only in B: a leak is any of these in something A's members receive. */
   strings: string[];
@@ -232,6 +235,16 @@ export async function buildTenancyWorld(signInAs: SignInAs): Promise<TenancyWorl
     "B manager's digest subscription",
   );
   await expectStatus(await postSendNow(jsonRequest("POST"), ctx({ slug })), 202, "B manager's digest, sent now");
+  const { POST: postToken } = await import("@/app/api/w/[slug]/tokens/route");
+  const madeToken = await expectStatus(await postToken(jsonRequest("POST", { name: `Zephyr token ${tag}`, role: "manager", expiresInDays: 30 }), ctx({ slug })), 201, "B manager's API token");
+  const token = String(madeToken.token);
+  const tokenId = String((madeToken.apiToken as { id: string }).id);
+  // A use from an address, so B's token row has a last address and B's trail a use event.
+  const { GET: getRuns } = await import("@/app/api/w/[slug]/runs/route");
+  signInAs(null);
+  const used = new Request(`http://tessera.test/api/w/${slug}/runs`, { headers: { authorization: `Bearer ${token}`, "x-forwarded-for": "192.0.2.77" } });
+  await expectStatus(await getRuns(used, ctx({ slug })), 200, "B's token used on B");
+  signInAs(manager);
   const invitationMail = await waitForMailTo(invitee, { subjectContains: tag, timeoutMs: 60_000 });
   const digestMail = await waitForMailTo(manager.email, { timeoutMs: 60_000 });
   signInAs(null);
@@ -260,6 +273,10 @@ export async function buildTenancyWorld(signInAs: SignInAs): Promise<TenancyWorl
     `Zephyr measure ${tag}`,
     `ZR${tag}`,
     `Zephyr ward ${tag}`,
+    `Zephyr token ${tag}`,
+    token,
+    tokenId,
+    "192.0.2.77",
     ...uploadIds,
     ...linkSecrets([invitationMail.text, invitationMail.html, digestMail.text, digestMail.html]),
   ];
@@ -277,6 +294,8 @@ export async function buildTenancyWorld(signInAs: SignInAs): Promise<TenancyWorl
       crosswalkId,
       uploadIds: [panelUpload, draftUpload, idleUpload, boundaries.uploadId, reformed.uploadId],
       invitationId,
+      token,
+      tokenId,
       indicatorCodes,
       strings,
       ids,

@@ -11,6 +11,7 @@ import { resolveRunParams } from "@/lib/runs/service";
 import { insertRun } from "@/lib/runs/store";
 import { runPiece } from "@/lib/runs/worker";
 import { putObject } from "@/lib/storage/s3";
+import { createToken } from "@/lib/tokens/service";
 import { models } from "@/lib/models";
 import { uniqueAddress } from "@/tests/helpers/env";
 import { makeUser, makeWorkspace } from "@/tests/integration/auth/fixtures";
@@ -176,4 +177,25 @@ export async function pendingInvitation(world: Pick<World, "workspace" | "users"
 /** Makes sure `userId` has an active digest subscription in the world's workspace; returns its id. */
 export async function subscriptionFor(world: Pick<World, "workspace">, userId: number): Promise<number> {
   return saveSubscription(world.workspace.id, userId, { cadence: "weekly", scope: "all", indicatorCodes: [], threshold: "every_change", emptyPolicy: "say_so", active: true });
+}
+
+/** A personal API token of `role`'s user in the world's workspace, made through the service as the Account screen does. */
+export async function apiTokenOf(
+  world: Pick<World, "workspace" | "users">,
+  role: MemberRole,
+  tokenRole: Role = role,
+  name = `script of ${role}`,
+): Promise<{ id: string; token: string }> {
+  const created = await createToken(await memberOf(world, role), { name, role: tokenRole, expiresInDays: 30 });
+  return { id: created.apiToken.id, token: created.token };
+}
+
+const callerTokens = new WeakMap<object, Map<MemberRole, Promise<string>>>();
+/** One token per member role and world, kept for the whole file (a member may hold only so many). */
+export function callerToken(world: Pick<World, "workspace" | "users">, role: MemberRole): Promise<string> {
+  let byRole = callerTokens.get(world);
+  if (!byRole) callerTokens.set(world, (byRole = new Map()));
+  let token = byRole.get(role);
+  if (!token) byRole.set(role, (token = apiTokenOf(world, role).then((t) => t.token)));
+  return token;
 }

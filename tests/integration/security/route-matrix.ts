@@ -5,6 +5,7 @@ import { db } from "@/lib/db";
 import { uniqueAddress } from "@/tests/helpers/env";
 import { unique } from "@/tests/integration/auth/fixtures";
 import {
+  apiTokenOf,
   validatedBoundaries,
   extraMember,
   panelCsv,
@@ -21,6 +22,7 @@ import {
 import { PUBLIC_ROWS } from "./route-matrix-public";
 import { authorizeMember } from "@/lib/auth/guard";
 import { deriveCrosswalkFor } from "@/lib/reforms/service";
+import { createToken } from "@/lib/tokens/service";
 
 // The access matrix: one row per (route file, exported HTTP method). The
 // test (access-matrix.test.ts) finds every app/**/route.ts and fails when a
@@ -77,6 +79,8 @@ export interface WorkspaceRow {
   invalidQuery?: { search: (world: World) => string; field: string };
   /** What the call would change; a refused call must leave it exactly as it was. */
   effect?: (world: World, call: Call) => Promise<unknown>;
+  /** memberRoute's `sessionOnly`: an API token is refused (403) whoever's and for whichever workspace. */
+  sessionOnly?: true;
 }
 
 async function scalar(sql: string, bind: unknown[]): Promise<unknown> {
@@ -408,6 +412,73 @@ export const WORKSPACE_ROWS: WorkspaceRow[] = [
     capability: "team.manage",
     ok: 200,
     does: "the audit trail",
+    prepare: async (w) => ({ params: ws(w) }),
+  },
+
+  // ——— personal API tokens: any member manages their own, a manager anyone's; never with a token
+  {
+    kind: "workspace",
+    route: `${W}/tokens/route.ts`,
+    method: "GET",
+    capability: "results.view",
+    ok: 200,
+    sessionOnly: true,
+    does: "the caller's own API tokens",
+    prepare: async (w) => ({ params: ws(w) }),
+  },
+  {
+    kind: "workspace",
+    route: `${W}/tokens/route.ts`,
+    method: "POST",
+    capability: "results.view",
+    ok: 201,
+    sessionOnly: true,
+    does: "creates an API token (shown once)",
+    prepare: async (w) => ({ params: ws(w), body: { name: "matrix script", role: "subscriber", expiresInDays: 7 } }),
+    invalidBody: { body: { name: "", role: "subscriber", expiresInDays: 7 }, field: "name" },
+    effect: countIn("api_tokens"),
+  },
+  {
+    kind: "workspace",
+    route: `${W}/tokens/[tokenId]/route.ts`,
+    method: "DELETE",
+    capability: "results.view",
+    ok: 204,
+    sessionOnly: true,
+    does: "revokes one of the caller's own API tokens",
+    prepare: async (w, caller) => {
+      const member = memberOf(w, caller);
+      const owner = member ? (caller as "manager" | "steward" | "economist" | "subscriber") : "manager";
+      return { params: { ...ws(w), tokenId: (await apiTokenOf(w, owner, "subscriber", "matrix revoke")).id } };
+    },
+    effect: (_w, call) => scalar("SELECT revoked_at AS v FROM api_tokens WHERE id = $1", [call.params.tokenId]),
+  },
+  {
+    kind: "workspace",
+    route: `${W}/tokens/[tokenId]/route.ts`,
+    method: "DELETE",
+    variant: "another member's token",
+    capability: "team.manage",
+    refused: 404,
+    ok: 204,
+    sessionOnly: true,
+    does: "a manager revokes any member's API token; to anyone else it does not exist",
+    prepare: async (w) => {
+      const owner = await extraMember(w, "economist");
+      const member = await authorizeMember(owner.id, w.workspace.slug, "results.view");
+      const created = await createToken(member, { name: "someone else's script", role: "economist", expiresInDays: 7 });
+      return { params: { ...ws(w), tokenId: created.apiToken.id } };
+    },
+    effect: (_w, call) => scalar("SELECT revoked_at AS v FROM api_tokens WHERE id = $1", [call.params.tokenId]),
+  },
+  {
+    kind: "workspace",
+    route: `${W}/team-tokens/route.ts`,
+    method: "GET",
+    capability: "team.manage",
+    ok: 200,
+    sessionOnly: true,
+    does: "every member's API tokens, for managers",
     prepare: async (w) => ({ params: ws(w) }),
   },
 

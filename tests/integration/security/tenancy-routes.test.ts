@@ -8,7 +8,7 @@ import { getCapturedMail, listCapturedMail } from "@/lib/mail/outbox";
 import { requireTestServices } from "@/tests/helpers/env";
 import { closeConnections } from "@/tests/helpers/teardown";
 import { buildTenancyWorld, leaksOf, type TenancyWorld } from "./fixtures-tenancy";
-import { MEMBER_ROLES, subscriptionFor, type MemberRole } from "./fixtures-world";
+import { callerToken, MEMBER_ROLES, subscriptionFor, type MemberRole } from "./fixtures-world";
 import { DOCUMENTED_ROLES, PUBLIC_ROWS, WORKSPACE_ROWS, urlOf, type Call, type WorkspaceRow } from "./route-matrix";
 import type { Handler } from "./route-matrix-public";
 
@@ -60,9 +60,10 @@ function expectNoLeak(where: string, body: string): void {
   if (leaks.length) throw new Error(`${where} showed workspace B's data: ${leaks.join("; ")}\n${body.slice(0, 600)}`);
 }
 
-type Substitutes = { runId: number; uploadId: string; invitationId: number; userId: number; panelVersionId: number; boundaryVersionId: number; boundarySetId: number };
+type Substitutes = { tokenId: string; runId: number; uploadId: string; invitationId: number; userId: number; panelVersionId: number; boundaryVersionId: number; boundarySetId: number };
 
 const idsOfB = (): Substitutes => ({
+  tokenId: world.b.tokenId,
   runId: world.b.runId,
   uploadId: world.b.uploadIds[0],
   invitationId: world.b.invitationId,
@@ -73,6 +74,7 @@ const idsOfB = (): Substitutes => ({
 });
 const MISSING = 2_000_000_000;
 const missingIds = (): Substitutes => ({
+  tokenId: "0d6a3f8e-1b2c-4d5e-8f90-a1b2c3d4e5f6",
   runId: MISSING,
   uploadId: "3f1c2b4e-9a8d-4c7b-8e6f-5a4b3c2d1e0f",
   invitationId: MISSING,
@@ -94,6 +96,7 @@ function withIds(row: WorkspaceRow, call: Call, ids: Substitutes): Call | null {
   };
   swap("runId", String(ids.runId));
   swap("uploadId", ids.uploadId);
+  swap("tokenId", ids.tokenId);
   swap("invitationId", String(ids.invitationId));
   swap("userId", String(ids.userId));
   if (params.versionId !== undefined) {
@@ -130,10 +133,10 @@ describe("workspace B exists and is distinctive", () => {
   });
 
   it("holds rows of every kind the suite looks for, and every one has an id of its own range", () => {
-    for (const table of ["workspaces", "users", "memberships", "invitations", "audit_events", "uploads", "boundary_sets", "boundary_versions", "regions", "panels", "panel_versions", "indicators", "runs", "run_results", "digest_subscriptions", "outbox_messages"]) {
+    for (const table of ["workspaces", "users", "memberships", "invitations", "audit_events", "uploads", "boundary_sets", "boundary_versions", "regions", "panels", "panel_versions", "indicators", "runs", "run_results", "digest_subscriptions", "outbox_messages", "api_tokens"]) {
       expect([table, world.b.ids[table]?.size ?? 0]).not.toEqual([table, 0]);
     }
-    const numericIds = Object.entries(world.b.ids).filter(([table]) => table !== "uploads" && table !== "workspaces" && table !== "users");
+    const numericIds = Object.entries(world.b.ids).filter(([table]) => table !== "uploads" && table !== "api_tokens" && table !== "workspaces" && table !== "users");
     for (const [table, ids] of numericIds) for (const id of ids) expect([table, Number(id) >= 1_000_000_000]).toEqual([table, true]);
   });
 
@@ -181,6 +184,47 @@ for (const row of WORKSPACE_ROWS) {
         }
       });
     }
+  });
+}
+
+// The same with personal API tokens (Authorization: Bearer, nobody signed in): a token of A's member shows
+// nothing of B on A's routes and gets 404 on B's slug (403 on the session-only token routes, whatever the
+// slug); B's manager's token gets on A's slug exactly the answer for a workspace that does not exist.
+async function sendWithToken(row: WorkspaceRow, call: Call, token: string): Promise<{ status: number; body: string }> {
+  const url = `http://tessera.test${urlOf(row.route).replace(/\[(\w+)\]/g, (_, name: string) => call.params[name] ?? name)}${call.search !== undefined ? `?${call.search}` : ""}`;
+  const body = call.body === undefined ? undefined : JSON.stringify(call.body);
+  const headers: Record<string, string> = { authorization: `Bearer ${token}` };
+  if (body !== undefined) headers["content-type"] = "application/json";
+  const response = await (await handlerOf(row.route, row.method))(new Request(url, { method: row.method, headers, body }), { params: Promise.resolve(call.params) });
+  return { status: response.status, body: await response.text() };
+}
+
+for (const row of WORKSPACE_ROWS) {
+  const where = `${row.method} ${urlOf(row.route)}${row.variant ? ` (${row.variant})` : ""}`;
+  describe(`${where} with API tokens shows nothing across workspaces`, () => {
+    for (const role of MEMBER_ROLES) {
+      it(`A's ${role}'s token: A's own call leaks nothing of B, B's slug is 404`, async () => {
+        const a = world.a;
+        const call = await row.prepare(a, role);
+        const token = await callerToken(a, role);
+        signInAs(null);
+        const own = await sendWithToken(row, call, token);
+        const expected = row.sessionOnly ? 403 : allowed(row, role) ? row.ok : (row.refused ?? 403);
+        if (own.status !== expected) throw new Error(`${where} with A's ${role}'s token answered ${own.status}, expected ${expected}: ${own.body.slice(0, 300)}`);
+        expectNoLeak(`${where} with A's ${role}'s token`, own.body);
+        const inB = await sendWithToken(row, { ...call, params: { ...call.params, slug: world.b.workspace.slug } }, token);
+        expect([where, inB.status]).toEqual([where, row.sessionOnly ? 403 : 404]);
+        expectNoLeak(`${where} on B's slug with A's ${role}'s token`, inB.body);
+      });
+    }
+    it("B's manager's token on A's slug gets the answer for a workspace that does not exist", async () => {
+      const call = await row.prepare(world.a, "manager");
+      signInAs(null);
+      const onA = await sendWithToken(row, call, world.b.token);
+      const nowhere = await sendWithToken(row, { ...call, params: { ...call.params, slug: `no-such-workspace-${Date.now().toString(36)}` } }, world.b.token);
+      expect([where, onA.status]).toEqual([where, row.sessionOnly ? 403 : 404]);
+      expect(onA.body).toBe(nowhere.body);
+    });
   });
 }
 

@@ -1,4 +1,4 @@
-import { crossSiteRefusal, type OriginCheckInput } from "@/lib/security/origin";
+import { carriesSessionCookie, crossSiteRefusal, type OriginCheckInput } from "@/lib/security/origin";
 
 const APP = "http://127.0.0.1:3000";
 const base: OriginCheckInput = { method: "POST", pathname: "/api/w/veldmark/runs", origin: null, secFetchSite: null, host: "127.0.0.1:3000", appUrl: APP };
@@ -37,5 +37,26 @@ describe("cross-site refusal of API requests that change data", () => {
     // Only that route: a look-alike path is checked.
     expect(check({ pathname: "/api/digests/unsubscribe-all", origin: "https://attacker.example" })).not.toBeNull();
     expect(check({ pathname: "/api/invitations/accept", origin: "https://attacker.example" })).not.toBeNull();
+  });
+
+  it("lets through a request with an API token (Bearer) and no session cookie, whatever its origin", () => {
+    const bearer = "Bearer tsr_0123456789abcdef0123456789abcdef_aaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaa";
+    expect(check({ origin: "https://scripts.example", authorization: bearer })).toBeNull();
+    expect(check({ secFetchSite: "cross-site", authorization: bearer, cookie: "theme=dark" })).toBeNull();
+  });
+
+  it("checks a Bearer request that also carries a session cookie as usual, and ignores other schemes", () => {
+    const bearer = "Bearer tsr_x";
+    expect(check({ origin: "https://attacker.example", authorization: bearer, cookie: "next-auth.session-token=abc" })).toMatch(/another site/);
+    expect(check({ origin: "https://attacker.example", authorization: bearer, cookie: "a=1; __Secure-next-auth.session-token.0=abc" })).toMatch(/another site/);
+    expect(check({ origin: "https://attacker.example", authorization: "Basic dXNlcjpwYXNz" })).toMatch(/another site/);
+  });
+
+  it("recognises next-auth's session cookie under both names and in chunks, and nothing else", () => {
+    expect(carriesSessionCookie("next-auth.session-token=x")).toBe(true);
+    expect(carriesSessionCookie("a=b; __Secure-next-auth.session-token=x")).toBe(true);
+    expect(carriesSessionCookie("next-auth.session-token.1=x")).toBe(true);
+    expect(carriesSessionCookie("next-auth.csrf-token=x; next-auth.callback-url=y")).toBe(false);
+    expect(carriesSessionCookie(null)).toBe(false);
   });
 });
