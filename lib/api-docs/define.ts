@@ -88,7 +88,7 @@ export const slugParams = z.object({ slug: slugSchema.meta({ description: "The w
 
 /** Path parameters that are row ids (`runId`, `userId`, …), parsed as the handlers parse them. */
 export function idParams<const Name extends string>(name: Name, description: string) {
-  return z.object({ [name]: idText().meta({ description }) } as Record<Name, ReturnType<typeof idText>>);
+  return z.object({ [name]: idText().meta({ description, param: { description } }) } as Record<Name, ReturnType<typeof idText>>);
 }
 
 /** What each error status means when a route does not say more. */
