@@ -95,7 +95,7 @@ export function idParams<const Name extends string>(name: Name, description: str
 export const ERROR_MEANINGS: Record<ErrorStatus, string> = {
   400: "The request is not valid: a body field, path or search parameter failed its schema (`field` names it), or the body is not JSON.",
   401: "Not signed in (no valid session or token).",
-  403: "A member whose role does not hold this capability.",
+  403: "A member whose role does not hold this capability; or a request changing data sent from another site's page.",
   404: "No such workspace, or you are not a member of it; or no such row in it.",
   409: "The request conflicts with the current state.",
   410: "The link or token is no longer valid.",
@@ -123,7 +123,7 @@ export const SECURITY_SCHEMES = {
     type: "apiKey",
     in: "cookie",
     name: "next-auth.session-token",
-    description: "The session of a signed-in browser (named `__Secure-next-auth.session-token` when Tessera is served over https). Requests that change data must come from Tessera's own pages (same origin).",
+    description: "The session of a signed-in browser (named `__Secure-next-auth.session-token` when Tessera is served over https). A page of another site cannot change data with it: such requests are refused (403).",
   },
   bearerAuth: {
     type: "http",
