@@ -1,3 +1,4 @@
+import { ERROR_MEANINGS } from "@/lib/api-docs/define";
 import { fieldsOf, notesOf, resolve, typeOf, type FieldRow, type JsonSchema } from "./schema-fields";
 
 // The API reference: the OpenAPI document (lib/api-docs, served at
@@ -108,8 +109,15 @@ function parameterRows(op: Operation, schemas: Record<string, JsonSchema>): Fiel
   });
 }
 
+/** An error answer whose description is the shared meaning of its status (listed once, under "Signing in and errors"). */
+function isUsualError(status: string, description: string): boolean {
+  return (ERROR_MEANINGS as Record<string, string>)[status] === description;
+}
+
 function Answers({ op, schemas }: { op: Operation; schemas: Record<string, JsonSchema> }) {
-  const statuses = Object.keys(op.responses).sort();
+  const all = Object.keys(op.responses).sort();
+  const usual = all.filter((status) => isUsualError(status, op.responses[status].description));
+  const statuses = all.filter((status) => !usual.includes(status));
   return (
     <div className="mt-3">
       <h4 className="text-xs font-semibold uppercase tracking-wider text-ochre-700">Answers</h4>
@@ -137,6 +145,14 @@ function Answers({ op, schemas }: { op: Operation; schemas: Record<string, JsonS
             </div>
           );
         })}
+        {usual.length > 0 ? (
+          <div className="flex gap-3">
+            <dt className="w-10 shrink-0 font-mono text-xs font-semibold text-ink-700">also</dt>
+            <dd className="text-xs text-ink-600">
+              <span className="font-mono">{usual.join(" · ")}</span> as usual (ErrorBody)
+            </dd>
+          </div>
+        ) : null}
       </dl>
     </div>
   );
@@ -184,7 +200,7 @@ export function ApiReference({ document }: { document: ReferenceDocument }) {
       </nav>
       <div>
         <section aria-labelledby="api-auth" className="mb-8 rounded-lg border border-ochre-200 bg-ochre-50 p-4">
-          <h2 id="api-auth" className="text-base font-semibold text-ink">Signing in</h2>
+          <h2 id="api-auth" className="text-base font-semibold text-ink">Signing in and errors</h2>
           <ul className="mt-2 space-y-1 text-sm text-ink-700">
             {Object.entries(schemes).map(([name, scheme]) => (
               <li key={name}>
@@ -198,8 +214,16 @@ export function ApiReference({ document }: { document: ReferenceDocument }) {
             <a href="/api/openapi.json" className="font-medium text-ochre-800 underline">
               /api/openapi.json
             </a>{" "}
-            (OpenAPI {"3.1"}, version {document.info.version}).
+            (OpenAPI {"3.1"}, version {document.info.version}). The usual errors of a route:
           </p>
+          <dl className="mt-2 space-y-0.5 text-sm text-ink-700" data-testid="usual-errors">
+            {Object.entries(ERROR_MEANINGS).map(([status, meaning]) => (
+              <div key={status} className="flex gap-3">
+                <dt className="w-10 shrink-0 font-mono text-xs font-semibold">{status}</dt>
+                <dd className="text-xs">{plain(meaning)}</dd>
+              </div>
+            ))}
+          </dl>
         </section>
         {groups.map((g) => (
           <section key={g.name} aria-labelledby={anchorOf(g.name)} className="mb-10">
