@@ -75,8 +75,8 @@ export interface ApiRoute {
   body?: z.ZodType;
   /** A body that is not JSON (e.g. a form). */
   bodyContentType?: string;
-  /** Successful answers by status. */
-  answers: Partial<Record<200 | 201 | 202 | 204, Answer>>;
+  /** Answers by status: the successful ones, and any refusal whose body is not the error body (e.g. a failed upload's 422). */
+  answers: Partial<Record<200 | 201 | 202 | 204 | 422, Answer>>;
   /** Errors particular to this route, with what they mean here. */
   errors?: Partial<Record<ErrorStatus, string>>;
   /** The media type of error answers when they are not the one JSON error body (e.g. an HTML page). */
@@ -112,7 +112,7 @@ export function errorsOf(route: ApiRoute): [ErrorStatus, string][] {
     route.access.kind === "member" ? [400, 401, 403, 404, 500, 503] : route.access.kind === "signed-in" ? [401, 500, 503] : [500];
   const own = route.errors ?? {};
   const statuses = [...new Set<ErrorStatus>([...shared, ...(Object.keys(own).map(Number) as ErrorStatus[])])].sort((a, b) => a - b);
-  return statuses.map((status) => [status, own[status] ?? ERROR_MEANINGS[status]]);
+  return statuses.filter((status) => !(status in route.answers)).map((status) => [status, own[status] ?? ERROR_MEANINGS[status]]);
 }
 
 export { errorBodySchema };

@@ -57,8 +57,11 @@ export const INTAKE_ROUTES: ApiRoute[] = [
     description: "Checks the stored object's size and SHA-256 against those declared.",
     access: member("data.curate"),
     params: uploadParamsSchema,
-    answers: { 200: { description: "The upload is received.", schema: uploadViewSchema } },
-    errors: { 404: "No such upload in this workspace.", 409: "The upload already failed.", 422: "The stored file does not match the declared size or checksum (the answer is the failed upload)." },
+    answers: {
+      200: { description: "The upload is received.", schema: uploadViewSchema },
+      422: { description: "The file never reached storage, or does not match the declared size or checksum: the upload, now failed, with its error.", schema: uploadViewSchema },
+    },
+    errors: { 404: "No such upload in this workspace.", 409: "The upload already failed." },
   },
   {
     area: "intake",

@@ -118,4 +118,11 @@ describe("the OpenAPI document", () => {
       expect(runs[status]?.content?.["application/json"]?.schema.$ref).toBe("#/components/schemas/ErrorBody");
     }
   });
+
+  it("documents a refusal that answers another body with that body (a failed upload's 422), not the error body", () => {
+    const doc = openApiDocument() as unknown as { paths: Record<string, Record<string, { responses: Record<string, { content?: Record<string, { schema: { $ref?: string } }> }> }>> };
+    const complete = doc.paths["/api/w/{slug}/intake/uploads/{uploadId}/complete"].post.responses;
+    expect(complete["422"]?.content?.["application/json"]?.schema.$ref).toBe("#/components/schemas/Upload");
+    expect(complete["409"]?.content?.["application/json"]?.schema.$ref).toBe("#/components/schemas/ErrorBody");
+  });
 });
