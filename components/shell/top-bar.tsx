@@ -24,6 +24,9 @@ export function TopBar(props: {
         <Link href="/workspaces/new" className="text-sm text-ink-200 hover:text-white hover:underline" data-testid="new-workspace-link">
           New workspace
         </Link>
+        <Link href="/api-reference" className="text-sm text-ink-200 hover:text-white hover:underline" data-testid="api-reference-link">
+          API reference
+        </Link>
         <div className="ml-auto flex items-center gap-4">
           <div className="text-right leading-tight">
             <Link href="/account" className="text-sm font-medium text-white hover:text-ochre-300" title="Your account: password and access tokens">

@@ -15,6 +15,7 @@
 import { z } from "zod";
 import { streamTuples } from "@/lib/db";
 import { ConflictError } from "@/lib/http/errors";
+import { idText } from "@/lib/http/params";
 import { prepareAnalysis } from "@/lib/spatial";
 import { csvCell, type CsvCell } from "./csv";
 import type { RunSummary } from "./queries";
@@ -23,6 +24,12 @@ import { geometryFor } from "./worker";
 export const EXPORT_KINDS = ["global", "local", "weights"] as const;
 export type ExportKind = (typeof EXPORT_KINDS)[number];
 export const EXPORT_FORMATS = ["csv", "json"] as const;
+
+/** The path parameters of GET …/runs/[runId]/export/[kind]. */
+export const exportParamsSchema = z.object({
+  runId: idText(),
+  kind: z.enum(EXPORT_KINDS, { message: "kind must be global, local or weights." }),
+});
 
 /** The search parameters of GET …/runs/[runId]/export/[kind]. */
 export const exportQuerySchema = z.object({

@@ -8,11 +8,16 @@ import { STATIC_SECURITY_HEADERS } from "./static-headers.mjs";
 // home redirect). A shared or back-button cache must never replay one user's
 // data, a CSRF token or an invitation link (OWASP Session Management Cheat
 // Sheet, "Web Content Caching"). Only files served from public/ (a name with an
-// extension, outside /api) may be cached.
+// extension, outside /api) may be cached, and the one public API answer that
+// is the same for everyone: the OpenAPI document.
 
 export { STATIC_SECURITY_HEADERS };
 
 export const HSTS = "max-age=31536000; includeSubDomains";
+
+/** The public API document (app/api/openapi.json/route.ts): no user's data, the same for everyone. */
+export const OPENAPI_PATH = "/api/openapi.json";
+export const OPENAPI_CACHE_CONTROL = "public, max-age=300";
 
 /** True for paths whose answers may be cached: files from public/, named with an extension. */
 export function isPublicFile(pathname: string): boolean {
@@ -34,7 +39,8 @@ export function securityHeaders(context: HeaderContext): [string, string][] {
   const headers: [string, string][] = STATIC_SECURITY_HEADERS.map((h) => [h.key, h.value]);
   headers.push(["Content-Security-Policy", context.csp]);
   if (context.https) headers.push(["Strict-Transport-Security", HSTS]);
-  if (!isPublicFile(context.pathname)) headers.push(["Cache-Control", "no-store"]);
+  if (context.pathname === OPENAPI_PATH) headers.push(["Cache-Control", OPENAPI_CACHE_CONTROL]);
+  else if (!isPublicFile(context.pathname)) headers.push(["Cache-Control", "no-store"]);
   return headers;
 }
 

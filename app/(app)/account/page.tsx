@@ -33,6 +33,15 @@ export default async function AccountPage() {
         Send one as <code>Authorization: Bearer …</code>.
       </p>
       <AccountTokensPanel initial={tokens} />
+      <h2 className="mt-8 text-base font-semibold text-ink">Programmatic access</h2>
+      <p className="mt-1 text-sm text-ink-500">
+        The{" "}
+        <Link href="/api-reference" className="text-ochre-700 underline" data-testid="account-api-reference">
+          API reference
+        </Link>{" "}
+        lists every route, who may call it and what it answers; the machine-readable OpenAPI document is at{" "}
+        <code className="text-xs">/api/openapi.json</code>.
+      </p>
       <p className="mt-8 text-sm">
         <Link href="/" className="text-ochre-700 underline">
           Back to your workspace

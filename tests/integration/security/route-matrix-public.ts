@@ -615,4 +615,33 @@ export const PUBLIC_ROWS: PublicRow[] = [
       },
     ],
   },
+  {
+    kind: "public",
+    route: "app/api/openapi.json/route.ts",
+    method: "GET",
+    rule: "the OpenAPI document (lib/api-docs) is public and the same for everyone: no session needed, no user's data in it, and it may be cached",
+    cases: [
+      {
+        name: "a signed-out visitor gets 200 with the OpenAPI 3.1 document, cacheable",
+        status: 200,
+        run: ({ handler, signInAs }) => {
+          signInAs(null);
+          return handler(new Request(`${BASE}/api/openapi.json`), { params: Promise.resolve({}) });
+        },
+        check: async (response) => {
+          expect(response.headers.get("cache-control")).toMatch(/^public/);
+          expect(await response.json()).toMatchObject({ openapi: "3.1.0" });
+        },
+      },
+      {
+        name: "a signed-in member gets the same document, with no workspace's data in it",
+        status: 200,
+        run: ({ handler, world, signInAs }) => {
+          signInAs(world.users.manager);
+          return handler(new Request(`${BASE}/api/openapi.json`), { params: Promise.resolve({}) });
+        },
+        check: async (response, world) => expect(await response.text()).not.toContain(world.workspace.slug),
+      },
+    ],
+  },
 ];

@@ -1,4 +1,4 @@
-import { HSTS, isPublicFile, securityHeaders, STATIC_SECURITY_HEADERS, withoutTrailingSlash } from "@/lib/security/headers";
+import { HSTS, isPublicFile, OPENAPI_CACHE_CONTROL, OPENAPI_PATH, securityHeaders, STATIC_SECURITY_HEADERS, withoutTrailingSlash } from "@/lib/security/headers";
 import nextConfig from "@/next.config.mjs";
 
 const CSP = "default-src 'self'; script-src 'self' 'nonce-AAAAAAAAAAAAAAAAAAAAAA==' 'strict-dynamic'";
@@ -24,6 +24,12 @@ describe("headers of proxy.ts answers", () => {
     expect(asMap(securityHeaders({ pathname: "/examples/veldmark-panel.csv", csp: CSP, https: false })).has("cache-control")).toBe(false);
     expect(isPublicFile("/api/w/x/catalogue/export.csv")).toBe(false);
     expect(isPublicFile("/w/veldmark/desk")).toBe(false);
+  });
+
+  it("lets the public OpenAPI document be cached, and only that API path", () => {
+    expect(asMap(securityHeaders({ pathname: OPENAPI_PATH, csp: CSP, https: false })).get("cache-control")).toBe(OPENAPI_CACHE_CONTROL);
+    expect(asMap(securityHeaders({ pathname: "/api/openapi.json/x", csp: CSP, https: false })).get("cache-control")).toBe("no-store");
+    expect(asMap(securityHeaders({ pathname: "/api/w/x/openapi.json", csp: CSP, https: false })).get("cache-control")).toBe("no-store");
   });
 
   it("adds Strict-Transport-Security only when the app is served over https", () => {

@@ -1,21 +1,15 @@
-import { z } from "zod";
 import { jsonError } from "@/lib/http/errors";
 import { memberRoute } from "@/lib/http/route";
-import { idText, parseParams, parseSearch } from "@/lib/http/params";
-import { EXPORT_CONTENT_TYPES, EXPORT_KINDS, exportFileName, exportQuerySchema, exportStream } from "@/lib/runs/exports";
+import { parseParams, parseSearch } from "@/lib/http/params";
+import { EXPORT_CONTENT_TYPES, exportFileName, exportParamsSchema, exportQuerySchema, exportStream } from "@/lib/runs/exports";
 import { getRun } from "@/lib/runs/queries";
 
 export const dynamic = "force-dynamic";
 
-const pathSchema = z.object({
-  runId: idText(),
-  kind: z.enum(EXPORT_KINDS, { message: "kind must be global, local or weights." }),
-});
-
 // A run's global results, local results or weights (docs/exports.md), streamed as CSV or JSON.
 // Export is an economist's capability (the roles table in docs/guarantees.md), as for the catalogue's CSV.
 export const GET = memberRoute({ capability: "runs.manage" }, async ({ member, params, request }) => {
-  const path = parseParams(params, pathSchema);
+  const path = parseParams(params, exportParamsSchema);
   if (!path.ok) return path.response;
   const search = parseSearch(request, exportQuerySchema);
   if (!search.ok) return search.response;
