@@ -41,7 +41,7 @@ export function VersionScreen({ slug, kind, versionId, canCurate, workspaceName 
             {v.createdBy ? ` by ${v.createdBy}` : ""}
             {v.boundaryVersion ? ` · matched against boundaries v${v.boundaryVersion}` : ""}
           </p>
-          <p className="mt-0.5 font-mono text-xs text-ink-300">sha256 {v.sha256}</p>
+          <p className="mt-0.5 font-mono text-xs text-ink-500">sha256 {v.sha256}</p>
         </div>
         <div className="flex items-center gap-3">
           <StateBadge state={v.state} />

@@ -379,7 +379,7 @@ function TransitionTable({ counts, moved, independence, a, b }: { counts: number
                 return (
                   <td
                     key={to}
-                    className={`px-1 py-1 text-right tabular-nums ${i === j ? "font-semibold" : ""} ${v === 0 ? "text-ink-200" : "text-ink"}`}
+                    className={`px-1 py-1 text-right tabular-nums ${i === j ? "font-semibold" : ""} ${v === 0 ? "text-ink-500" : "text-ink"}`}
                     style={{ background: v ? `rgba(201,138,27,${(0.08 + 0.4 * (v / max)).toFixed(2)})` : undefined }}
                   >
                     {v}

@@ -12,7 +12,7 @@ export const dynamic = "force-dynamic";
 export default async function AccountPage() {
   const user = await guardPage("/account", () => requireUser());
   return (
-    <main className="mx-auto mt-16 max-w-lg rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
+    <main id="main-content" tabIndex={-1} className="mx-auto mt-16 max-w-lg rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
       <Link href="/" className="text-ink">
         <Wordmark className="text-ink" />
       </Link>
