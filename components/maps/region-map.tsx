@@ -115,7 +115,8 @@ export function RegionMap({
       ref={svgRef}
       viewBox={`0 0 ${WIDTH} ${HEIGHT}`}
       role="group"
-      aria-label={`${label}. Arrow keys move between regions, Enter picks one.`}
+      aria-label={label}
+      aria-roledescription="map"
       className="h-auto w-full"
       data-testid={testId}
       onMouseLeave={() => onHover(null)}
