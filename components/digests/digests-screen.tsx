@@ -190,9 +190,13 @@ export function DigestsScreen({ slug }: { slug: string }) {
                 Send me this digest now
               </button>
             ) : null}
-            {save.isSuccess ? <span role="status" className="self-center text-sm text-ink-500">Saved.</span> : null}
+            <span role="status" aria-live="polite" className="self-center text-sm text-ink-500">
+              {save.isSuccess ? "Saved." : ""}
+            </span>
           </div>
-          <SendOutcome answer={send.data ?? null} error={send.error} deliveries={deliveries} />
+          <div aria-live="polite" data-testid="digest-send-live">
+            <SendOutcome answer={send.data ?? null} error={send.error} deliveries={deliveries} />
+          </div>
         </form>
       </section>
 
