@@ -309,7 +309,7 @@ function ProblemTable({ title, problems, total, locator }: { title: string; prob
       <h3 className="text-sm font-semibold text-ink">
         {title} <span className="font-normal text-ink-400">({problems.length < total ? `first ${problems.length} of ${total.toLocaleString("en")}` : total})</span>
       </h3>
-      <div className="mt-1 max-h-96 overflow-auto">
+      <div className="mt-1 max-h-96 overflow-auto" tabIndex={0} role="region" aria-label={title}>
         <table className="min-w-full text-sm" data-testid={`report-${title.toLowerCase()}`}>
           <thead>
             <tr className="border-b border-ink-100 text-left text-xs uppercase text-ink-400">
@@ -465,7 +465,7 @@ function RatesSection({ rates }: { rates: RatesReport }) {
         ))}
       </ul>
       {rates.problemCount > 0 ? (
-        <div className="mt-2 max-h-96 overflow-auto">
+        <div className="mt-2 max-h-96 overflow-auto" tabIndex={0} role="region" aria-label="Rate problems">
           <table className="min-w-full text-sm" data-testid="report-rate-problems">
             <caption className="pb-1 text-left text-xs text-ink-400">
               {rates.problems.length < rates.problemCount ? `First ${rates.problems.length} of ${rates.problemCount.toLocaleString("en")}` : `All ${rates.problemCount}`} rate problem(s), by region, period and indicator

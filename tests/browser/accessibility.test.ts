@@ -136,7 +136,7 @@ it("forms showing their errors, a dialog open and an empty workspace have no WCA
   await settle(page);
   await page.getByLabel("Current password").fill("not-the-current-password");
   await page.getByLabel("New password", { exact: true }).fill("a-new-password-long-enough");
-  await page.getByLabel(/Repeat|Confirm/).fill("a-new-password-long-enough");
+  await page.getByLabel("New password again").fill("a-new-password-long-enough");
   await page.getByRole("button", { name: /Change password/ }).click();
   await page.getByRole("alert").first().waitFor();
   findings.push(...(await axeScan(page, "account (error)")));
