@@ -2,7 +2,7 @@
 
 import Link from "next/link";
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import { useState } from "react";
+import { useRef, useState } from "react";
 import { dangerButton, primaryButton } from "@/components/ui/button-styles";
 import { ConfirmDialog } from "@/components/ui/confirm-dialog";
 import type { BoundaryReport } from "@/lib/intake/ingest-boundaries";
@@ -162,12 +162,17 @@ function VersionActions({ slug, detail, workspaceName }: { slug: string; detail:
   const client = useQueryClient();
   const [message, setMessage] = useState<string | null>(null);
   const [confirming, setConfirming] = useState(false);
+  const [done, setDone] = useState<string | null>(null);
+  // The button that opened the dialog goes away once the version is published: focus moves to the outcome instead of the page body.
+  const doneRef = useRef<HTMLParagraphElement>(null);
   const act = useMutation({
     mutationFn: (action: "publish" | "archive") => (action === "publish" ? intakeApi.publish(slug, detail.kind, detail.id) : intakeApi.archive(slug, detail.kind, detail.id)),
-    onSuccess: () => {
+    onSuccess: async (_answer, action) => {
       setMessage(null);
       setConfirming(false);
-      return client.invalidateQueries({ queryKey: intakeKeys.all(slug) });
+      await client.invalidateQueries({ queryKey: intakeKeys.all(slug) });
+      setDone(action === "publish" ? `${detail.parentName} v${detail.version} is published.` : `${detail.parentName} v${detail.version} is archived.`);
+      requestAnimationFrame(() => doneRef.current?.focus());
     },
     onError: (e) => {
       setConfirming(false);
@@ -207,6 +212,9 @@ function VersionActions({ slug, detail, workspaceName }: { slug: string; detail:
         ) : null}
       </div>
       {message ? <Notice tone="error">{message}</Notice> : null}
+      <p ref={doneRef} tabIndex={-1} role="status" className="text-sm text-ink-600" data-testid="version-action-outcome">
+        {done ?? ""}
+      </p>
     </div>
   );
 }
