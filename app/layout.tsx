@@ -1,6 +1,7 @@
 import type { Metadata } from "next";
 import localFont from "next/font/local";
 import { connection } from "next/server";
+import { SkipLink } from "@/components/ui/skip-link";
 import "./globals.css";
 
 // Shipped with the app: no web-font download at build or run time.
@@ -27,9 +28,7 @@ export default async function RootLayout({ children }: { children: React.ReactNo
   return (
     <html lang="en" className={tesseraFont.variable}>
       <body className="min-h-screen font-sans antialiased">
-        <a href="#main-content" className="skip-link">
-          Skip to main content
-        </a>
+        <SkipLink />
         {children}
       </body>
     </html>

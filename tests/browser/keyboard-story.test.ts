@@ -165,7 +165,9 @@ it("a manager's whole story works with the keyboard alone, focus always visible 
   await typeInto(page, named("Password", "input"), "the password field", manager.password);
   await page.keyboard.press("Enter");
   await page.waitForURL((url) => !url.pathname.startsWith("/sign-in"));
-  await page.waitForLoadState("load");
+  // The demo workspace's Desk, its address typed (the manager may belong to more workspaces).
+  await page.goto(`/w/${slug}/desk`);
+  await page.locator("#main-content").waitFor();
 
   // 2. The skip link moves focus to the main content.
   await tabTo(page, named("Skip to main content", "a"), "the skip link", { max: 2 });
