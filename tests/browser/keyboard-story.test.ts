@@ -2,6 +2,8 @@ import type { Page } from "playwright-core";
 import demo from "@/seeders/demo-accounts.json";
 import { openBrowser, screenshot, type BrowserSession } from "@/tests/helpers/browser";
 import { testServices } from "@/tests/helpers/env";
+import { demoRun } from "@/tests/helpers/demo-run";
+import { closeConnections } from "@/tests/helpers/teardown";
 
 // Keyboard only (issue 20, item 2): one whole story with page.keyboard and nothing else (no clicks,
 // no fills): the manager signs in, skips to the content, uploads a boundary set and a panel over it
@@ -25,6 +27,7 @@ beforeAll(() => {
 
 afterAll(async () => {
   await session?.close();
+  await closeConnections();
 });
 
 type Focused = { tag: string; role: string | null; name: string; id: string; visibleFocus: boolean; onScreen: boolean };
@@ -217,7 +220,8 @@ it("a manager's whole story works with the keyboard alone, focus always visible 
 
   // 7. A region picked on a map, then the map's table opened. The map has no menu entry (it opens
   // from results); its address is typed, which is a keyboard action too.
-  await page.goto(`/w/${slug}/map`);
+  const { id: demoRunId } = await demoRun(slug);
+  await page.goto(`/w/${slug}/map?indicator=unemployment_rate&run=${demoRunId}`);
   await page.locator('[data-testid="cluster-map-a"] path[data-region]').first().waitFor();
   const first = await tabTo(page, (f) => f.role === "button" && f.tag === "path", "a region of the first cluster map", { max: 200 });
   await page.keyboard.press("ArrowRight");
