@@ -228,7 +228,7 @@ function StartRunForm({ slug }: { slug: string }) {
 
   const submit = (event: React.FormEvent) => {
     event.preventDefault();
-    if (!version) return;
+    if (!version || start.isPending) return;
     const fromIndex = from ? periods.indexOf(from) : 0;
     const toIndex = to ? periods.indexOf(to) : periods.length - 1;
     const choice = {
@@ -474,7 +474,7 @@ function StartRunForm({ slug }: { slug: string }) {
               </Notice>
             ) : null}
           </div>
-          <button type="submit" className={`${primaryButton} w-full`} disabled={start.isPending}>
+          <button type="submit" className={`${primaryButton} w-full`} aria-disabled={start.isPending}>
             {start.isPending ? "Starting…" : "Start run"}
           </button>
         </form>

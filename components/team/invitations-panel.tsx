@@ -38,6 +38,7 @@ export function InvitationsPanel({ slug, initial }: { slug: string; initial: Inv
 
   function onSubmit(event: React.FormEvent<HTMLFormElement>) {
     event.preventDefault();
+    if (invite.isPending) return;
     const form = new FormData(event.currentTarget);
     const parsed = inviteSchema.safeParse({ email: form.get("email"), role: form.get("role") });
     setSentTo(null);
@@ -110,7 +111,7 @@ export function InvitationsPanel({ slug, initial }: { slug: string; initial: Inv
             Invitation queued for {sentTo}. The e-mail goes out in a moment.
           </p>
         ) : null}
-        <button type="submit" disabled={invite.isPending} className={primaryButton}>
+        <button type="submit" aria-disabled={invite.isPending} className={primaryButton}>
           {invite.isPending ? "Sending…" : "Send invitation"}
         </button>
       </form>
