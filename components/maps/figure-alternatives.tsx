@@ -3,7 +3,7 @@
 import { FigureTable, type FigureRow } from "@/components/ui/figure-table";
 import { CLUSTER_CLASS_NAMES } from "@/lib/runs/cluster-classes";
 import { choroplethSummary, clusterMapSummary, giStarMapSummary, scatterSummary } from "@/lib/runs/figure-summary";
-import { GI_STAR_CLASS_NAMES } from "@/lib/runs/gi-star-classes";
+import { GI_STAR_CLASS_NAMES, giStarMapLabel } from "@/lib/runs/gi-star-classes";
 import { formatValue } from "@/lib/runs/number-format";
 import type { MapPeriod } from "@/lib/runs/on-demand";
 import type { MapRates } from "@/lib/runs/on-demand";
@@ -64,7 +64,7 @@ export function GiStarMapAlternative({ map, indicator, names, unit, testId }: { 
   return (
     <FigureTable
       summary={giStarMapSummary(indicator, map.period, g?.counts ?? null)}
-      caption={`Hot and cold spots of ${indicator} in ${map.period}`}
+      caption={giStarMapLabel(indicator, map.period)}
       columns={[REGION_COLUMNS[0], REGION_COLUMNS[1], { key: "z", label: "Gi* z", numeric: true }, REGION_COLUMNS[2], REGION_COLUMNS[3]]}
       rows={rows}
       testId={testId}

@@ -35,7 +35,7 @@ export const CLUSTER_CLASS_PATTERNS: Readonly<Record<ClusterClass, ClassPattern>
   "no-neighbours": { background: NO_NEIGHBOURS_HATCH.background, mark: "anti-diagonal", ink: NO_NEIGHBOURS_HATCH.stroke, size: 6 },
 };
 
-/** Gi* classes: hot spots dotted like High-High, cold spots lined like Low-Low. */
+/** Gi* classes: `hot` dotted like `HH`, `cold` lined like `LL`. */
 export const GI_STAR_CLASS_PATTERNS: Readonly<Record<GiStarClass, ClassPattern>> = {
   hot: { background: GI_STAR_CLASS_COLOURS.hot, mark: "dots", ink: LIGHT_INK, size: 6 },
   cold: { background: GI_STAR_CLASS_COLOURS.cold, mark: "horizontal", ink: LIGHT_INK, size: 5 },

@@ -11,7 +11,7 @@
  * Distances are CIE76 ΔE*ab in CIELAB (D65), and relative luminance is WCAG's.
  * Pure; O(1) per colour.
  *
- * @example simulate("#9a3412", "deuteranopia") // "#6b5a14"-ish: the brown a deuteranope sees
+ * @example simulate("#ff0000", "protanopia") // "#6d5f00": pure red as a protanope sees it
  */
 
 export type Deficiency = "protanopia" | "deuteranopia" | "tritanopia";

@@ -6,7 +6,7 @@
  */
 import type { ClusterClass } from "@/lib/spatial";
 import { CLUSTER_CLASS_NAMES, CLUSTER_CLASS_ORDER } from "./cluster-classes";
-import { GI_STAR_CLASS_NAMES, GI_STAR_CLASS_ORDER } from "./gi-star-classes";
+import { GI_STAR_CLASS_NAMES, GI_STAR_CLASS_ORDER, giStarMapLabel } from "./gi-star-classes";
 import { formatValue } from "./number-format";
 import type { GiStarClass } from "./types";
 
@@ -23,18 +23,18 @@ function classCounts<C extends string>(order: readonly C[], names: Readonly<Reco
   return shown.length ? shown.join(", ") : "no regions";
 }
 
-/** "Local clusters of Unemployment rate in 2015: 12 High-High, 9 Low-Low, 219 Not significant (240 regions)." */
+/** "Local clusters of Unemployment rate in 2015: 12 <HH name>, 9 <LL name>, 219 Not significant (240 regions)." (class names from cluster-classes.ts) */
 export function clusterMapSummary(indicator: string, period: string, counts: Readonly<Record<ClusterClass, number>> | null): string {
   if (!counts) return `Local clusters of ${indicator} in ${period}: no local results were stored for this period.`;
   const total = CLUSTER_CLASS_ORDER.reduce((s, c) => s + (counts[c] ?? 0), 0);
   return `Local clusters of ${indicator} in ${period}: ${classCounts(CLUSTER_CLASS_ORDER, CLUSTER_CLASS_NAMES, counts)} (${plural(total, "region")}).`;
 }
 
-/** "Hot and cold spots of Unemployment rate in 2015: 14 Hot spot, 11 Cold spot, … (240 regions)." */
+/** The Gi* map's label, then its class counts with the names of gi-star-classes.ts, e.g. "…: 14 <hot name>, 11 <cold name>, … (240 regions)." */
 export function giStarMapSummary(indicator: string, period: string, counts: Readonly<Record<GiStarClass, number>> | null): string {
-  if (!counts) return `Hot and cold spots of ${indicator} in ${period}: no Gi* results were stored for this period.`;
+  if (!counts) return `${giStarMapLabel(indicator, period)}: no Gi* results were stored for this period.`;
   const total = GI_STAR_CLASS_ORDER.reduce((s, c) => s + (counts[c] ?? 0), 0);
-  return `Hot and cold spots of ${indicator} in ${period}: ${classCounts(GI_STAR_CLASS_ORDER, GI_STAR_CLASS_NAMES, counts)} (${plural(total, "region")}).`;
+  return `${giStarMapLabel(indicator, period)}: ${classCounts(GI_STAR_CLASS_ORDER, GI_STAR_CLASS_NAMES, counts)} (${plural(total, "region")}).`;
 }
 
 /** "Unemployment rate in 2015 ranges from 3.1 % (Aarveld) to 14.2 % (Zandpoort), median 6.0 %; 2 regions have no value." */
@@ -57,10 +57,10 @@ export function choroplethSummary(
   return `${indicator} in ${period} ranges from ${num(low, unit)} (${name(lowId)}) to ${num(high, unit)} (${name(highId)}), median ${num(mid, unit)}, over ${plural(present.length, "region")}${missingText}.`;
 }
 
-/** "Moran scatter plot of Unemployment rate in 2015: 240 regions; the slope (local Moran fit) is 0.512, regions in the upper-right and lower-left quadrants are 180." */
+/** "Moran scatter plot of Unemployment rate in 2015: 240 regions, slope 0.512; 180 of them lie in the upper-right or lower-left quadrants …" */
 export function scatterSummary(indicator: string, period: string, points: readonly { x: number; y: number }[], slope: number): string {
   const agree = points.filter((p) => p.x * p.y > 0).length;
-  return `Moran scatter plot of ${indicator} in ${period}: ${plural(points.length, "region")}, slope ${num(slope)}; ${agree} of them lie in the High-High or Low-Low quadrants (value and neighbours' average on the same side of the mean).`;
+  return `Moran scatter plot of ${indicator} in ${period}: ${plural(points.length, "region")}, slope ${num(slope)}; ${agree} of them lie in the ${CLUSTER_CLASS_NAMES.HH} or ${CLUSTER_CLASS_NAMES.LL} quadrants (value and neighbours' average on the same side of the mean).`;
 }
 
 /** "Moran's I of Unemployment rate, 2008–2024: lowest 0.102 in 2009, highest 0.611 in 2014, last 0.233 in 2024." */

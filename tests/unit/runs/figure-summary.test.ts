@@ -9,7 +9,7 @@ describe("figure summaries (the text alternative of maps and charts)", () => {
   });
 
   it("counts hot and cold spots", () => {
-    expect(giStarMapSummary("Income", "2020", { hot: 3, cold: 0, "not-significant": 7, "no-neighbours": 0 })).toBe("Hot and cold spots of Income in 2020: 3 Hot spot, 7 Not significant (10 regions).");
+    expect(giStarMapSummary("Income", "2020", { hot: 3, cold: 0, "not-significant": 7, "no-neighbours": 0 })).toBe("Map of hot and cold spots (local Gi*) of Income in 2020: 3 Hot spot, 7 Not significant (10 regions).");
   });
 
   it("names the lowest and highest regions of a choropleth, its median and the regions without a value", () => {
