@@ -79,7 +79,7 @@ export function UploadWizard({ slug, boundarySets, panels }: { slug: string; bou
               : phase.step === "checking"
                 ? "Upload finished; checking the stored file."
                 : phase.step === "describe"
-                  ? `${phase.file.name} arrived intact. Now say how to read it.`
+                  ? `Upload complete: ${phase.file.name} is stored and checked. Now say how to read it.`
                   : ""}
         </p>
         {phase.step === "choose" ? (

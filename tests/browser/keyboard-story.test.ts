@@ -135,7 +135,7 @@ async function uploadWithKeyboard(page: Page, kind: "panel" | "boundaries", file
   await chooser.setFiles({ name: file.name, mimeType: file.mimeType, buffer: Buffer.from(file.body) });
   await page.getByText("arrived intact").waitFor({ timeout: 60_000 });
   // The upload's progress and arrival were announced politely.
-  expect(await page.getByTestId("upload-announcer").innerText()).toContain("arrived intact");
+  expect(await page.getByTestId("upload-announcer").textContent()).toContain("Upload complete");
 }
 
 /** On a version page: Tab to "Publish…", Enter, Tab to the dialog's Publish, Enter; focus stays on the page. */
