@@ -6,7 +6,7 @@ import { Wordmark } from "@/components/ui/logo";
 // points home, which opens the member's own workspace.
 export default function Forbidden() {
   return (
-    <main role="alert" className="mx-auto mt-24 max-w-lg rounded-lg border border-ink-100 bg-white p-8 text-center shadow-sm">
+    <main id="main-content" tabIndex={-1} role="alert" className="mx-auto mt-24 max-w-lg rounded-lg border border-ink-100 bg-white p-8 text-center shadow-sm">
       <div className="text-ink">
         <Wordmark />
       </div>

@@ -1,6 +1,7 @@
 import type { Metadata } from "next";
 import localFont from "next/font/local";
 import { connection } from "next/server";
+import { SkipLink } from "@/components/ui/skip-link";
 import "./globals.css";
 
 // Shipped with the app: no web-font download at build or run time.
@@ -26,7 +27,10 @@ export default async function RootLayout({ children }: { children: React.ReactNo
   await connection();
   return (
     <html lang="en" className={tesseraFont.variable}>
-      <body className="min-h-screen font-sans antialiased">{children}</body>
+      <body className="min-h-screen font-sans antialiased">
+        <SkipLink />
+        {children}
+      </body>
     </html>
   );
 }

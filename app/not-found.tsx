@@ -3,7 +3,7 @@ import { Wordmark } from "@/components/ui/logo";
 
 export default function NotFound() {
   return (
-    <main className="mx-auto mt-24 max-w-lg rounded-lg border border-ink-100 bg-white p-8 text-center shadow-sm">
+    <main id="main-content" tabIndex={-1} className="mx-auto mt-24 max-w-lg rounded-lg border border-ink-100 bg-white p-8 text-center shadow-sm">
       <div className="text-ink">
         <Wordmark />
       </div>

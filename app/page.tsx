@@ -12,7 +12,7 @@ export default async function Home() {
   const slug = await firstWorkspaceSlug();
   if (slug) redirect(`/w/${slug}/desk`);
   return (
-    <main className="mx-auto mt-24 max-w-lg rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
+    <main id="main-content" tabIndex={-1} className="mx-auto mt-24 max-w-lg rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
       <Wordmark className="text-ink" />
       <h1 className="mt-6 text-xl font-semibold text-ink">You are not in a workspace yet</h1>
       <p className="mt-2 text-sm text-ink-500">

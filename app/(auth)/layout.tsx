@@ -27,7 +27,7 @@ export default function AuthLayout({ children }: { children: React.ReactNode }) 
         </div>
         <p className="mt-12 text-xs text-ink-300">Tessera · a data room for regional economists</p>
       </aside>
-      <main className="flex items-center justify-center px-6 py-12">
+      <main id="main-content" tabIndex={-1} className="flex items-center justify-center px-6 py-12">
         <div className="w-full max-w-sm">
           <div className="mb-8 text-ink lg:hidden">
             <Wordmark className="text-xl" />

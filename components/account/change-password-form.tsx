@@ -85,22 +85,22 @@ export function ChangePasswordForm({ email }: { email: string }) {
         <label htmlFor="currentPassword" className={labelClass}>
           Current password
         </label>
-        <input id="currentPassword" name="currentPassword" type="password" autoComplete="current-password" className={`${inputClass} mt-1`} aria-invalid={error?.field === "currentPassword"} />
+        <input id="currentPassword" name="currentPassword" type="password" autoComplete="current-password" className={`${inputClass} mt-1`} aria-invalid={error?.field === "currentPassword"} aria-describedby={error?.field === "currentPassword" ? "currentPassword-error" : undefined} />
         {fieldMessage("currentPassword")}
       </div>
       <div>
         <label htmlFor="newPassword" className={labelClass}>
           New password
         </label>
-        <input id="newPassword" name="newPassword" type="password" autoComplete="new-password" className={`${inputClass} mt-1`} aria-invalid={error?.field === "newPassword"} />
-        <p className="mt-1 text-xs text-ink-400">At least 10 characters.</p>
+        <input id="newPassword" name="newPassword" type="password" autoComplete="new-password" className={`${inputClass} mt-1`} aria-invalid={error?.field === "newPassword"} aria-describedby={error?.field === "newPassword" ? "newPassword-help newPassword-error" : "newPassword-help"} />
+        <p id="newPassword-help" className="mt-1 text-xs text-ink-500">At least 10 characters.</p>
         {fieldMessage("newPassword")}
       </div>
       <div>
         <label htmlFor="confirm" className={labelClass}>
           New password again
         </label>
-        <input id="confirm" name="confirm" type="password" autoComplete="new-password" className={`${inputClass} mt-1`} aria-invalid={error?.field === "confirm"} />
+        <input id="confirm" name="confirm" type="password" autoComplete="new-password" className={`${inputClass} mt-1`} aria-invalid={error?.field === "confirm"} aria-describedby={error?.field === "confirm" ? "confirm-error" : undefined} />
         {fieldMessage("confirm")}
       </div>
       <button type="submit" disabled={busy} className={primaryButton}>

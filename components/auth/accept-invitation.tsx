@@ -57,7 +57,15 @@ export function AcceptInvitation({ token, email, mode }: { token: string; email:
   }
 
   const fieldMessage = (field: string) =>
-    error?.field === field ? <p className="mt-1 text-sm text-red-700">{error.message}</p> : null;
+    error?.field === field ? (
+      <p id={`${field}-error`} className="mt-1 text-sm text-red-700">
+        {error.message}
+      </p>
+    ) : null;
+  const fieldProps = (field: string, help?: string) => {
+    const ids = [help, error?.field === field ? `${field}-error` : undefined].filter(Boolean).join(" ");
+    return { "aria-invalid": error?.field === field, "aria-describedby": ids || undefined };
+  };
 
   return (
     <form onSubmit={onSubmit} noValidate className="mt-6 space-y-4">
@@ -73,22 +81,22 @@ export function AcceptInvitation({ token, email, mode }: { token: string; email:
             <label htmlFor="name" className={labelClass}>
               Your name
             </label>
-            <input id="name" name="name" autoComplete="name" className={`${inputClass} mt-1`} />
+            <input id="name" name="name" autoComplete="name" className={`${inputClass} mt-1`} {...fieldProps("name")} />
             {fieldMessage("name")}
           </div>
           <div>
             <label htmlFor="password" className={labelClass}>
               Password
             </label>
-            <input id="password" name="password" type="password" autoComplete="new-password" className={`${inputClass} mt-1`} />
-            <p className="mt-1 text-xs text-ink-400">At least 10 characters.</p>
+            <input id="password" name="password" type="password" autoComplete="new-password" className={`${inputClass} mt-1`} {...fieldProps("password", "password-help")} />
+            <p id="password-help" className="mt-1 text-xs text-ink-500">At least 10 characters.</p>
             {fieldMessage("password")}
           </div>
           <div>
             <label htmlFor="confirm" className={labelClass}>
               Password again
             </label>
-            <input id="confirm" name="confirm" type="password" autoComplete="new-password" className={`${inputClass} mt-1`} />
+            <input id="confirm" name="confirm" type="password" autoComplete="new-password" className={`${inputClass} mt-1`} {...fieldProps("confirm")} />
             {fieldMessage("confirm")}
           </div>
         </>

@@ -120,7 +120,7 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
                   classes.includes(c) ? "bg-ink text-white ring-ink" : "bg-white text-ink-600 ring-ink-200 hover:bg-ink-50"
                 }`}
               >
-                {SIGNIFICANCE_SHORT[c]} <span className="tabular-nums opacity-70">{counts[c]}</span>
+                {SIGNIFICANCE_SHORT[c]} <span className="tabular-nums opacity-85">{counts[c]}</span>
               </button>
             ))}
           </div>
@@ -141,7 +141,7 @@ export function CatalogueScreen({ slug, canExport }: { slug: string; canExport: 
                     suggestions.includes(c) ? "bg-ink text-white ring-ink" : "bg-white text-ink-600 ring-ink-200 hover:bg-ink-50"
                   }`}
                 >
-                  {SUGGESTION_SHORT[c]} <span className="tabular-nums opacity-70">{suggestionCounts[c]}</span>
+                  {SUGGESTION_SHORT[c]} <span className="tabular-nums opacity-85">{suggestionCounts[c]}</span>
                 </button>
               ))}
             </div>

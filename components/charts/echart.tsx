@@ -17,14 +17,17 @@ export function EChart({
   height = 320,
   onClick,
   testId,
+  label,
 }: {
   option: EChartsOption;
   height?: number;
   onClick?: (params: { name?: string; dataIndex?: number; seriesName?: string; data?: unknown }) => void;
   testId?: string;
+  /** The chart's accessible name (its words and numbers are in the FigureTable beside it). */
+  label?: string;
 }) {
   return (
-    <div data-testid={testId}>
+    <div data-testid={testId} role={label ? "img" : undefined} aria-label={label}>
       <ReactECharts
         option={{ animation: false, textStyle: { fontFamily: "var(--font-tessera), system-ui, sans-serif", color: INK }, ...option }}
         style={{ height, width: "100%" }}

@@ -23,6 +23,8 @@ import { FigureDownloads } from "@/components/figures/figure-downloads";
 import { echartsFigureBody } from "@/components/figures/echarts-body";
 import { moranTimelineFigure, robustnessFigure, zTimelineFigure } from "@/components/figures/figure-specs";
 import { figureSourceLine } from "@/lib/runs/figures";
+import { FigureTable } from "@/components/ui/figure-table";
+import { seriesSummary } from "@/lib/runs/figure-summary";
 
 /** The reform mark of a harmonised run's charts: a line at the first period on the new boundaries, the carried periods shaded. */
 function reformMarks(harmonisation: HarmonisationView | null, periods: readonly string[], withLabel = true) {
@@ -192,7 +194,22 @@ function MoranChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (per
         </>
       }
     >
-      <EChart option={option} height={340} onClick={(p) => p.name && onPeriod(p.name)} testId="timeline-moran" />
+      <EChart option={option} height={340} onClick={(p) => p.name && onPeriod(p.name)} testId="timeline-moran" label={`Moran's I of ${timeline.indicator.label} per period`} />
+      <FigureTable
+        summary={seriesSummary(`Moran's I of ${timeline.indicator.label}`, pts.map((p) => ({ label: p.period, value: p.I })))}
+        caption={`Moran's I of ${timeline.indicator.label} per period`}
+        columns={[
+          { key: "period", label: "Period" },
+          { key: "I", label: "Moran's I", numeric: true },
+          { key: "E", label: "E[I]", numeric: true },
+          { key: "low", label: "Band 2.5 %", numeric: true },
+          { key: "high", label: "Band 97.5 %", numeric: true },
+          { key: "p", label: "Pseudo p", numeric: true },
+          { key: "sig", label: "After correction" },
+        ]}
+        rows={pts.map((p) => ({ period: p.period, I: fmt(p.I), E: fmt(p.expectedI), low: fmt(p.bandLow), high: fmt(p.bandHigh), p: fmtP(p.pseudoP), sig: p.significance ?? "—" }))}
+        testId="timeline-moran"
+      />
     </Panel>
   );
 }
@@ -237,7 +254,18 @@ function ZChart({ timeline, onPeriod }: { timeline: Timeline; onPeriod: (period:
       }
       caption="Bars show z = (I − E[I]) / sd under randomisation. The dashed lines at ±1.96 mark two-sided 5 % significance for one test on its own; bar colours show the class after the run's correction (brown clustering, teal dispersion, grey not significant)."
     >
-      <EChart option={option} height={240} onClick={(p) => p.name && onPeriod(p.name)} testId="timeline-z" />
+      <EChart option={option} height={240} onClick={(p) => p.name && onPeriod(p.name)} testId="timeline-z" label={`z-value of Moran's I of ${timeline.indicator.label} per period`} />
+      <FigureTable
+        summary={seriesSummary(`z of Moran's I of ${timeline.indicator.label}`, pts.map((p) => ({ label: p.period, value: p.zRandomisation })))}
+        caption={`z-value of Moran's I of ${timeline.indicator.label} per period`}
+        columns={[
+          { key: "period", label: "Period" },
+          { key: "z", label: "z under randomisation", numeric: true },
+          { key: "sig", label: "After correction" },
+        ]}
+        rows={pts.map((p) => ({ period: p.period, z: fmt(p.zRandomisation, 2), sig: p.significance ?? "—" }))}
+        testId="timeline-z"
+      />
     </Panel>
   );
 }
@@ -317,7 +345,22 @@ function RobustnessStrip({
     >
       {strip.isPending ? <p className="text-sm text-ink-500">Computing the strip…</p> : null}
       {strip.error ? <Notice tone="error">{strip.error.message}</Notice> : null}
-      {entries.length ? <EChart option={option} height={250} testId="timeline-robustness" /> : null}
+      {entries.length ? <EChart option={option} height={250} testId="timeline-robustness" label={`Moran's I for ${period} under each weights rule`} /> : null}
+      {entries.length ? (
+        <FigureTable
+          summary={seriesSummary(`Moran's I for ${period} across weights rules`, entries.map((e) => ({ label: e.rule, value: e.I })))}
+          caption={`Moran's I for ${period} under each weights rule`}
+          columns={[
+            { key: "rule", label: "Weights rule" },
+            { key: "I", label: "Moran's I", numeric: true },
+            { key: "low", label: "Band 2.5 %", numeric: true },
+            { key: "high", label: "Band 97.5 %", numeric: true },
+            { key: "p", label: "Pseudo p", numeric: true },
+          ]}
+          rows={entries.map((e) => ({ rule: e.rule, I: fmt(e.I), low: fmt(e.bandLow), high: fmt(e.bandHigh), p: fmtP(e.pseudoP) }))}
+          testId="timeline-robustness"
+        />
+      ) : null}
       {entries.some((e) => e.note) ? (
         <ul className="mt-2 space-y-1 text-xs text-ink-500">
           {entries

@@ -89,6 +89,8 @@ export function DigestsScreen({ slug }: { slug: string }) {
 
   function submit(event: React.FormEvent) {
     event.preventDefault();
+    // The button stays focusable while saving (aria-disabled), so a second Enter is ignored here.
+    if (save.isPending) return;
     const parsed = subscriptionInputSchema.safeParse(form);
     if (!parsed.success) {
       setFieldError(parsed.error.issues[0]?.message ?? "Check the form.");
@@ -184,15 +186,19 @@ export function DigestsScreen({ slug }: { slug: string }) {
           </label>
           {fieldError || saveError ? <p role="alert" className="text-sm text-red-800">{fieldError ?? saveError}</p> : null}
           <div className="flex flex-wrap gap-3">
-            <button type="submit" className={primaryButton} disabled={save.isPending}>{save.isPending ? "Saving…" : "Save subscription"}</button>
+            <button type="submit" className={primaryButton} aria-disabled={save.isPending}>{save.isPending ? "Saving…" : "Save subscription"}</button>
             {subscription?.active ? (
               <button type="button" className={secondaryButton} disabled={send.isPending} onClick={() => send.mutate()}>
                 Send me this digest now
               </button>
             ) : null}
-            {save.isSuccess ? <span role="status" className="self-center text-sm text-ink-500">Saved.</span> : null}
+            <span role="status" aria-live="polite" className="self-center text-sm text-ink-500">
+              {save.isSuccess ? "Saved." : ""}
+            </span>
           </div>
-          <SendOutcome answer={send.data ?? null} error={send.error} deliveries={deliveries} />
+          <div aria-live="polite" data-testid="digest-send-live">
+            <SendOutcome answer={send.data ?? null} error={send.error} deliveries={deliveries} />
+          </div>
         </form>
       </section>
 

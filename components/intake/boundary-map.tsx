@@ -6,6 +6,7 @@ import type { Feature, FeatureCollection, Geometry, GeoJsonProperties } from "ge
 import { useMemo, useState } from "react";
 import { feature } from "topojson-client";
 import { inputClass, labelClass } from "@/components/ui/button-styles";
+import { FigureTable } from "@/components/ui/figure-table";
 import type { WeightsPreview } from "@/lib/geometry/weights-preview";
 import { NO_NEIGHBOURS_HATCH } from "@/lib/runs/cluster-classes";
 import { Notice, Panel } from "./format";
@@ -145,6 +146,7 @@ function RegionsSvg({ topology, weights }: { topology: TopologyResponse; weights
           </g>
         ) : null}
       </svg>
+      {weights ? <NeighbourTable weights={weights} names={topology.regionNames} /> : null}
       <p className="mt-1 text-xs text-ink-500">
         Lines join the centroids of neighbouring regions (ochre); hatched grey regions have no neighbour under this rule.
         {topology.coordinates === "planar" ? " Planar coordinates drawn as given, north up." : " Longitude/latitude drawn in Mercator."}
@@ -225,6 +227,41 @@ function NeighbourHistogram({ weights }: { weights: WeightsPreview }) {
         </g>
       </svg>
       <p className="text-xs text-ink-500">Bar height: regions with that many neighbours; the hatched bar at 0 counts regions with none.</p>
+      <FigureTable
+        summary={`${weights.n} regions with ${weights.meanNeighbours.toFixed(2)} neighbours on average under ${weights.rule}; ${weights.islands.length} without any.`}
+        caption="Neighbours per region"
+        columns={[
+          { key: "k", label: "Neighbours" },
+          { key: "regions", label: "Regions", numeric: true },
+        ]}
+        rows={counts.map((c, k) => ({ k, regions: c }))}
+        testId="neighbour-histogram"
+      />
     </figure>
+  );
+}
+
+/** The neighbour map as a table: each region with its neighbours under the rule. */
+function NeighbourTable({ weights, names }: { weights: WeightsPreview; names: Record<string, string | null | undefined> }) {
+  const neighbours = weights.ids.map(() => [] as string[]);
+  for (const [i, j] of weights.links) {
+    neighbours[i].push(weights.ids[j]);
+    neighbours[j].push(weights.ids[i]);
+  }
+  const rows = weights.ids
+    .map((id, i) => ({ region: names[id] ? `${names[id]} (${id})` : id, count: neighbours[i].length, neighbours: neighbours[i].join(", ") || "none" }))
+    .sort((a, b) => a.region.localeCompare(b.region, "en", { numeric: true }));
+  return (
+    <FigureTable
+      summary={`${weights.n} regions and ${weights.links.length} neighbour links under ${weights.rule}; ${weights.components} connected group${weights.components === 1 ? "" : "s"}.`}
+      caption={`Regions and their neighbours under ${weights.rule}`}
+      columns={[
+        { key: "region", label: "Region" },
+        { key: "count", label: "Neighbours", numeric: true },
+        { key: "neighbours", label: "Neighbour codes" },
+      ]}
+      rows={rows}
+      testId="boundary-map"
+    />
   );
 }

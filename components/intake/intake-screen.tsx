@@ -109,19 +109,19 @@ function VersionTable({
                   <StateBadge state={v.state} />
                 </td>
                 <td className="max-w-[14rem] truncate py-2 pr-3 text-ink-600" title={`${v.fileName} · sha256 ${v.sha256}`}>
-                  {v.fileName} <span className="text-ink-300">· {formatBytes(v.byteSize)}</span>
+                  {v.fileName} <span className="text-ink-500">· {formatBytes(v.byteSize)}</span>
                 </td>
                 <td className="py-2 pr-3 text-right tabular-nums">{v.count?.toLocaleString("en") ?? "—"}</td>
                 <td className="py-2 pr-3 text-ink-600">
                   {v.errorCount ? <span className="text-red-700">{v.errorCount} error{v.errorCount === 1 ? "" : "s"}</span> : null}
                   {v.errorCount && v.warningCount ? ", " : null}
                   {v.warningCount ? <span>{v.warningCount} warning{v.warningCount === 1 ? "" : "s"}</span> : null}
-                  {!v.errorCount && !v.warningCount ? <span className="text-ink-300">—</span> : null}
+                  {!v.errorCount && !v.warningCount ? <span className="text-ink-500">—</span> : null}
                 </td>
-                <td className="py-2 pr-3 text-ink-600">{v.diffSummary ?? <span className="text-ink-300">first version</span>}</td>
+                <td className="py-2 pr-3 text-ink-600">{v.diffSummary ?? <span className="text-ink-500">first version</span>}</td>
                 <td className="py-2 text-ink-500">
                   {formatDate(v.createdAt)}
-                  {v.createdBy ? <span className="text-ink-300"> · {v.createdBy}</span> : null}
+                  {v.createdBy ? <span className="text-ink-500"> · {v.createdBy}</span> : null}
                 </td>
               </tr>
             ))}

@@ -19,7 +19,7 @@ function Example({ title, children, code }: { title: string; children: React.Rea
     <div>
       <h4 className="text-sm font-semibold text-ink">{title}</h4>
       <p className="text-sm text-ink-600">{children}</p>
-      <pre className="mt-1 overflow-x-auto rounded-md bg-ink-50 px-3 py-2 font-mono text-xs text-ink-800">{code}</pre>
+      <pre tabIndex={0} aria-label={`${title}: example`} className="mt-1 overflow-x-auto rounded-md bg-ink-50 px-3 py-2 font-mono text-xs text-ink-800">{code}</pre>
     </div>
   );
 }

@@ -71,6 +71,17 @@ export function UploadWizard({ slug, boundarySets, panels }: { slug: string; bou
   return (
     <Panel title="Upload" caption="Files go straight to storage (up to 200 MB); the server then checks their size and SHA-256 before anything is validated.">
       <div className="space-y-4" data-testid="upload-wizard">
+        <p role="status" aria-live="polite" className="sr-only" data-testid="upload-announcer">
+          {phase.step === "hashing"
+            ? `Computing the checksum of ${phase.file.name}.`
+            : phase.step === "uploading"
+              ? `Uploading ${phase.file.name}.`
+              : phase.step === "checking"
+                ? "Upload finished; checking the stored file."
+                : phase.step === "describe"
+                  ? `Upload complete: ${phase.file.name} is stored and checked. Now say how to read it.`
+                  : ""}
+        </p>
         {phase.step === "choose" ? (
           <>
             <fieldset>
@@ -106,7 +117,7 @@ export function UploadWizard({ slug, boundarySets, panels }: { slug: string; bou
         {phase.step === "hashing" ? <Notice>Computing the checksum of {phase.file.name}…</Notice> : null}
         {phase.step === "uploading" ? <Progress file={phase.file} fraction={phase.fraction} /> : null}
         {phase.step === "checking" ? <Notice>Checking the stored file (size and checksum)…</Notice> : null}
-        {error ? <Notice tone="error">{error}</Notice> : null}
+        <div role="alert">{error ? <Notice tone="error">{error}</Notice> : null}</div>
         {phase.step === "describe" ? (
           <>
             <Notice tone="success">

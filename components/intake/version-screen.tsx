@@ -2,7 +2,7 @@
 
 import Link from "next/link";
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import { useState } from "react";
+import { useRef, useState } from "react";
 import { dangerButton, primaryButton } from "@/components/ui/button-styles";
 import { ConfirmDialog } from "@/components/ui/confirm-dialog";
 import type { BoundaryReport } from "@/lib/intake/ingest-boundaries";
@@ -41,7 +41,7 @@ export function VersionScreen({ slug, kind, versionId, canCurate, workspaceName 
             {v.createdBy ? ` by ${v.createdBy}` : ""}
             {v.boundaryVersion ? ` · matched against boundaries v${v.boundaryVersion}` : ""}
           </p>
-          <p className="mt-0.5 font-mono text-xs text-ink-300">sha256 {v.sha256}</p>
+          <p className="mt-0.5 font-mono text-xs text-ink-500">sha256 {v.sha256}</p>
         </div>
         <div className="flex items-center gap-3">
           <StateBadge state={v.state} />
@@ -162,12 +162,17 @@ function VersionActions({ slug, detail, workspaceName }: { slug: string; detail:
   const client = useQueryClient();
   const [message, setMessage] = useState<string | null>(null);
   const [confirming, setConfirming] = useState(false);
+  const [done, setDone] = useState<string | null>(null);
+  // The button that opened the dialog goes away once the version is published: focus moves to the outcome instead of the page body.
+  const doneRef = useRef<HTMLParagraphElement>(null);
   const act = useMutation({
     mutationFn: (action: "publish" | "archive") => (action === "publish" ? intakeApi.publish(slug, detail.kind, detail.id) : intakeApi.archive(slug, detail.kind, detail.id)),
-    onSuccess: () => {
+    onSuccess: async (_answer, action) => {
       setMessage(null);
       setConfirming(false);
-      return client.invalidateQueries({ queryKey: intakeKeys.all(slug) });
+      await client.invalidateQueries({ queryKey: intakeKeys.all(slug) });
+      setDone(action === "publish" ? `${detail.parentName} v${detail.version} is published.` : `${detail.parentName} v${detail.version} is archived.`);
+      requestAnimationFrame(() => doneRef.current?.focus());
     },
     onError: (e) => {
       setConfirming(false);
@@ -207,6 +212,9 @@ function VersionActions({ slug, detail, workspaceName }: { slug: string; detail:
         ) : null}
       </div>
       {message ? <Notice tone="error">{message}</Notice> : null}
+      <p ref={doneRef} tabIndex={-1} role="status" className="text-sm text-ink-600" data-testid="version-action-outcome">
+        {done ?? ""}
+      </p>
     </div>
   );
 }
@@ -309,7 +317,7 @@ function ProblemTable({ title, problems, total, locator }: { title: string; prob
       <h3 className="text-sm font-semibold text-ink">
         {title} <span className="font-normal text-ink-400">({problems.length < total ? `first ${problems.length} of ${total.toLocaleString("en")}` : total})</span>
       </h3>
-      <div className="mt-1 max-h-96 overflow-auto">
+      <div className="mt-1 max-h-96 overflow-auto" tabIndex={0} role="region" aria-label={title}>
         <table className="min-w-full text-sm" data-testid={`report-${title.toLowerCase()}`}>
           <thead>
             <tr className="border-b border-ink-100 text-left text-xs uppercase text-ink-400">
@@ -465,7 +473,7 @@ function RatesSection({ rates }: { rates: RatesReport }) {
         ))}
       </ul>
       {rates.problemCount > 0 ? (
-        <div className="mt-2 max-h-96 overflow-auto">
+        <div className="mt-2 max-h-96 overflow-auto" tabIndex={0} role="region" aria-label="Rate problems">
           <table className="min-w-full text-sm" data-testid="report-rate-problems">
             <caption className="pb-1 text-left text-xs text-ink-400">
               {rates.problems.length < rates.problemCount ? `First ${rates.problems.length} of ${rates.problemCount.toLocaleString("en")}` : `All ${rates.problemCount}`} rate problem(s), by region, period and indicator

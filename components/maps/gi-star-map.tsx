@@ -20,6 +20,9 @@ import type { ReachabilityWarning } from "@/lib/runs/reachability";
 import { CORRECTION_LABELS } from "@/lib/runs/schemas";
 import type { GiStarClass } from "@/lib/runs/types";
 import { RegionMap, type RegionFeature } from "./region-map";
+import { GI_STAR_CLASS_PATTERNS } from "@/lib/runs/class-patterns";
+import { PatternSwatch } from "./class-pattern";
+import { GiStarMapAlternative } from "./figure-alternatives";
 
 const VIEWS: readonly LocalMapView[] = ["clusters", "gi-star"];
 
@@ -105,20 +108,19 @@ export function GiStarPanel({
         activeId={activeId}
         onHover={onHover}
         onSelect={onSelect}
+        patterns={GI_STAR_CLASS_PATTERNS}
         label={giStarMapLabel(indicator, map.period)}
         testId={`gi-star-map-${testId}`}
       />
       <ul className="mt-3 flex flex-wrap gap-x-4 gap-y-1 text-xs text-ink-600" data-testid={`gi-star-legend-${testId}`}>
         {GI_STAR_CLASS_ORDER.map((c) => (
           <li key={c} className="flex items-center gap-1.5" data-class={c}>
-            <span
-              className={`inline-block h-3 w-3 rounded-sm ring-1 ring-black/10 ${c === "no-neighbours" ? "hatch-no-neighbours" : ""}`}
-              style={c === "no-neighbours" ? undefined : { background: GI_STAR_CLASS_COLOURS[c] }}
-            />
+            <PatternSwatch pattern={GI_STAR_CLASS_PATTERNS[c]} id={`gi-star-${c}`} />
             {GI_STAR_CLASS_NAMES[c]} <span className="tabular-nums text-ink-400">{g.counts[c]}</span>
           </li>
         ))}
       </ul>
+      <GiStarMapAlternative map={map} indicator={indicator} names={names} unit="" testId={`gi-star-map-${testId}`} />
       <LocalInferenceNote warning={warning} local={map.local} testId={`gi-star-${testId}`} />
     </Panel>
   );

@@ -24,6 +24,9 @@ import { RegressionPanel } from "@/components/runs/regression-panel";
 import { PanelTransitions } from "./panel-transitions";
 import { ReformNote } from "@/components/reforms/reform-note";
 import { RegionMap, useRegionFeatures } from "./region-map";
+import { CLUSTER_CLASS_PATTERNS } from "@/lib/runs/class-patterns";
+import { PatternSwatch } from "./class-pattern";
+import { ChoroplethAlternative, ClusterMapAlternative, ScatterAlternative } from "./figure-alternatives";
 import { GiStarDetailRows, GiStarPanel, LocalMapViewSwitch } from "./gi-star-map";
 import { RATE_LAYER_NAMES, RATE_RAMP, RateChoropleth, RateLayerSwitch, rateScale, type RateLayer } from "./rate-layers";
 import type { LocalMapView } from "@/lib/runs/gi-star-classes";
@@ -153,6 +156,12 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                     const c = clusterOf(m, id);
                     return c === "no-neighbours" || c === null;
                   }}
+                  regionClass={(id) => clusterOf(m, id) ?? "no-value"}
+                  regionTitle={(id) => {
+                    const c = clusterOf(m, id);
+                    return `${names[id] ? `${names[id]} (${id})` : id}: ${c ? CLUSTER_CLASS_NAMES[c] : "no value"}`;
+                  }}
+                  patterns={CLUSTER_CLASS_PATTERNS}
                   activeId={active}
                   onHover={setHovered}
                   onSelect={setSelected}
@@ -160,6 +169,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                   testId={`cluster-map-${k === 0 ? "a" : "b"}`}
                 />
                 <ClusterLegend map={m} />
+                <ClusterMapAlternative map={m} indicator={mapA.data.indicator.label} names={names} unit={unit} testId={`cluster-map-${k === 0 ? "a" : "b"}`} />
                 <LocalInferenceNote warning={(k === 0 ? mapA.data : mapB.data).reachability} local={m.local} testId={k === 0 ? "a" : "b"} />
               </Panel>
               ),
@@ -227,10 +237,12 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
                   activeId={active}
                   onHover={setHovered}
                   onSelect={setSelected}
+                  regionTitle={(id) => `${names[id] ? `${names[id]} (${id})` : id}: ${formatValue(m.values[id], { unit })}`}
                   label={`Choropleth of ${indicator} in ${m.period}`}
                   testId={`choropleth-${k === 0 ? "a" : "b"}`}
                 />
                 {scale ? <ScaleLegend domain={scale.domain() as [number, number]} unit={unit} /> : null}
+                <ChoroplethAlternative map={m} indicator={mapA.data.indicator.label} names={names} unit={unit} testId={`choropleth-${k === 0 ? "a" : "b"}`} />
               </Panel>
             ))}
           </div>
@@ -278,7 +290,7 @@ export function MapScreen({ slug, indicators }: { slug: string; indicators: { co
           />
           <div className="grid gap-6 lg:grid-cols-2">
             {[mapA.data.map, mapB.data.map].map((m, k) => (
-              <ScatterPanel key={`scatter-${k}`} map={m} unit={unit} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} figure={figure} />
+              <ScatterPanel key={`scatter-${k}`} map={m} unit={unit} active={active} onSelect={setSelected} testId={`scatter-${k === 0 ? "a" : "b"}`} figure={figure} indicator={mapA.data.indicator.label} names={names} />
             ))}
           </div>
         </>
@@ -316,7 +328,7 @@ function ClusterLegend({ map }: { map: MapPeriod }) {
     <ul className="mt-3 flex flex-wrap gap-x-4 gap-y-1 text-xs text-ink-600">
       {CLASSES.map((c) => (
         <li key={c} className="flex items-center gap-1.5">
-          <span className={`inline-block h-3 w-3 rounded-sm ring-1 ring-black/10 ${c === "no-neighbours" ? "hatch-no-neighbours" : ""}`} style={c === "no-neighbours" ? undefined : { background: CLUSTER_CLASS_COLOURS[c] }} />
+          <PatternSwatch pattern={CLUSTER_CLASS_PATTERNS[c]} id={`cluster-${c}`} />
           {CLUSTER_CLASS_NAMES[c]} <span className="tabular-nums text-ink-400">{counts ? counts[c] : 0}</span>
         </li>
       ))}
@@ -420,7 +432,7 @@ function TransitionTable({ counts, moved, independence, a, b }: { counts: number
                 return (
                   <td
                     key={to}
-                    className={`px-1 py-1 text-right tabular-nums ${i === j ? "font-semibold" : ""} ${v === 0 ? "text-ink-200" : "text-ink"}`}
+                    className={`px-1 py-1 text-right tabular-nums ${i === j ? "font-semibold" : ""} ${v === 0 ? "text-ink-500" : "text-ink"}`}
                     style={{ background: v ? `rgba(201,138,27,${(0.08 + 0.4 * (v / max)).toFixed(2)})` : undefined }}
                   >
                     {v}
@@ -458,6 +470,8 @@ function ScatterPanel({
   onSelect,
   testId,
   figure,
+  indicator,
+  names,
 }: {
   map: MapPeriod;
   unit: string;
@@ -465,6 +479,8 @@ function ScatterPanel({
   onSelect: (id: string) => void;
   testId: string;
   figure: { run: RunSummary; indicator: IndicatorMeta; harmonised: boolean } | null;
+  indicator: string;
+  names: Record<string, string | null>;
 }) {
   const local = map.local;
   if (!local) {
@@ -531,7 +547,8 @@ function ScatterPanel({
       actions={figure ? <FigureDownloads spec={scatterFigure(figure, map)} body={() => echartsFigureBody(option, 560, 520)} testId={`figure-${testId}`} /> : null}
       caption={`Each point is a region: its standardised value against the average of its neighbours. The ochre line through the origin has slope ${fmt(local.slope)}, which equals Moran's I for row-standardised weights (I = ${fmt(map.I)}). Colours are the cluster classes.`}
     >
-      <EChart option={option} height={320} testId={testId} onClick={(p) => p.name && onSelect(p.name)} />
+      <EChart option={option} height={320} testId={testId} onClick={(p) => p.name && onSelect(p.name)} label={`Moran scatter plot of ${indicator} in ${map.period}`} />
+      <ScatterAlternative map={map} indicator={indicator} names={names} testId={testId} />
     </Panel>
   );
 }

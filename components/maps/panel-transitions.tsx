@@ -126,7 +126,7 @@ function ClassTable({ counts, k, testId }: { counts: number[][]; k: number; test
                   <td
                     key={j}
                     title={total > 0 ? `${v} of ${total} (${Math.round(rowShare * 100)} %) moved from class ${i + 1} to class ${j + 1}` : undefined}
-                    className={`px-1 py-0.5 text-right tabular-nums ${i === j ? "font-semibold" : ""} ${v === 0 ? "text-ink-200" : "text-ink"}`}
+                    className={`px-1 py-0.5 text-right tabular-nums ${i === j ? "font-semibold" : ""} ${v === 0 ? "text-ink-500" : "text-ink"}`}
                     style={{ background: v ? `rgba(201,138,27,${(0.06 + 0.5 * rowShare).toFixed(2)})` : undefined }}
                   >
                     {v}

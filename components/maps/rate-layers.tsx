@@ -7,6 +7,7 @@ import { Notice, Panel } from "@/components/runs/format";
 import type { MapRates, RegionRates } from "@/lib/runs/on-demand";
 import { formatValue } from "@/lib/runs/number-format";
 import { RegionMap, type RegionFeature } from "./region-map";
+import { RateMapAlternative } from "./figure-alternatives";
 
 /** The map's three views of a rate indicator. */
 export const RATE_LAYERS = ["raw", "global", "local"] as const;
@@ -129,6 +130,7 @@ export function RateChoropleth({
           </div>
         </div>
       ) : null}
+      <RateMapAlternative rates={rates} layer={layer} layerName={`${RATE_LAYER_NAMES[layer]}, ${title}`} names={names} unit={unit} testId={testId} />
     </Panel>
   );
 }

@@ -2,6 +2,7 @@
 
 import "@/components/catalogue/ag-grid-setup";
 import Link from "next/link";
+import { FigureTable } from "@/components/ui/figure-table";
 import { useMutation, useQuery } from "@tanstack/react-query";
 import { AgGridReact } from "ag-grid-react";
 import type { ColDef } from "ag-grid-community";
@@ -118,6 +119,20 @@ function ReformMap({ slug, detail }: { slug: string; detail: CrosswalkDetail }) 
             </span>
             <span>Lines: the old regions.</span>
           </figcaption>
+          <FigureTable
+            summary={`The reform merged ${summary?.merged.length ?? 0} group${summary?.merged.length === 1 ? "" : "s"} of old regions into new ones, split ${summary?.split.length ?? 0} old region${summary?.split.length === 1 ? "" : "s"}, and left ${summary?.unchanged ?? 0} unchanged.`}
+            caption="Merged and split regions of the reform"
+            columns={[
+              { key: "change", label: "Change" },
+              { key: "from", label: "Old regions" },
+              { key: "to", label: "New regions" },
+            ]}
+            rows={[
+              ...(summary?.merged ?? []).map((m) => ({ change: "merged", from: m.from.join(", "), to: m.to })),
+              ...(summary?.split ?? []).map((x) => ({ change: "split", from: x.from, to: x.to.join(", ") })),
+            ]}
+            testId="reform-map"
+          />
         </figure>
       ) : (
         <p className="text-sm text-ink-500">Loading both boundary versions…</p>

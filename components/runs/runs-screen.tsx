@@ -12,6 +12,7 @@ import { EB_LABEL } from "@/lib/runs/label";
 import { Notice, Panel, runLabel, runName, StateBadge, weightsLabel } from "./format";
 import { StartFormReachability } from "./reachability-note";
 import { RunExports } from "./run-exports";
+import { RunAnnouncer } from "./run-announcer";
 import { runOptionsQuery, runsApi, runsKeys, runsQuery } from "./query-options";
 
 export function RunsScreen({ slug, canManage }: { slug: string; canManage: boolean }) {
@@ -28,6 +29,7 @@ export function RunsScreen({ slug, canManage }: { slug: string; canManage: boole
         {runs.data && runs.data.length > 0 ? <RunsTable slug={slug} runs={runs.data} canManage={canManage} /> : null}
       </Panel>
       {canManage ? <StartRunForm slug={slug} /> : null}
+      <RunAnnouncer runs={runs.data} />
     </div>
   );
 }
@@ -50,11 +52,9 @@ function RunsTable({ slug, runs, canManage }: { slug: string; runs: RunSummary[]
   });
   return (
     <div>
-      {message ? (
-        <div className="mb-3">
-          <Notice>{message}</Notice>
-        </div>
-      ) : null}
+      <div className="mb-3 empty:mb-0" role="status" aria-live="polite">
+        {message ? <Notice>{message}</Notice> : null}
+      </div>
       <ul className="divide-y divide-ink-50" data-testid="runs-list">
         {runs.map((run) => {
           const pct = run.resultsTotal ? Math.round((100 * run.periodsDone) / run.resultsTotal) : 0;
@@ -228,7 +228,7 @@ function StartRunForm({ slug }: { slug: string }) {
 
   const submit = (event: React.FormEvent) => {
     event.preventDefault();
-    if (!version) return;
+    if (!version || start.isPending) return;
     const fromIndex = from ? periods.indexOf(from) : 0;
     const toIndex = to ? periods.indexOf(to) : periods.length - 1;
     const choice = {
@@ -271,7 +271,13 @@ function StartRunForm({ slug }: { slug: string }) {
     start.mutate({ panelVersionId: version.panelVersionId, ...parsed.data });
   };
 
-  const fieldError = (field: string) => (error && error.field === field ? <p className="mt-1 text-xs text-red-700">{error.message}</p> : null);
+  const fieldError = (field: string) =>
+    error && error.field === field ? (
+      <p id={`run-${field}-error`} className="mt-1 text-xs text-red-700">
+        {error.message}
+      </p>
+    ) : null;
+  const invalid = (field: string) => ({ "aria-invalid": error?.field === field, "aria-describedby": error?.field === field ? `run-${field}-error` : undefined });
 
   return (
     <Panel title="Start a run" caption="Only published panel versions can be analysed. Leave the seed empty to draw one; it is stored with the run either way.">
@@ -296,7 +302,7 @@ function StartRunForm({ slug }: { slug: string }) {
               <label className={labelClass} htmlFor="run-weights">
                 Weights
               </label>
-              <select id="run-weights" className={inputClass} value={weights} onChange={(e) => setWeights(e.target.value)}>
+              <select id="run-weights" className={inputClass} {...invalid("weights")} value={weights} onChange={(e) => setWeights(e.target.value)}>
                 {WEIGHTS_CHOICES.map((w) => (
                   <option key={w.value} value={w.value}>
                     {w.label}
@@ -332,14 +338,14 @@ function StartRunForm({ slug }: { slug: string }) {
               <label className={labelClass} htmlFor="run-permutations">
                 Permutations
               </label>
-              <input id="run-permutations" className={inputClass} inputMode="numeric" value={permutations} onChange={(e) => setPermutations(e.target.value)} />
+              <input id="run-permutations" className={inputClass} {...invalid("permutations")} inputMode="numeric" value={permutations} onChange={(e) => setPermutations(e.target.value)} />
               {fieldError("permutations")}
             </div>
             <div>
               <label className={labelClass} htmlFor="run-seed">
                 Seed
               </label>
-              <input id="run-seed" className={inputClass} inputMode="numeric" placeholder="drawn at start" value={seed} onChange={(e) => setSeed(e.target.value)} />
+              <input id="run-seed" className={inputClass} {...invalid("seed")} inputMode="numeric" placeholder="drawn at start" value={seed} onChange={(e) => setSeed(e.target.value)} />
               {fieldError("seed")}
             </div>
           </div>
@@ -360,7 +366,7 @@ function StartRunForm({ slug }: { slug: string }) {
               <label className={labelClass} htmlFor="run-alpha">
                 Alpha
               </label>
-              <input id="run-alpha" className={inputClass} inputMode="decimal" value={alpha} onChange={(e) => setAlpha(e.target.value)} />
+              <input id="run-alpha" className={inputClass} {...invalid("alpha")} inputMode="decimal" value={alpha} onChange={(e) => setAlpha(e.target.value)} />
               {fieldError("alpha")}
             </div>
           </div>
@@ -457,16 +463,18 @@ function StartRunForm({ slug }: { slug: string }) {
             </label>
           ) : null}
           <StartFormReachability warnings={reachability} />
-          {error && !["weights", "permutations", "seed", "alpha", "indicators", "periods", "controlFor"].includes(error.field ?? "") ? <Notice tone="error">{error.message}</Notice> : null}
-          {started ? (
-            <Notice>
-              <span data-testid="started-run" data-run-id={started.id}>
-                {runName(started.number)}
-              </span>{" "}
-              is queued. Its progress shows in the queue.
-            </Notice>
-          ) : null}
-          <button type="submit" className={`${primaryButton} w-full`} disabled={start.isPending}>
+          <div role="alert">{error && !["weights", "permutations", "seed", "alpha", "indicators", "periods", "controlFor"].includes(error.field ?? "") ? <Notice tone="error">{error.message}</Notice> : null}</div>
+          <div role="status" aria-live="polite">
+            {started ? (
+              <Notice>
+                <span data-testid="started-run" data-run-id={started.id}>
+                  {runName(started.number)}
+                </span>{" "}
+                is queued. Its progress shows in the queue.
+              </Notice>
+            ) : null}
+          </div>
+          <button type="submit" className={`${primaryButton} w-full`} aria-disabled={start.isPending}>
             {start.isPending ? "Starting…" : "Start run"}
           </button>
         </form>

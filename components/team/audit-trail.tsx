@@ -110,7 +110,7 @@ export function AuditTrail({ slug, initial }: { slug: string; initial: AuditRow[
       {events.data.length === 0 ? (
         <p className="px-5 py-4 text-sm text-ink-400">No events yet.</p>
       ) : (
-        <div className="max-h-[28rem] overflow-y-auto">
+        <div className="max-h-[28rem] overflow-y-auto" tabIndex={0} role="region" aria-labelledby="audit-heading">
           <table className="w-full text-sm" data-testid="audit-trail">
             <thead className="sticky top-0 bg-white">
               <tr className="text-left text-xs uppercase tracking-wider text-ink-400">

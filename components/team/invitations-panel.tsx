@@ -38,6 +38,7 @@ export function InvitationsPanel({ slug, initial }: { slug: string; initial: Inv
 
   function onSubmit(event: React.FormEvent<HTMLFormElement>) {
     event.preventDefault();
+    if (invite.isPending) return;
     const form = new FormData(event.currentTarget);
     const parsed = inviteSchema.safeParse({ email: form.get("email"), role: form.get("role") });
     setSentTo(null);
@@ -60,21 +61,45 @@ export function InvitationsPanel({ slug, initial }: { slug: string; initial: Inv
           <label htmlFor="invite-email" className={labelClass}>
             E-mail address
           </label>
-          <input id="invite-email" name="email" type="email" className={`${inputClass} mt-1`} placeholder="name@example.org" />
-          {fieldError?.field === "email" ? <p className="mt-1 text-sm text-red-700">{fieldError.message}</p> : null}
+          <input
+            id="invite-email"
+            name="email"
+            type="email"
+            autoComplete="off"
+            className={`${inputClass} mt-1`}
+            placeholder="name@example.org"
+            aria-invalid={fieldError?.field === "email"}
+            aria-describedby={fieldError?.field === "email" ? "invite-email-error" : undefined}
+          />
+          {fieldError?.field === "email" ? (
+            <p id="invite-email-error" className="mt-1 text-sm text-red-700">
+              {fieldError.message}
+            </p>
+          ) : null}
         </div>
         <div>
           <label htmlFor="invite-role" className={labelClass}>
             Role
           </label>
-          <select id="invite-role" name="role" defaultValue="economist" className={`${inputClass} mt-1`}>
+          <select
+            id="invite-role"
+            name="role"
+            defaultValue="economist"
+            className={`${inputClass} mt-1`}
+            aria-invalid={fieldError?.field === "role"}
+            aria-describedby={fieldError?.field === "role" ? "invite-role-error" : undefined}
+          >
             {ROLES.map((r) => (
               <option key={r} value={r}>
                 {ROLE_LABELS[r]}
               </option>
             ))}
           </select>
-          {fieldError?.field === "role" ? <p className="mt-1 text-sm text-red-700">{fieldError.message}</p> : null}
+          {fieldError?.field === "role" ? (
+            <p id="invite-role-error" className="mt-1 text-sm text-red-700">
+              {fieldError.message}
+            </p>
+          ) : null}
         </div>
         {fieldError && fieldError.field !== "email" && fieldError.field !== "role" ? (
           <p role="alert" className="rounded-md border border-red-200 bg-red-50 px-3 py-2 text-sm text-red-800">
@@ -86,7 +111,7 @@ export function InvitationsPanel({ slug, initial }: { slug: string; initial: Inv
             Invitation queued for {sentTo}. The e-mail goes out in a moment.
           </p>
         ) : null}
-        <button type="submit" disabled={invite.isPending} className={primaryButton}>
+        <button type="submit" aria-disabled={invite.isPending} className={primaryButton}>
           {invite.isPending ? "Sending…" : "Send invitation"}
         </button>
       </form>

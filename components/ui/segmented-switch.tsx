@@ -21,7 +21,7 @@ export function SegmentedSwitch<T extends string>({
   /** Ink for a choice of view, ochre for a choice of values. */
   tone: "ink" | "ochre";
 }) {
-  const chosen = tone === "ink" ? "bg-ink text-white" : "bg-ochre-600 text-white";
+  const chosen = tone === "ink" ? "bg-ink text-white" : "bg-ochre-700 text-white";
   const plain = tone === "ink" ? "text-ink-600 hover:bg-ink-50" : "text-ink-600 hover:bg-ochre-50";
   return (
     <div role="radiogroup" aria-label={label} className="inline-flex rounded-md border border-ink-200 bg-white p-0.5 text-sm" data-testid={testId}>

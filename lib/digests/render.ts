@@ -151,10 +151,10 @@ export function renderDigest(input: DigestRenderInput): RenderedDigest {
   for (const code of content.indicators) {
     const svg = input.charts.get(code);
     parts.push(
-      `<div style="margin:18px 0 0">${svg ?? ""}<p style="font-size:11px;color:#57534e;margin:4px 0">${h(CHART_CAPTION)} ${link(timelineUrl(code), `Open the timeline of ${label(code)}`)}</p></div>`,
+      `<div style="margin:18px 0 0">${svg ? describedChart(svg, `Chart of Moran's I of ${label(code)} by period, with E[I] dashed and significant periods in ochre; the numbers are listed above.`) : ""}<p style="font-size:11px;color:#57534e;margin:4px 0">${h(CHART_CAPTION)} ${link(timelineUrl(code), `Open the timeline of ${label(code)}`)}</p></div>`,
     );
   }
-  const html = `<!doctype html><html><head><meta charset="utf-8"><meta name="viewport" content="width=device-width"><title>${h(subject)}</title></head>
+  const html = `<!doctype html><html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width"><title>${h(subject)}</title></head>
 <body style="margin:0;background:#f5f5f4;font-family:Helvetica,Arial,sans-serif;color:${DIGEST_INK}">
 <table role="presentation" width="100%" cellpadding="0" cellspacing="0"><tr><td align="center" style="padding:16px">
 <table role="presentation" cellpadding="0" cellspacing="0" style="width:100%;max-width:600px;background:#ffffff;border-top:4px solid ${DIGEST_OCHRE}"><tr><td style="padding:20px;font-size:14px;line-height:1.45">
@@ -168,4 +168,9 @@ ${parts.join("\n")}
 <p style="margin:18px 0 0;font-size:12px;color:#57534e">${link(digestsUrl, "Change this digest")} · ${link(input.unsubscribeUrl, "Unsubscribe")}</p>
 </td></tr></table></td></tr></table></body></html>`;
   return { subject, html, text };
+}
+
+/** The chart's SVG as an image with a text alternative (role="img" and aria-label on its root), for readers who cannot see it. */
+export function describedChart(svg: string, description: string): string {
+  return svg.replace(/^<svg\b/, `<svg role="img" aria-label="${escapeHtml(description)}"`);
 }

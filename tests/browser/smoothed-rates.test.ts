@@ -81,19 +81,19 @@ it("the demo run standardises the closures rate, and its map switches between ra
   expect(title).toMatch(new RegExp(`\\(${ISLE}\\): raw .+ · global EB .+ · local EB .+`));
 
   await layers.getByRole("radio", { name: "Global EB rate" }).click();
-  await page.getByRole("img", { name: `Global EB rate map, ${a}`, exact: true }).waitFor();
+  await page.getByRole("group", { name: `Global EB rate map, ${a}`, exact: true }).waitFor();
   const global = await valueOf();
   expect(Math.abs(global - raw)).toBeGreaterThan(1e-6);
 
   await layers.getByRole("radio", { name: "Local EB rate" }).click();
-  await page.getByRole("img", { name: `Local EB rate map, ${a}`, exact: true }).waitFor();
+  await page.getByRole("group", { name: `Local EB rate map, ${a}`, exact: true }).waitFor();
   const local = await valueOf();
   expect(Math.abs(local - raw)).toBeGreaterThan(1e-6);
   expect(await layers.getByRole("radio", { name: "Local EB rate" }).getAttribute("aria-checked")).toBe("true");
   await screenshot(page, "smoothed-rates-local");
 
   await layers.getByRole("radio", { name: "Raw rate" }).click();
-  await page.getByRole("img", { name: `Raw rate map, ${a}`, exact: true }).waitFor();
+  await page.getByRole("group", { name: `Raw rate map, ${a}`, exact: true }).waitFor();
   expect(await valueOf()).toBe(raw);
   // The whole-panel transition tables class the published rates, and say so for a run that standardised them.
   await page.getByText("these tables class the published rates").waitFor();

@@ -15,7 +15,7 @@ export default async function AccountPage() {
   const user = await guardPage("/account", () => requireUser());
   const tokens = await accountTokens(user.id);
   return (
-    <main className="mx-auto mt-16 max-w-3xl rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
+    <main id="main-content" tabIndex={-1} className="mx-auto mt-16 max-w-3xl rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
       <Link href="/" className="text-ink">
         <Wordmark className="text-ink" />
       </Link>

@@ -132,7 +132,11 @@ describe("renderDigest and the chart", () => {
     expect(out.text).toContain(DIGEST_CAUTION);
     expect(out.html).toContain("Unemployment &lt;rate&gt;");
     expect(out.html).toContain("Brennick &amp; Co");
-    expect(out.html).toContain('<svg id="c"></svg>');
+    // The chart is an image with a text alternative; the mail says its language; the text part carries the same news.
+    expect(out.html).toContain(`<svg role="img" aria-label="Chart of Moran&#39;s I of Unemployment &lt;rate&gt; by period, with E[I] dashed and significant periods in ochre; the numbers are listed above." id="c"></svg>`);
+    expect(out.html).toContain('<html lang="en">');
+    expect(out.text).toContain("Unemployment <rate>");
+    expect(out.text).not.toMatch(/<svg/);
     expect(out.html).toContain("#1e2a44");
     expect(out.html).toContain('href="http://app.test/api/digests/unsubscribe?token=abc"');
   });

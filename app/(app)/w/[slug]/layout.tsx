@@ -14,8 +14,8 @@ export default async function WorkspaceLayout({ children, params }: { children: 
   return (
     <div className="flex min-h-screen flex-col">
       <TopBar slug={value.workspace.slug} nav={value.nav} role={value.role} userName={value.user.name} workspaces={value.workspaces} />
-      <main className="mx-auto w-full max-w-7xl flex-1 px-6 py-8">{children}</main>
-      <footer className="border-t border-ink-100 py-4 text-center text-xs text-ink-300">Tessera · {value.workspace.name}</footer>
+      <main id="main-content" tabIndex={-1} className="mx-auto w-full max-w-7xl flex-1 px-6 py-8">{children}</main>
+      <footer className="border-t border-ink-100 py-4 text-center text-xs text-ink-500">Tessera · {value.workspace.name}</footer>
     </div>
   );
 }

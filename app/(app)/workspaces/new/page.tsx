@@ -15,7 +15,7 @@ export default async function NewWorkspacePage() {
     return firstWorkspaceSlug();
   });
   return (
-    <main className="mx-auto mt-16 max-w-lg rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
+    <main id="main-content" tabIndex={-1} className="mx-auto mt-16 max-w-lg rounded-lg border border-ink-100 bg-white p-8 shadow-sm">
       <Wordmark className="text-ink" />
       <h1 className="mt-6 text-xl font-semibold text-ink">New workspace</h1>
       <p className="mt-2 mb-6 text-sm text-ink-500">
