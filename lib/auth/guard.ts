@@ -6,7 +6,7 @@ import { bearerOf, cappedRole } from "./api-token-format";
 import { verifyApiToken } from "./api-tokens";
 import { can, isRole, type Capability, type Role } from "./roles";
 import { ACCESS_MESSAGES, AccessError, TOKEN_MESSAGES } from "./errors";
-import { clientIp } from "./options";
+import { clientIp } from "./client-ip";
 import { getSessionUser, type SessionUser } from "./session";
 
 // The one gate. Every route handler, server action and private query calls

@@ -1,4 +1,5 @@
-import { buildAuthOptions, clientIp } from "@/lib/auth/options";
+import { clientIp } from "@/lib/auth/client-ip";
+import { buildAuthOptions } from "@/lib/auth/options";
 
 describe("session cookie flags", () => {
   it("behind https: Secure, __Secure- prefixed, HttpOnly, SameSite=Lax, and next-auth's other cookies secure too", () => {

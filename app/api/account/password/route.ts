@@ -1,6 +1,6 @@
 import { changePassword } from "@/lib/auth/account";
 import { requireUser } from "@/lib/auth/guard";
-import { clientIp } from "@/lib/auth/options";
+import { clientIp } from "@/lib/auth/client-ip";
 import { badRequest, jsonError } from "@/lib/http/errors";
 import { errorResponse } from "@/lib/http/route";
 import { changePasswordSchema } from "@/lib/auth/schemas";
