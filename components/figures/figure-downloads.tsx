@@ -54,12 +54,16 @@ async function rasterise(svg: string): Promise<Blob> {
  * serialised and drawn `width` wide (the hover outline left out).
  */
 export function panelMapBody(group: HTMLElement, width = 600): FigureBody {
-  const svg = group.closest("section")?.querySelector<SVGSVGElement>('svg[role="img"]');
+  // Region maps are keyboard groups of regions (role="group", roledescription "map"); other maps are images.
+  const svg = group.closest("section")?.querySelector<SVGSVGElement>('svg[aria-roledescription="map"], svg[role="img"]');
   if (!svg) throw new Error("The map is not drawn yet.");
   const copy = svg.cloneNode(true) as SVGSVGElement;
   copy.querySelectorAll('[pointer-events="none"]').forEach((e) => e.remove());
   copy.removeAttribute("class");
   copy.removeAttribute("data-testid");
+  // The file is a picture: no keyboard stops or focus outline from the page.
+  copy.querySelectorAll("[tabindex]").forEach((e) => e.removeAttribute("tabindex"));
+  copy.removeAttribute("tabindex");
   copy.setAttribute("xmlns", "http://www.w3.org/2000/svg");
   const [, , w, h] = (copy.getAttribute("viewBox") ?? "0 0 460 420").split(/\s+/).map(Number);
   const height = Math.round((width * h) / w);

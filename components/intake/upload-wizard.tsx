@@ -235,7 +235,7 @@ function BoundaryFormFields({
         <TargetNote suggestion={target} chosen={setId} what="region" kind="boundary set" />
       </Field>
       <Field label="Object holding the regions">
-        <select className={inputClass} value={objectName} onChange={(e) => setObjectName(e.target.value)}>
+        <select className={inputClass} value={objectName} onChange={(e) => setObjectName(e.target.value)} aria-label="Object holding the regions">
           {objects.map((o) => (
             <option key={o.name} value={o.name}>
               {o.name} ({o.geometries} geometries)
@@ -253,7 +253,7 @@ function BoundaryFormFields({
         </select>
       </Field>
       <Field label="Region name property (optional)">
-        <select className={inputClass} value={nameProperty} onChange={(e) => setNameProperty(e.target.value)}>
+        <select className={inputClass} value={nameProperty} onChange={(e) => setNameProperty(e.target.value)} aria-label="Region name property">
           <option value="">none</option>
           {object?.properties.map((p) => (
             <option key={p.name} value={p.name}>

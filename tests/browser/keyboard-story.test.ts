@@ -215,6 +215,10 @@ it("a manager's whole story works with the keyboard alone, focus always visible 
   await tabTo(page, (f) => f.tag === "button" && /^Clustering/.test(f.name), "a significance filter");
   const before = await page.evaluate(() => document.activeElement?.getAttribute("aria-pressed"));
   await page.keyboard.press("Space");
+  // The filter lives in the address (router.replace), so the pressed state follows a moment later.
+  await page
+    .waitForFunction((was) => document.activeElement?.getAttribute("aria-pressed") !== was, before, { timeout: 15_000 })
+    .catch(() => undefined);
   const after = await page.evaluate(() => document.activeElement?.getAttribute("aria-pressed"));
   expect([before, after]).toEqual([before, before === "true" ? "false" : "true"]);
 
@@ -230,7 +234,9 @@ it("a manager's whole story works with the keyboard alone, focus always visible 
   expect(second.visibleFocus).toBe(true);
   await page.keyboard.press("Enter");
   const region = await page.evaluate(() => document.activeElement?.getAttribute("data-region") ?? "");
-  expect(await page.locator(`[data-testid="cluster-map-a"] path[data-region="${region}"]`).getAttribute("aria-pressed")).toBe("true");
+  expect(region).not.toBe("");
+  // Picked: the region is pressed (waited for: React applies the state after the key's handler).
+  await page.locator(`[data-testid="cluster-map-a"] path[data-region="${region}"][aria-pressed="true"]`).waitFor({ timeout: 15_000 });
   await tabTo(page, (f) => f.tag === "button" && f.name.startsWith("Table: Local clusters"), "the cluster map's Table button", { max: 20 });
   await page.keyboard.press("Enter");
   await page.getByTestId("cluster-map-a-table").waitFor();

@@ -56,7 +56,7 @@ export default async function OutboxMessagePage({ params }: { params: Promise<{ 
         </section>
         <section>
           <h2 className="mb-2 text-sm font-semibold text-ink">Text part</h2>
-          <pre className="h-[32rem] overflow-auto whitespace-pre-wrap rounded-lg border border-ink-100 bg-white p-4 font-mono text-xs text-ink" data-testid="mail-text">
+          <pre tabIndex={0} aria-label="The message as text" className="h-[32rem] overflow-auto whitespace-pre-wrap rounded-lg border border-ink-100 bg-white p-4 font-mono text-xs text-ink" data-testid="mail-text">
             {mail.text ?? "This message has no text part."}
           </pre>
         </section>
