@@ -1,4 +1,5 @@
 import type { z } from "zod";
+import type { ErrorBody } from "./error-body";
 
 // The errors that carry their HTTP answer, and the two answers built without
 // one. Domain code throws these classes (or subclasses with its own name);
@@ -52,7 +53,8 @@ export class ConflictError extends HttpError {
 }
 
 export function jsonError(status: number, message: string, extra: Record<string, unknown> = {}): Response {
-  return Response.json({ error: message, ...extra }, { status });
+  // Typed against the documented shape (error-body.ts), so the API reference and the answers cannot drift apart.
+  return Response.json({ error: message, ...extra } satisfies ErrorBody, { status });
 }
 
 /** A zod failure (body, path or search parameters) as a 400 naming the first bad field: `{ error: "field: message", field, issues }`. */
