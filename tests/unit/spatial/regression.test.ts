@@ -215,6 +215,11 @@ test("Moran's I and LMerr are unchanged when y is scaled and a combination of th
         expect(Math.abs(a.moran.I - b.moran.I)).toBeLessThanOrEqual(1e-7 * Math.abs(a.moran.I) + 1e-10);
         expect(Math.abs(a.lagrange.error.statistic - b.lagrange.error.statistic)).toBeLessThanOrEqual(1e-6 * a.lagrange.error.statistic + 1e-9);
         // The lag tests involve Wy and Wŷ, which a combination of the covariates changes; scaling alone does not.
+        // With fitted values that barely vary (R² near 0), Wŷ nearly lies in the intercept's span for
+        // row-standardised weights, so the lag tests' denominator nJ − T nearly vanishes and the robust
+        // forms are ill-conditioned (seed 490599962: R² 5e-9, robust error 0.9055497 against 0.9055496);
+        // their scale invariance is checked where the design is not degenerate.
+        fc.pre(a.fit.rSquared >= 1e-4);
         const scaled = regressionDiagnostics(
           y.map((v) => scale * v),
           covariates,
